@@ -1,0 +1,160 @@
+"""Command line: parses arguments and calls the stages; holds no logic of its own."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from rich.console import Console
+from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+
+from harness.errors import InputError
+
+console = Console()
+errors = Console(stderr=True, highlight=False)
+
+
+def _suite_names(store_path: Path, suite_argument: str | None) -> list[str] | None:
+    """A suite argument may be a suite file or a stored suite name."""
+    if suite_argument is None:
+        return None
+    if Path(suite_argument).is_file():
+        from harness.suite import load_suite
+
+        return [load_suite(suite_argument).name]
+    return [suite_argument]
+
+
+def command_check(args: argparse.Namespace) -> int:
+    from harness.preflight import preflight
+    from harness.suite import expand, load_suite
+
+    suite = load_suite(args.suite)
+    specs = expand(suite)
+    facts = preflight(suite, args.suite)
+    console.print(
+        f"{args.suite}: suite '{suite.name}' is valid: {facts.nodes} nodes, {facts.edges} edges, "
+        f"{facts.classes} classes, {facts.features} features"
+    )
+    for contender in suite.contenders:
+        count = sum(1 for s in specs if s.contender == contender)
+        console.print(f"  {contender}: {count} runs")
+    console.print(f"{len(specs)} runs in total")
+    return 0
+
+
+def command_run(args: argparse.Namespace) -> int:
+    from harness import store
+    from harness.execute import execute, pending
+    from harness.preflight import preflight
+    from harness.report.terminal import print_summary
+    from harness.stats import summarise
+    from harness.suite import expand, load_suite
+
+    suite = load_suite(args.suite)
+    specs = expand(suite)
+    preflight(suite, args.suite)
+    todo = len(pending(specs, args.store))
+    with Progress(
+        TextColumn("[bold]{task.description}"),
+        BarColumn(),
+        MofNCompleteColumn(),
+        TextColumn("eta"),
+        TimeRemainingColumn(),
+        console=console,
+        disable=args.quiet,
+    ) as progress:
+        task = progress.add_task(suite.name, total=todo)
+        outcome = execute(specs, args.store, args.jobs, lambda _: progress.advance(task))
+    if outcome.interrupted:
+        errors.print(
+            f"interrupted: {outcome.finished} runs finished and stored in {args.store}; "
+            "run the same command again to continue"
+        )
+        return 130
+    runs = store.load_runs(args.store, [suite.name])
+    runs = runs[runs["key"].isin({s.key for s in specs})]
+    console.print(f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}")
+    print_summary(summarise(runs), console)
+    return 0
+
+
+def command_show(args: argparse.Namespace) -> int:
+    from harness import store
+    from harness.report import records
+    from harness.report.terminal import print_summary
+    from harness.stats import summarise
+
+    runs = store.load_runs(args.store, _suite_names(args.store, args.suite))
+    if runs.empty:
+        raise InputError(
+            f"{args.store}: no stored runs" + (f" for suite '{args.suite}'" if args.suite else "")
+        )
+    if args.format == "table":
+        print_summary(summarise(runs), console)
+    else:
+        writer = {"json": records.as_json, "csv": records.as_csv, "md": records.as_markdown}
+        sys.stdout.write(writer[args.format](runs).rstrip("\n") + "\n")
+    return 0
+
+
+def positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"given {text!r}; allowed: a whole number >= 1") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"given {value}; allowed: a whole number >= 1")
+    return value
+
+
+def parser() -> argparse.ArgumentParser:
+    from harness.store import DEFAULT_STORE
+
+    top = argparse.ArgumentParser(
+        prog="heedful", description="Benchmark graph attention against simpler baselines."
+    )
+    commands = top.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    def with_store(sub: argparse.ArgumentParser) -> None:
+        sub.add_argument(
+            "--store",
+            type=Path,
+            default=DEFAULT_STORE,
+            help=f"result store file (default {DEFAULT_STORE})",
+        )
+
+    check = commands.add_parser("check", help="validate a suite and count its runs")
+    check.add_argument("suite")
+    check.set_defaults(handler=command_check)
+
+    run = commands.add_parser("run", help="run a suite (finished runs are reused)")
+    run.add_argument("suite")
+    run.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
+    run.add_argument("--quiet", action="store_true", help="no progress bar")
+    with_store(run)
+    run.set_defaults(handler=command_run)
+
+    show = commands.add_parser("show", help="print stored runs")
+    show.add_argument("suite", nargs="?", help="suite file or suite name (default: all)")
+    show.add_argument("--format", choices=("table", "json", "csv", "md"), default="table")
+    with_store(show)
+    show.set_defaults(handler=command_show)
+    return top
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = parser().parse_args(argv)
+    try:
+        return args.handler(args)
+    except InputError as error:
+        errors.print(f"heedful: error: {error}", markup=False, soft_wrap=True)
+        return 2
+    except KeyboardInterrupt:
+        errors.print("interrupted")
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())

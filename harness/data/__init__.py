@@ -1,0 +1,31 @@
+"""Data stage: graphs from a data section, and seeded splits.
+
+Every source returns a PyG `Data` with float features `x`, an undirected, coalesced
+`edge_index` without self-loops, and integer labels `y` (-1 for unlabelled nodes).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+from pydantic import BaseModel
+from torch_geometric.data import Data
+
+from harness.data.synthetic import contextual_sbm
+
+SOURCES: dict[str, Callable[[BaseModel], Data]] = {
+    "synthetic": contextual_sbm,
+}
+
+
+_CACHE: dict[str, Data] = {}
+
+
+def load_graph(section: BaseModel) -> Data:
+    """The graph of a validated data section; cached per process by the section's content."""
+    cache_key = section.model_dump_json()
+    if cache_key not in _CACHE:
+        if len(_CACHE) >= 8:
+            _CACHE.pop(next(iter(_CACHE)))
+        _CACHE[cache_key] = SOURCES[section.source](section)
+    return _CACHE[cache_key]

@@ -1,0 +1,127 @@
+"""Run a list of RunSpecs on local worker processes; each worker stores its own finished runs."""
+
+from __future__ import annotations
+
+import multiprocessing
+import os
+import signal
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import torch
+
+from harness import store
+from harness.suite import RunSpec
+from harness.train import RunResult, perform
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """What an execution did."""
+
+    planned: int
+    skipped: int
+    finished: int
+    interrupted: bool
+
+
+def available_cores() -> int:
+    return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
+
+
+def threads_per_worker(jobs: int) -> int:
+    """Torch threads per worker so that workers x threads <= cores."""
+    return max(1, available_cores() // jobs)
+
+
+def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
+    """The store row of a finished run."""
+    return {
+        "suite": spec.suite,
+        "contender": spec.contender,
+        "key": spec.key,
+        "model": spec.model,
+        "options": spec.options.model_dump(mode="json"),
+        "point": spec.point,
+        "seed": spec.seed,
+        "metric": spec.metric,
+        "val_metric": result.val_metric,
+        "test_metric": result.test_metric,
+        "test_accuracy": result.test_scores["accuracy"],
+        "test_macro_f1": result.test_scores["macro_f1"],
+        "test_roc_auc": result.test_scores["roc_auc"],
+        "epochs": result.epochs,
+        "best_epoch": result.best_epoch,
+        "seconds": result.seconds,
+        "seconds_per_epoch": result.seconds_per_epoch,
+        "params": result.params,
+        "peak_mb": result.peak_mb,
+        "curve": result.curve,
+        "extras": result.extras,
+    }
+
+
+def run_and_store(spec: RunSpec, store_path: str) -> str:
+    """One run, committed to the store as soon as it ends."""
+    store.save_run(store_path, record_of(spec, perform(spec)))
+    return spec.contender
+
+
+def _worker_setup(threads: int) -> None:
+    signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent decides what Ctrl-C does
+    torch.set_num_threads(threads)
+
+
+def _worker_task(args: tuple[RunSpec, str]) -> str:
+    return run_and_store(*args)
+
+
+def pending(specs: list[RunSpec], store_path: str | Path) -> list[RunSpec]:
+    """Specs whose result is not stored yet (for their suite and contender)."""
+    suites = {spec.suite for spec in specs}
+    done = set()
+    for suite in suites:
+        done |= {(suite, c, k) for c, k in store.finished_keys(store_path, suite)}
+    return [s for s in specs if (s.suite, s.contender, s.key) not in done]
+
+
+def execute(
+    specs: list[RunSpec],
+    store_path: str | Path,
+    jobs: int = 1,
+    on_finished: Callable[[str], None] | None = None,
+) -> Outcome:
+    """Run every spec not yet stored, on `jobs` processes; Ctrl-C keeps what finished."""
+    todo = pending(specs, store_path)
+    finished = 0
+    interrupted = False
+    if jobs == 1 or len(todo) <= 1:
+        torch.set_num_threads(threads_per_worker(1))
+        try:
+            for spec in todo:
+                on = run_and_store(spec, str(store_path))
+                finished += 1
+                if on_finished:
+                    on_finished(on)
+        except KeyboardInterrupt:
+            interrupted = True
+    else:
+        context = multiprocessing.get_context("spawn")
+        pool = context.Pool(jobs, initializer=_worker_setup, initargs=(threads_per_worker(jobs),))
+        try:
+            for on in pool.imap_unordered(_worker_task, [(s, str(store_path)) for s in todo]):
+                finished += 1
+                if on_finished:
+                    on_finished(on)
+            pool.close()
+        except KeyboardInterrupt:
+            interrupted = True
+            pool.terminate()
+        except BaseException:
+            pool.terminate()
+            raise
+        finally:
+            pool.join()
+    return Outcome(len(specs), len(specs) - len(todo), finished, interrupted)

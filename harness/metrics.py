@@ -1,0 +1,45 @@
+"""Classification metrics: scikit-learn for reported figures, a torch twin for per-epoch checks."""
+
+from __future__ import annotations
+
+import numpy as np
+import torch
+from sklearn.metrics import accuracy_score, f1_score, roc_auc_score
+
+METRICS = ("accuracy", "macro_f1", "roc_auc")
+
+
+def score(name: str, logits: torch.Tensor, labels: torch.Tensor, classes: int) -> float:
+    """Metric `name` from scikit-learn for these logits and labels."""
+    truth = labels.numpy()
+    if name == "accuracy":
+        return float(accuracy_score(truth, logits.argmax(1).numpy()))
+    if name == "macro_f1":
+        return float(f1_score(truth, logits.argmax(1).numpy(), average="macro"))
+    probabilities = torch.softmax(logits, dim=1).double().numpy()
+    if len(np.unique(truth)) < 2:
+        return float("nan")  # ROC-AUC needs both classes; suites are checked for this up front
+    if classes == 2:
+        return float(roc_auc_score(truth, probabilities[:, 1]))
+    present = np.unique(truth)
+    if len(present) < classes:
+        # one-vs-rest over the classes present; renormalise their probabilities
+        probabilities = probabilities[:, present]
+        probabilities = probabilities / probabilities.sum(1, keepdims=True)
+        return float(roc_auc_score(truth, probabilities, multi_class="ovr", labels=present))
+    return float(roc_auc_score(truth, probabilities, multi_class="ovr"))
+
+
+def fast_score(name: str, logits: torch.Tensor, labels: torch.Tensor, classes: int) -> float:
+    """Same value as `score`, computed in torch for accuracy and macro-F1 (used every epoch)."""
+    if name == "accuracy":
+        return float((logits.argmax(1) == labels).double().mean())
+    if name == "macro_f1":
+        predicted = logits.argmax(1)
+        true_positive = torch.bincount(labels[predicted == labels], minlength=classes).double()
+        predicted_count = torch.bincount(predicted, minlength=classes).double()
+        true_count = torch.bincount(labels, minlength=classes).double()
+        present = (predicted_count + true_count) > 0
+        f1 = 2 * true_positive / (predicted_count + true_count).clamp(min=1)
+        return float(f1[present].mean())
+    return score(name, logits, labels, classes)

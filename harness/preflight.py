@@ -1,0 +1,40 @@
+"""Checks that need the data: run by `heedful check` and before `heedful run`."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from harness.data import load_graph
+from harness.data.splits import make_split
+from harness.errors import InputError
+from harness.schema.suite import Suite
+
+
+@dataclass(frozen=True)
+class DataFacts:
+    nodes: int
+    edges: int
+    classes: int
+    features: int
+
+
+def preflight(suite: Suite, source: str) -> DataFacts:
+    """Load the graph and draw every seed's split; errors name the suite file and key."""
+    data = load_graph(suite.data)
+    classes = int(data.y.max()) + 1
+    labelled = data.y[data.y >= 0]
+    if len(np.unique(labelled.numpy())) < 2:
+        raise InputError(f"{source}: data: fewer than two label classes; allowed: two or more")
+    for seed in suite.seed_list:
+        try:
+            split = make_split(data, suite.split, seed)
+        except InputError as error:
+            raise InputError(f"{source}: {error}") from None
+        if suite.metric == "roc_auc" and len(np.unique(data.y[split.test].numpy())) < 2:
+            raise InputError(
+                f"{source}: metric: 'roc_auc' is not defined when the test split of seed {seed} "
+                "holds one class; allowed: accuracy or macro_f1, or a larger test split"
+            )
+    return DataFacts(data.num_nodes, data.edge_index.size(1) // 2, classes, data.num_features)

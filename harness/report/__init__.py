@@ -1,0 +1,1 @@
+"""Renderers: they format analysis results and never compute statistics."""

@@ -1,0 +1,73 @@
+"""Stored runs as JSON records, CSV or Markdown for `heedful show`."""
+
+from __future__ import annotations
+
+import json
+import math
+
+import pandas as pd
+
+RECORD_FIELDS = (
+    "suite",
+    "contender",
+    "model",
+    "options",
+    "point",
+    "seed",
+    "metric",
+    "val_metric",
+    "test_metric",
+    "test_accuracy",
+    "test_macro_f1",
+    "test_roc_auc",
+    "epochs",
+    "best_epoch",
+    "seconds",
+    "seconds_per_epoch",
+    "params",
+    "peak_mb",
+    "key",
+)
+
+
+def records(runs: pd.DataFrame) -> list[dict]:
+    """One plain dict per run with the documented result fields."""
+    out = []
+    for row in runs.to_dict(orient="records"):
+        record = {field: _plain(row[field]) for field in RECORD_FIELDS}
+        record["val"] = record.pop("val_metric")
+        record["test"] = record.pop("test_metric")
+        out.append(record)
+    return out
+
+
+def _plain(value: object) -> object:
+    """NaN becomes None so that the JSON output stays valid JSON."""
+    return None if isinstance(value, float) and math.isnan(value) else value
+
+
+def as_json(runs: pd.DataFrame) -> str:
+    """A JSON array with one object per run."""
+    return json.dumps(records(runs), indent=1, default=float)
+
+
+def flat(runs: pd.DataFrame) -> pd.DataFrame:
+    frame = pd.DataFrame(records(runs))
+    for column in ("options", "point"):
+        frame[column] = frame[column].map(lambda v: json.dumps(v, sort_keys=True))
+    return frame
+
+
+def as_csv(runs: pd.DataFrame) -> str:
+    return flat(runs).to_csv(index=False)
+
+
+def as_markdown(runs: pd.DataFrame) -> str:
+    frame = flat(runs).drop(columns=["options"])
+    header = "| " + " | ".join(frame.columns) + " |"
+    rule = "| " + " | ".join("---" for _ in frame.columns) + " |"
+    body = [
+        "| " + " | ".join(str(v).replace("|", "\\|") for v in row) + " |"
+        for row in frame.itertuples(index=False)
+    ]
+    return "\n".join([header, rule, *body])

@@ -1,0 +1,1 @@
+"""Pydantic schema of suite files: the only place that validates user input."""

@@ -1,0 +1,67 @@
+"""Shared base model and the translation of pydantic errors into one-line messages."""
+
+from __future__ import annotations
+
+import difflib
+from typing import Any
+
+from pydantic import BaseModel, ConfigDict, ValidationError, model_validator
+
+UNKNOWN_KEY = "unknown key"
+
+
+class StrictModel(BaseModel):
+    """Frozen, and unknown keys are errors with a did-you-mean hint."""
+
+    model_config = ConfigDict(frozen=True, protected_namespaces=())
+
+    @model_validator(mode="before")
+    @classmethod
+    def _no_unknown_keys(cls, data: Any) -> Any:
+        if isinstance(data, dict):
+            allowed = list(cls.model_fields)
+            for key in data:
+                if key not in cls.model_fields:
+                    hint = difflib.get_close_matches(str(key), allowed, n=1)
+                    maybe = f" (did you mean '{hint[0]}'?)" if hint else ""
+                    raise ValueError(
+                        f"{UNKNOWN_KEY} '{key}'{maybe}; allowed keys: {', '.join(allowed)}"
+                    )
+        return data
+
+
+def key_path(loc: tuple, raw: Any) -> str:
+    """Dotted key path of a pydantic error location, without pydantic's union-branch tags."""
+    path: list[str] = []
+    data = raw
+    for index, part in enumerate(loc):
+        if isinstance(data, dict) and part in data:
+            path.append(str(part))
+            data = data[part]
+        elif isinstance(data, list) and isinstance(part, int) and part < len(data):
+            path.append(str(part))
+            data = data[part]
+        elif index == len(loc) - 1 and isinstance(data, dict):
+            path.append(str(part))  # a required key that is missing
+        # anything else is a tag pydantic adds for a union branch
+    return ".".join(path) or "(top level)"
+
+
+def format_validation_error(error: ValidationError, raw: Any, source: str) -> str:
+    """First error of a validation as one line: `source: key.path: given X; what is allowed`."""
+    first = error.errors(include_url=False)[0]
+    where = key_path(tuple(first["loc"]), raw)
+    if first["type"] == "missing":
+        return f"{source}: {where}: required key is missing"
+    message = first["msg"].removeprefix("Value error, ")
+    if message.startswith(UNKNOWN_KEY):
+        return f"{source}: {where}: {message}"
+    if first["type"] == "union_tag_invalid":
+        return f"{source}: {where}: {message}"
+    return f"{source}: {where}: given {show(first.get('input'))}; {message}"
+
+
+def show(value: Any) -> str:
+    """A short repr of a given value for error messages."""
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."

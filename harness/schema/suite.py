@@ -1,0 +1,51 @@
+"""The whole suite file."""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import Field, field_validator
+
+from harness.schema.base import StrictModel
+from harness.schema.contenders import ContenderOptions
+from harness.schema.data import DataSection, FractionSplit, SplitSection
+from harness.schema.training import Training
+
+Metric = Literal["accuracy", "macro_f1", "roc_auc"]
+
+
+class Suite(StrictModel):
+    """A declarative benchmark: data, contenders, training defaults and seeds."""
+
+    name: str = Field(min_length=1, max_length=200)
+    description: str = ""
+    seeds: int | list[int] = 5
+    metric: Metric = "accuracy"
+    data: DataSection
+    split: SplitSection = FractionSplit()
+    training: Training = Training()
+    contenders: dict[str, ContenderOptions]
+
+    @field_validator("seeds")
+    @classmethod
+    def _valid_seeds(cls, seeds: int | list[int]) -> int | list[int]:
+        if isinstance(seeds, int):
+            if not 1 <= seeds <= 10_000:
+                raise ValueError("allowed: a count from 1 to 10000, or a list of seeds")
+        else:
+            if not seeds:
+                raise ValueError("allowed: a non-empty list of seeds")
+            if any(s < 0 for s in seeds) or len(set(seeds)) != len(seeds):
+                raise ValueError("allowed: distinct seeds >= 0")
+        return seeds
+
+    @field_validator("contenders")
+    @classmethod
+    def _some_contenders(cls, contenders: dict) -> dict:
+        if not contenders:
+            raise ValueError("allowed: at least one [contenders.NAME] table")
+        return contenders
+
+    @property
+    def seed_list(self) -> list[int]:
+        return list(range(self.seeds)) if isinstance(self.seeds, int) else list(self.seeds)

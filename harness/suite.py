@@ -1,0 +1,101 @@
+"""Suite file -> validated Suite -> list of runs (contender x point x seed)."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from pydantic import BaseModel, ValidationError
+
+import harness
+from harness.errors import InputError
+from harness.schema.base import format_validation_error
+from harness.schema.suite import Suite
+from harness.schema.training import Training
+
+
+@dataclass(frozen=True)
+class RunSpec:
+    """Everything that determines one run's result, plus where it belongs in the suite."""
+
+    suite: str
+    contender: str
+    options: BaseModel
+    training: Training
+    data: BaseModel
+    split: BaseModel
+    metric: str
+    seed: int
+    point: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def model(self) -> str:
+        return self.options.model
+
+    @property
+    def key(self) -> str:
+        """Hash of what determines the result; the suite and contender names are labels only."""
+        determining = {
+            "data": self.data.model_dump(mode="json"),
+            "split": self.split.model_dump(mode="json"),
+            "options": self.options.model_dump(mode="json", exclude={"training"}),
+            "training": self.training.model_dump(mode="json"),
+            "metric": self.metric,
+            "seed": self.seed,
+            "version": harness.__version__,
+        }
+        text = json.dumps(determining, sort_keys=True, separators=(",", ":"))
+        return hashlib.sha256(text.encode()).hexdigest()[:24]
+
+
+def read_suite_file(path: str | Path) -> dict:
+    """Raw TOML of a suite file, with syntax errors reported by line and column."""
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError(f"{path}: suite file not found") from None
+    except (IsADirectoryError, PermissionError, UnicodeDecodeError) as error:
+        raise InputError(f"{path}: cannot read suite file ({error.__class__.__name__})") from None
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as error:
+        raise InputError(f"{path}: TOML syntax error: {error}") from None
+
+
+def parse_suite(raw: dict, source: str) -> Suite:
+    """Validate raw suite data; errors name the source and key path."""
+    try:
+        return Suite.model_validate(raw)
+    except ValidationError as error:
+        raise InputError(format_validation_error(error, raw, source)) from None
+
+
+def load_suite(path: str | Path) -> Suite:
+    """Read and validate a suite file."""
+    return parse_suite(read_suite_file(path), str(path))
+
+
+def expand(suite: Suite) -> list[RunSpec]:
+    """All runs of a suite: every contender on every seed (seeds paired across contenders)."""
+    runs = []
+    for name, options in suite.contenders.items():
+        training = options.training.apply(suite.training)
+        for seed in suite.seed_list:
+            runs.append(
+                RunSpec(
+                    suite=suite.name,
+                    contender=name,
+                    options=options,
+                    training=training,
+                    data=suite.data,
+                    split=suite.split,
+                    metric=suite.metric,
+                    seed=seed,
+                )
+            )
+    return runs

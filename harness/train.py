@@ -1,0 +1,145 @@
+"""One run: full-batch node classification with Adam and early stopping on validation."""
+
+from __future__ import annotations
+
+import copy
+import time
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from typing import Any
+
+import torch
+from torch import nn
+from torch_geometric.data import Data
+
+from harness.data import load_graph
+from harness.data.splits import Split, make_split
+from harness.metrics import METRICS, fast_score, score
+from harness.models import build_model
+from harness.schema.training import Training
+from harness.suite import RunSpec
+
+MEBIBYTE = 2**20
+ADAM_STATES = 2  # first and second moment per parameter
+
+
+@dataclass(frozen=True)
+class RunResult:
+    """What one run measured."""
+
+    val_metric: float
+    test_metric: float
+    test_scores: dict[str, float]
+    epochs: int
+    best_epoch: int
+    seconds: float
+    seconds_per_epoch: float
+    params: int
+    peak_mb: float
+    curve: list[float] = field(default_factory=list)
+    extras: dict[str, Any] = field(default_factory=dict)
+
+
+class ActivationMeter:
+    """Bytes of tensors autograd keeps for backward during one forward pass."""
+
+    def __init__(self) -> None:
+        self.seen: set[int] = set()
+        self.bytes = 0
+
+    def pack(self, tensor: torch.Tensor) -> torch.Tensor:
+        storage = tensor.untyped_storage()
+        if storage.data_ptr() not in self.seen:
+            self.seen.add(storage.data_ptr())
+            self.bytes += storage.nbytes()
+        return tensor
+
+    @staticmethod
+    def unpack(tensor: torch.Tensor) -> torch.Tensor:
+        return tensor
+
+
+def tensor_bytes(*tensors: torch.Tensor) -> int:
+    return sum(t.numel() * t.element_size() for t in tensors)
+
+
+def fit(
+    model: nn.Module,
+    data: Data,
+    split: Split,
+    training: Training,
+    metric: str,
+    on_epoch: Callable[[int, float], None] | None = None,
+) -> RunResult:
+    """Train until `epochs` or `patience` epochs without validation gain; restore best weights.
+
+    `on_epoch(epoch, validation_score)` may raise to stop the run early (used by pruning).
+    Peak memory is the tensor memory of a training step: parameters, gradients, Adam state,
+    inputs, and the activations autograd keeps for backward (measured, not sampled).
+    """
+    classes = int(data.y.max()) + 1
+    optimizer = torch.optim.Adam(
+        model.parameters(), lr=training.learning_rate, weight_decay=training.weight_decay
+    )
+    x, edge_index, y = data.x, data.edge_index, data.y
+    train_y, val_y = y[split.train], y[split.validation]
+    best_score, best_epoch, best_state = -float("inf"), 0, copy.deepcopy(model.state_dict())
+    curve: list[float] = []
+    meter = ActivationMeter()
+    started = time.perf_counter()
+    epoch = 0
+    for epoch in range(1, training.epochs + 1):
+        model.train()
+        optimizer.zero_grad()
+        if epoch == 1:
+            with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
+                logits = model(x, edge_index)
+                loss = nn.functional.cross_entropy(logits[split.train], train_y)
+        else:
+            logits = model(x, edge_index)
+            loss = nn.functional.cross_entropy(logits[split.train], train_y)
+        loss.backward()
+        optimizer.step()
+        model.eval()
+        with torch.no_grad():
+            validation = fast_score(metric, model(x, edge_index)[split.validation], val_y, classes)
+        curve.append(validation)
+        if validation > best_score:
+            best_score, best_epoch = validation, epoch
+            best_state = copy.deepcopy(model.state_dict())
+        if on_epoch is not None:
+            on_epoch(epoch, validation)
+        if epoch - best_epoch >= training.patience:
+            break
+    train_seconds = time.perf_counter() - started
+    model.load_state_dict(best_state)
+    model.eval()
+    with torch.no_grad():
+        logits = model(x, edge_index)
+    test_logits, test_y = logits[split.test], y[split.test]
+    test_scores = {name: score(name, test_logits, test_y, classes) for name in METRICS}
+    params = sum(p.numel() for p in model.parameters())
+    parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
+    peak = parameter_bytes * (2 + ADAM_STATES) + tensor_bytes(x, edge_index, y) + meter.bytes
+    return RunResult(
+        val_metric=score(metric, logits[split.validation], val_y, classes),
+        test_metric=test_scores[metric],
+        test_scores=test_scores,
+        epochs=epoch,
+        best_epoch=best_epoch,
+        seconds=time.perf_counter() - started,
+        seconds_per_epoch=train_seconds / epoch,
+        params=params,
+        peak_mb=peak / MEBIBYTE,
+        curve=curve,
+    )
+
+
+def perform(spec: RunSpec, on_epoch: Callable[[int, float], None] | None = None) -> RunResult:
+    """Data, split and initialisation from the spec's seed, then fit."""
+    data = load_graph(spec.data)
+    split = make_split(data, spec.split, spec.seed)
+    torch.manual_seed(spec.seed)
+    classes = int(data.y.max()) + 1
+    model = build_model(spec.options, data.num_features, classes)
+    return fit(model, data, split, spec.training, spec.metric, on_epoch)
