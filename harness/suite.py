@@ -30,6 +30,7 @@ class RunSpec:
     split: BaseModel
     metric: str
     seed: int
+    setting: str = "transductive"
     point: dict[str, Any] = field(default_factory=dict)
 
     @property
@@ -45,6 +46,7 @@ class RunSpec:
             "options": self.options.model_dump(mode="json", exclude={"training"}),
             "training": self.training.model_dump(mode="json"),
             "metric": self.metric,
+            "setting": self.setting,
             "seed": self.seed,
             "version": harness.__version__,
         }
@@ -96,6 +98,7 @@ def expand(suite: Suite) -> list[RunSpec]:
                     split=suite.split,
                     metric=suite.metric,
                     seed=seed,
+                    setting=suite.setting,
                 )
             )
     return runs

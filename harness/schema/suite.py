@@ -12,6 +12,7 @@ from harness.schema.data import DataSection, FractionSplit, SplitSection
 from harness.schema.training import Training
 
 Metric = Literal["accuracy", "macro_f1", "roc_auc"]
+Setting = Literal["transductive", "inductive"]
 
 
 class Suite(StrictModel):
@@ -23,6 +24,7 @@ class Suite(StrictModel):
     metric: Metric = "accuracy"
     data: DataSection
     split: SplitSection = FractionSplit()
+    setting: Setting = "transductive"
     training: Training = Training()
     contenders: dict[str, ContenderOptions]
 
