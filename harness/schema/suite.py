@@ -9,6 +9,7 @@ from pydantic import Field, field_validator
 from harness.schema.base import StrictModel
 from harness.schema.contenders import ContenderOptions
 from harness.schema.data import DataSection, FractionSplit, SplitSection
+from harness.schema.gate import GateOptions
 from harness.schema.training import Training
 
 Metric = Literal["accuracy", "macro_f1", "roc_auc"]
@@ -27,6 +28,7 @@ class Suite(StrictModel):
     setting: Setting = "transductive"
     training: Training = Training()
     contenders: dict[str, ContenderOptions]
+    gate: GateOptions = GateOptions()
 
     @field_validator("seeds")
     @classmethod

@@ -1,0 +1,99 @@
+"""Gate settings of a suite and the shape of a saved baseline file.
+
+Both are user input (the `[gate]` table of a suite file; a baseline JSON file that may be
+committed and hand-edited), so both are validated here, at the boundary.
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+from pydantic import Field, field_validator, model_validator
+
+from harness.schema.base import StrictModel
+
+Action = Literal["fail", "warn"]
+BASELINE_FORMAT = "heedful baseline"
+BASELINE_FORMAT_VERSION = 1
+
+
+class GateOptions(StrictModel):
+    """When a nightly gate fails.
+
+    A contender's metric fails when its mean drop exceeds `tolerance_points` (metric x 100)
+    and the drop is significant at level `significance` (two-sided paired t-test on shared
+    seeds). Cost checks compare mean seconds per epoch and mean peak memory with the baseline
+    as ratios; above the ratio the check fails or warns, as set by its action.
+    """
+
+    tolerance_points: float = Field(1.0, ge=0, le=100)
+    significance: float = Field(0.05, gt=0, lt=1)
+    time_ratio: float = Field(1.5, gt=1, le=1000)
+    time_action: Action = "warn"  # wall time is noisy on shared machines
+    memory_ratio: float = Field(1.2, gt=1, le=1000)
+    memory_action: Action = "fail"  # peak memory is measured exactly, so it is repeatable
+    reproducibility_action: Action = "warn"
+
+
+class BaselineRun(StrictModel):
+    """One seed of one contender as recorded in a baseline."""
+
+    seed: int = Field(ge=0)
+    key: str = Field(min_length=1)
+    test_metric: float = Field(ge=0, le=1)
+    val_metric: float | None = Field(None, ge=0, le=1)
+    test_accuracy: float | None = Field(None, ge=0, le=1)
+    test_macro_f1: float | None = Field(None, ge=0, le=1)
+    test_roc_auc: float | None = Field(None, ge=0, le=1)
+    epochs: int = Field(ge=1)
+    seconds_per_epoch: float = Field(gt=0)
+    peak_mb: float = Field(gt=0)
+    params: int = Field(ge=0)
+
+
+class BaselineContender(StrictModel):
+    """A contender's model, options and per-seed figures."""
+
+    model: str
+    options: dict
+    runs: list[BaselineRun] = Field(min_length=1)
+
+    @field_validator("runs")
+    @classmethod
+    def _distinct_seeds(cls, runs: list[BaselineRun]) -> list[BaselineRun]:
+        seeds = [run.seed for run in runs]
+        if len(set(seeds)) != len(seeds):
+            raise ValueError("allowed: each seed at most once per contender")
+        return runs
+
+
+class Environment(StrictModel):
+    """Where the figures were measured."""
+
+    python: str
+    torch: str
+    torch_geometric: str
+    numpy: str
+    cpu: str
+    threads: int = Field(ge=1)
+
+
+class BaselineFile(StrictModel):
+    """The whole baseline file."""
+
+    format: Literal["heedful baseline"]
+    format_version: Literal[1]
+    suite: str = Field(min_length=1)
+    suite_hash: str = Field(min_length=1)
+    task: dict
+    metric: Literal["accuracy", "macro_f1", "roc_auc"]
+    harness_version: str
+    saved_at: str
+    environment: Environment
+    contenders: dict[str, BaselineContender]
+
+    @model_validator(mode="after")
+    def _some_contenders(self) -> BaselineFile:
+        if not self.contenders:
+            raise ValueError("allowed: at least one contender")
+        return self
