@@ -4,8 +4,9 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import Field, field_validator
+from pydantic import Field, ValidationInfo, field_validator
 
+from harness.schema.analysis import Analysis, unknown_contenders
 from harness.schema.base import StrictModel
 from harness.schema.contenders import ContenderOptions
 from harness.schema.data import DataSection, FractionSplit, SplitSection
@@ -29,6 +30,7 @@ class Suite(StrictModel):
     training: Training = Training()
     contenders: dict[str, ContenderOptions]
     gate: GateOptions = GateOptions()
+    analysis: Analysis = Analysis()
 
     @field_validator("seeds")
     @classmethod
@@ -49,6 +51,14 @@ class Suite(StrictModel):
         if not contenders:
             raise ValueError("allowed: at least one [contenders.NAME] table")
         return contenders
+
+    @field_validator("analysis")
+    @classmethod
+    def _analysis_names_contenders(cls, analysis: Analysis, info: ValidationInfo) -> Analysis:
+        problem = unknown_contenders(analysis, list(info.data.get("contenders", {})))
+        if problem:
+            raise ValueError(problem)
+        return analysis
 
     @property
     def seed_list(self) -> list[int]:

@@ -1,0 +1,45 @@
+"""The `[analysis]` table of a suite: how stored runs are judged."""
+
+from __future__ import annotations
+
+from pydantic import Field, model_validator
+
+from harness.schema.base import StrictModel
+
+
+class Analysis(StrictModel):
+    """Settings of the statistics and verdicts.
+
+    `minimum_gain` is the smallest difference that matters, in metric points (one point is
+    0.01 of a metric that runs from 0 to 1). `attention` and `baselines` name the contenders
+    of each side of the paired comparisons; left empty, attention model kinds form one side
+    and all other contenders the other.
+    """
+
+    minimum_gain: float = Field(1.0, ge=0, le=100)
+    confidence: float = Field(0.95, ge=0.5, le=0.999)
+    bootstrap_resamples: int = Field(2000, ge=100, le=100_000)
+    attention: list[str] = []
+    baselines: list[str] = []
+
+    @model_validator(mode="after")
+    def _sides_do_not_overlap(self) -> Analysis:
+        both = sorted(set(self.attention) & set(self.baselines))
+        if both:
+            raise ValueError(
+                f"{', '.join(both)} named in both attention and baselines; allowed: each "
+                "contender on one side"
+            )
+        return self
+
+
+def unknown_contenders(analysis: Analysis, contenders: list[str]) -> str | None:
+    """A one-line complaint when `attention` or `baselines` names a contender the suite lacks."""
+    for side in ("attention", "baselines"):
+        missing = [name for name in getattr(analysis, side) if name not in contenders]
+        if missing:
+            return (
+                f"{side} names {', '.join(repr(m) for m in missing)}, not a contender; "
+                f"allowed: {', '.join(contenders)}"
+            )
+    return None
