@@ -3,11 +3,12 @@
 from __future__ import annotations
 
 import difflib
-from typing import Any
+from typing import Any, get_args
 
 from pydantic import BaseModel, ConfigDict, ValidationError, model_validator
 
 UNKNOWN_KEY = "unknown key"
+STRAY_BOOLEAN = "true/false given for"
 
 
 class StrictModel(BaseModel):
@@ -27,10 +28,21 @@ class StrictModel(BaseModel):
                     raise ValueError(
                         f"{UNKNOWN_KEY} '{key}'{maybe}; allowed keys: {', '.join(allowed)}"
                     )
+                # pydantic would read true as 1 (seeds = true: one seed); only bool fields take it
+                value, field = data[key], cls.model_fields[key]
+                if isinstance(value, bool) and not takes_bool(field.annotation):
+                    raise ValueError(f"{STRAY_BOOLEAN} {key} {str(value).lower()}")
         return data
 
 
-def key_path(loc: tuple, raw: Any) -> str:
+def takes_bool(annotation: Any) -> bool:
+    """Whether a field annotation admits true/false (bool, Any, or a union or literal with one)."""
+    if annotation is bool or annotation is Any or isinstance(annotation, bool):
+        return True
+    return any(takes_bool(argument) for argument in get_args(annotation))
+
+
+def key_path(loc: tuple, raw: Any, missing: bool = False) -> str:
     """Dotted key path of a pydantic error location, without pydantic's union-branch tags."""
     path: list[str] = []
     data = raw
@@ -41,7 +53,7 @@ def key_path(loc: tuple, raw: Any) -> str:
         elif isinstance(data, list) and isinstance(part, int) and part < len(data):
             path.append(str(part))
             data = data[part]
-        elif index == len(loc) - 1 and isinstance(data, dict):
+        elif missing and index == len(loc) - 1 and isinstance(data, dict):
             path.append(str(part))  # a required key that is missing
         # anything else is a tag pydantic adds for a union branch
     return ".".join(path) or "(top level)"
@@ -50,14 +62,23 @@ def key_path(loc: tuple, raw: Any) -> str:
 def format_validation_error(error: ValidationError, raw: Any, source: str) -> str:
     """First error of a validation as one line: `source: key.path: given X; what is allowed`."""
     first = error.errors(include_url=False)[0]
-    where = key_path(tuple(first["loc"]), raw)
+    where = key_path(tuple(first["loc"]), raw, missing=first["type"] == "missing")
     if first["type"] == "missing":
         return f"{source}: {where}: required key is missing"
     message = first["msg"].removeprefix("Value error, ")
     if message.startswith(UNKNOWN_KEY):
         return f"{source}: {where}: {message}"
+    if message.startswith(STRAY_BOOLEAN):
+        key, value = message.split()[-2:]
+        where = key if where == "(top level)" else f"{where}.{key}"
+        return f"{source}: {where}: given {value}; allowed: a number or text, not true or false"
+    if first["type"] == "union_tag_not_found":
+        tag = first.get("ctx", {}).get("discriminator", "the kind")
+        return f"{source}: {where}: required key {tag} is missing"
     if first["type"] == "union_tag_invalid":
         return f"{source}: {where}: {message}"
+    if first["type"] == "value_error" and isinstance(first.get("input"), dict):
+        return f"{source}: {where}: {message}"  # a check across keys; the message names them
     return f"{source}: {where}: given {show(first.get('input'))}; {message}"
 
 
