@@ -33,6 +33,14 @@ class SyntheticData(StrictModel):
                 )
             if any(b <= 0 for b in balance):
                 raise ValueError("class_balance entries must all be > 0")
+        weights = balance or [1.0] * self.classes
+        shares = [w / sum(weights) for w in weights]
+        smallest = min(range(self.classes), key=shares.__getitem__)
+        if shares[smallest] * self.nodes < 1:  # an empty class breaks sampling and splitting
+            raise ValueError(
+                f"class {smallest} gets {shares[smallest] * self.nodes:.2g} of {self.nodes} "
+                "nodes; allowed: nodes and class_balance that give every class at least one node"
+            )
         if self.average_degree >= self.nodes - 1:
             raise ValueError(f"average_degree must be below nodes - 1 ({self.nodes - 1})")
         return self
