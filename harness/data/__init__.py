@@ -11,10 +11,17 @@ from collections.abc import Callable
 from pydantic import BaseModel
 from torch_geometric.data import Data
 
+from harness.data.bundled import digits_graph, karate_club
+from harness.data.pyg_datasets import load_pyg
 from harness.data.synthetic import contextual_sbm
+from harness.data.tables import load_tables
 
 SOURCES: dict[str, Callable[[BaseModel], Data]] = {
     "synthetic": contextual_sbm,
+    "tables": load_tables,
+    "karate": karate_club,
+    "digits": digits_graph,
+    "pyg": load_pyg,
 }
 
 

@@ -1,12 +1,78 @@
-"""The data section: where the graph comes from. One class per source, chosen by `source`."""
+"""The data and split sections: where the graph comes from, and how its nodes are split.
+
+Data sources are chosen by `source`, split methods by `method` (default "fractions").
+"""
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+import hashlib
+from pathlib import Path
+from typing import Annotated, Any, Literal
 
-from pydantic import Field, model_validator
+from pydantic import (
+    Discriminator,
+    Field,
+    Tag,
+    ValidationInfo,
+    computed_field,
+    field_validator,
+    model_validator,
+)
 
 from harness.schema.base import StrictModel
+
+TABLE_SUFFIXES = (".csv", ".parquet", ".pq")
+
+# PyG dataset classes a suite may name, with the `name` values each accepts (None: no name).
+# Only these are ever looked up in torch_geometric.datasets: a suite cannot import anything else.
+PYG_DATASETS: dict[str, tuple[str, ...] | None] = {
+    "KarateClub": None,
+    "Planetoid": ("Cora", "CiteSeer", "PubMed"),
+    "Amazon": ("Computers", "Photo"),
+    "Coauthor": ("CS", "Physics"),
+    "WikipediaNetwork": ("chameleon", "squirrel"),
+    "WebKB": ("Cornell", "Texas", "Wisconsin"),
+    "Actor": None,
+    "HeterophilousGraphDataset": (
+        "Roman-empire",
+        "Amazon-ratings",
+        "Minesweeper",
+        "Tolokers",
+        "Questions",
+    ),
+}
+PygClass = Literal[
+    "KarateClub",
+    "Planetoid",
+    "Amazon",
+    "Coauthor",
+    "WikipediaNetwork",
+    "WebKB",
+    "Actor",
+    "HeterophilousGraphDataset",
+]
+
+
+def resolve_path(value: str, info: ValidationInfo) -> str:
+    """A path relative to the suite file's folder (context "folder"), else to the working dir."""
+    folder = (info.context or {}).get("folder", ".")
+    return str((Path(folder) / Path(value).expanduser()).resolve())
+
+
+_DIGESTS: dict[tuple[str, int, int], str] = {}
+
+
+def file_digest(path: str) -> str:
+    """SHA-256 of a file's bytes, cached by (path, size, modification time)."""
+    stat = Path(path).stat()
+    cache_key = (path, stat.st_size, stat.st_mtime_ns)
+    if cache_key not in _DIGESTS:
+        digest = hashlib.sha256()
+        with open(path, "rb") as handle:
+            for block in iter(lambda: handle.read(1 << 20), b""):
+                digest.update(block)
+        _DIGESTS[cache_key] = digest.hexdigest()[:16]
+    return _DIGESTS[cache_key]
 
 
 class SyntheticData(StrictModel):
@@ -46,7 +112,99 @@ class SyntheticData(StrictModel):
         return self
 
 
-DataSection = Annotated[SyntheticData, Field(discriminator="source")]
+class TableData(StrictModel):
+    """A nodes file and an edges file, CSV or Parquet; paths are relative to the suite file.
+
+    Nodes: an id column, feature columns (a list, a prefix, or else every other column), a label
+    column (empty cells are unlabelled nodes) and an optional split column (train, validation,
+    test, or empty). Edges: source and target ids and an optional weight column.
+    """
+
+    source: Literal["tables"]
+    nodes: str
+    edges: str
+    id_column: str = "id"
+    feature_columns: list[str] | None = None
+    feature_prefix: str | None = None
+    label_column: str = "label"
+    split_column: str | None = None
+    source_column: str = "source"
+    target_column: str = "target"
+    weight_column: str | None = None
+    directed: bool = False
+
+    @field_validator("nodes", "edges")
+    @classmethod
+    def _existing_table_file(cls, value: str, info: ValidationInfo) -> str:
+        path = resolve_path(value, info)
+        if Path(path).suffix.lower() not in TABLE_SUFFIXES:
+            raise ValueError(f"allowed: a file ending in {', '.join(TABLE_SUFFIXES)}")
+        if not Path(path).is_file():
+            raise ValueError(f"file not found at {path}; allowed: an existing CSV or Parquet file")
+        return path
+
+    @field_validator("feature_columns")
+    @classmethod
+    def _some_columns(cls, value: list[str] | None) -> list[str] | None:
+        if value is not None and (not value or len(set(value)) != len(value)):
+            raise ValueError("allowed: a non-empty list of distinct column names")
+        return value
+
+    @model_validator(mode="after")
+    def _one_way_to_name_features(self) -> TableData:
+        if self.feature_columns is not None and self.feature_prefix is not None:
+            raise ValueError("give feature_columns or feature_prefix, not both")
+        return self
+
+    @computed_field  # part of the run key: changed files mean new runs
+    @property
+    def content_digest(self) -> str:
+        return file_digest(self.nodes) + file_digest(self.edges)
+
+
+class KarateData(StrictModel):
+    """Zachary's karate club (Zachary, 1977), networkx's copy: 34 members, two factions."""
+
+    source: Literal["karate"]
+
+
+class DigitsData(StrictModel):
+    """scikit-learn's digits (UCI optical recognition of handwritten digits) as a k-NN graph."""
+
+    source: Literal["digits"]
+    neighbours: int = Field(10, ge=1, le=100)
+
+
+class PygData(StrictModel):
+    """A PyG dataset class from the allow-list PYG_DATASETS, stored under a local root folder."""
+
+    source: Literal["pyg"]
+    dataset: PygClass
+    name: str | None = None
+    root: str = "datasets"
+    download: bool = False
+
+    @field_validator("root")
+    @classmethod
+    def _resolve_root(cls, value: str, info: ValidationInfo) -> str:
+        return resolve_path(value, info)
+
+    @model_validator(mode="after")
+    def _name_fits_class(self) -> PygData:
+        names = PYG_DATASETS[self.dataset]
+        if names is None and self.name is not None:
+            raise ValueError(f"{self.dataset} takes no name; allowed: leave 'name' out")
+        if names is not None and self.name not in names:
+            raise ValueError(
+                f"name {self.name!r} is not one of {self.dataset}'s; allowed: {', '.join(names)}"
+            )
+        return self
+
+
+DataSection = Annotated[
+    SyntheticData | TableData | KarateData | DigitsData | PygData,
+    Field(discriminator="source"),
+]
 
 
 class FractionSplit(StrictModel):
@@ -65,4 +223,40 @@ class FractionSplit(StrictModel):
         return self
 
 
-SplitSection = FractionSplit
+class PerClassSplit(StrictModel):
+    """A fixed number of labelled nodes per class for training and validation, drawn per seed.
+
+    Test: `test_per_class` nodes per class, or every remaining labelled node when absent.
+    """
+
+    method: Literal["per_class"]
+    train_per_class: int = Field(20, ge=1, le=1_000_000)
+    validation_per_class: int = Field(30, ge=1, le=1_000_000)
+    test_per_class: int | None = Field(None, ge=1, le=1_000_000)
+
+
+class ColumnSplit(StrictModel):
+    """The split the data carries: a table's split column, or a PyG dataset's masks.
+
+    When a PyG dataset holds several mask columns, seed s uses column s mod their count.
+    """
+
+    method: Literal["column"]
+
+
+def _split_method(value: Any) -> str:
+    if isinstance(value, dict):
+        return value.get("method", "fractions")
+    return getattr(value, "method", "fractions")
+
+
+SplitSection = Annotated[
+    Annotated[FractionSplit, Tag("fractions")]
+    | Annotated[PerClassSplit, Tag("per_class")]
+    | Annotated[ColumnSplit, Tag("column")],
+    Discriminator(
+        _split_method,
+        custom_error_type="unknown_split_method",
+        custom_error_message="unknown split method; allowed: fractions, per_class, column",
+    ),
+]

@@ -1,0 +1,213 @@
+"""User graphs from a nodes file and an edges file (CSV or Parquet), checked column-wise.
+
+Every check works on whole columns (pandas and numpy), never a Python loop over rows, and every
+error names the file and the row or column at fault. Rows are counted from 1 after the header;
+for CSV files the line number is given as well.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+from torch_geometric.data import Data
+
+from harness.data.assemble import SPLIT_PARTS, assemble
+from harness.errors import InputError
+from harness.schema.data import TableData
+
+
+def shown(path: str) -> str:
+    """A path as the user most likely wrote it: relative to the working folder when inside it."""
+    try:
+        return str(Path(path).relative_to(Path.cwd()))
+    except ValueError:
+        return path
+
+
+def row_name(path: str, row: int) -> str:
+    """`file: row N` (and the line for CSV, where the header is line 1)."""
+    line = f" (line {row + 2})" if path.lower().endswith(".csv") else ""
+    return f"{shown(path)}: row {row + 1}{line}"
+
+
+def read_table(path: str, what: str, text_columns: list[str]) -> pd.DataFrame:
+    """A whole CSV or Parquet file; `text_columns` are read as strings (ids)."""
+    name = shown(path)
+    if path.lower().endswith(".csv"):
+        try:
+            frame = pd.read_csv(path, dtype={c: str for c in text_columns}, keep_default_na=True)
+        except pd.errors.EmptyDataError:
+            raise InputError(
+                f"{name}: the file is empty; allowed: a header row and {what}"
+            ) from None
+        except (pd.errors.ParserError, UnicodeDecodeError, OSError) as error:
+            first = str(error).strip().splitlines()[0]
+            raise InputError(f"{name}: cannot read CSV file ({first})") from None
+    else:
+        try:
+            frame = pd.read_parquet(path)
+        except Exception as error:  # pyarrow raises several types for damaged files
+            first = (str(error).strip().splitlines() or [error.__class__.__name__])[0]
+            raise InputError(
+                f"{name}: cannot read Parquet file, it is truncated or not Parquet ({first})"
+            ) from None
+        for column in text_columns:
+            if column in frame.columns:
+                frame[column] = frame[column].astype("string").astype(object)
+    if len(frame) == 0:
+        raise InputError(f"{name}: no rows after the header; allowed: {what}")
+    return frame
+
+
+def need_columns(frame: pd.DataFrame, path: str, columns: list[str], key: str) -> None:
+    for column in columns:
+        if column not in frame.columns:
+            present = ", ".join(map(str, frame.columns[:12]))
+            raise InputError(
+                f"{shown(path)}: column '{column}' (data.{key}) not found; columns present: "
+                f"{present}"
+            )
+
+
+def no_missing(values: pd.Series, path: str, what: str) -> None:
+    missing = values.isna().to_numpy()
+    if missing.any():
+        row = int(np.argmax(missing))
+        raise InputError(f"{row_name(path, row)}: empty {what}; allowed: a value in every row")
+
+
+def feature_names(frame: pd.DataFrame, spec: TableData) -> list[str]:
+    if spec.feature_columns is not None:
+        need_columns(frame, spec.nodes, spec.feature_columns, "feature_columns")
+        return list(spec.feature_columns)
+    reserved = {spec.id_column, spec.label_column, spec.split_column}
+    columns = [c for c in frame.columns if c not in reserved]
+    if spec.feature_prefix is not None:
+        columns = [c for c in columns if str(c).startswith(spec.feature_prefix)]
+    if not columns:
+        how = f"starting with '{spec.feature_prefix}'" if spec.feature_prefix else "besides id"
+        raise InputError(f"{shown(spec.nodes)}: no feature columns {how}; allowed: one or more")
+    return columns
+
+
+def feature_matrix(
+    frame: pd.DataFrame, columns: list[str], path: str, what: str = "feature"
+) -> np.ndarray:
+    """Numeric, finite features as float32; names the first bad column and row."""
+    for column in columns:
+        values = frame[column]
+        if not (pd.api.types.is_numeric_dtype(values) or pd.api.types.is_bool_dtype(values)):
+            bad = (pd.to_numeric(values, errors="coerce").isna() & values.notna()).to_numpy()
+            row = int(np.argmax(bad))
+            raise InputError(
+                f"{shown(path)}: column '{column}' is not numeric (row {row + 1} holds "
+                f"{values.iloc[row]!r}); allowed: numbers in {what} columns"
+            )
+    matrix = frame[columns].to_numpy(dtype=np.float64)
+    bad = ~np.isfinite(matrix)
+    if bad.any():
+        row, column = (int(i) for i in np.argwhere(bad)[0])
+        kind = "NaN or empty" if np.isnan(matrix[row, column]) else "infinite"
+        raise InputError(
+            f"{row_name(path, row)}: column '{columns[column]}' holds a {kind} {what}; "
+            "allowed: finite numbers"
+        )
+    return matrix.astype(np.float32)
+
+
+def label_codes(frame: pd.DataFrame, spec: TableData) -> tuple[np.ndarray, list[str]]:
+    """Class index per node (-1 for an empty label) and the class names in sorted order."""
+    values = frame[spec.label_column]
+    if pd.api.types.is_float_dtype(values) and np.all(values.dropna() % 1 == 0):
+        values = values.astype("Int64")  # integer labels with blanks were read as floats
+    codes, names = pd.factorize(values, sort=True, use_na_sentinel=True)
+    if len(names) < 2:
+        found = f"only {names[0]!r}" if len(names) else "none"
+        raise InputError(
+            f"{shown(spec.nodes)}: column '{spec.label_column}' holds fewer than two label "
+            f"classes ({found}); allowed: two or more"
+        )
+    return codes.astype(np.int64), [str(n) for n in names]
+
+
+def split_codes(frame: pd.DataFrame, spec: TableData) -> np.ndarray:
+    """0 train, 1 validation, 2 test, -1 for an empty cell."""
+    values = frame[spec.split_column].astype("string").str.strip().str.lower()
+    codes = values.map(SPLIT_PARTS).astype("Int64")
+    unknown = (codes.isna() & values.notna() & (values != "")).to_numpy()
+    if unknown.any():
+        row = int(np.argmax(unknown))
+        raise InputError(
+            f"{row_name(spec.nodes, row)}: column '{spec.split_column}' holds "
+            f"{frame[spec.split_column].iloc[row]!r}; allowed: train, validation, test or empty"
+        )
+    return codes.fillna(-1).to_numpy(dtype=np.int64)
+
+
+def node_index(ids: pd.Series, path: str, id_column: str) -> pd.Index:
+    """Ids as an index; repeated ids are an error naming both rows."""
+    no_missing(ids, path, f"node id (column '{id_column}')")
+    repeated = ids.duplicated().to_numpy()
+    if repeated.any():
+        row = int(np.argmax(repeated))
+        first = int(np.argmax((ids == ids.iloc[row]).to_numpy()))
+        raise InputError(
+            f"{row_name(path, row)}: node id {ids.iloc[row]!r} repeats row {first + 1}; "
+            f"allowed: unique ids in column '{id_column}'"
+        )
+    return pd.Index(ids)
+
+
+def endpoint_positions(
+    values: pd.Series, index: pd.Index, spec: TableData, role: str
+) -> np.ndarray:
+    column = spec.source_column if role == "source" else spec.target_column
+    no_missing(values, spec.edges, f"{role} (column '{column}')")
+    positions = index.get_indexer(values)
+    unknown = positions < 0
+    if unknown.any():
+        row = int(np.argmax(unknown))
+        raise InputError(
+            f"{row_name(spec.edges, row)}: {role} {values.iloc[row]!r} (column '{column}') is not "
+            f"a node id in {shown(spec.nodes)}; allowed: ids from column '{spec.id_column}'"
+        )
+    return positions.astype(np.int64)
+
+
+def load_tables(spec: TableData) -> Data:
+    """The graph of a nodes file and an edges file; errors name the file and row or column."""
+    nodes = read_table(spec.nodes, "one row per node", [spec.id_column])
+    wanted = [spec.id_column, spec.label_column] + (
+        [spec.split_column] if spec.split_column else []
+    )
+    keys = ["id_column", "label_column", "split_column"]
+    for column, key in zip(wanted, keys, strict=False):
+        need_columns(nodes, spec.nodes, [column], key)
+    index = node_index(nodes[spec.id_column], spec.nodes, spec.id_column)
+    features = feature_matrix(nodes, feature_names(nodes, spec), spec.nodes)
+    labels, class_names = label_codes(nodes, spec)
+    split_part = split_codes(nodes, spec) if spec.split_column else None
+
+    edges = read_table(spec.edges, "one row per edge", [spec.source_column, spec.target_column])
+    need_columns(edges, spec.edges, [spec.source_column], "source_column")
+    need_columns(edges, spec.edges, [spec.target_column], "target_column")
+    source = endpoint_positions(edges[spec.source_column], index, spec, "source")
+    target = endpoint_positions(edges[spec.target_column], index, spec, "target")
+    weight = None
+    if spec.weight_column is not None:
+        need_columns(edges, spec.edges, [spec.weight_column], "weight_column")
+        weight = feature_matrix(edges, [spec.weight_column], spec.edges, "weight")[:, 0]
+    data = assemble(
+        features,
+        source,
+        target,
+        labels,
+        directed=spec.directed,
+        weight=weight,
+        split_part=split_part,
+        class_names=class_names,
+    )
+    data.split_origin = f"{shown(spec.nodes)}: column '{spec.split_column}'"
+    return data
