@@ -1,0 +1,146 @@
+"""Python API: the analyses of stored runs as pandas DataFrames, for notebooks.
+
+    from harness import api
+    runs = api.runs("runs/heedful.db", "suites/demo.toml")
+    api.contenders(runs)         # per variant: mean, std, median, min, max, intervals, costs
+    api.comparisons(runs)        # paired tests with Holm adjustment and verdicts
+    api.ablation(runs).axes      # axes ranked by effect
+    api.cost(runs)               # metric against costs, Pareto marks
+    report = api.analyse(runs)   # everything at once, one suite
+
+Every function takes an optional `settings` (the suite's `[analysis]` table) and otherwise
+uses the defaults.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass
+from pathlib import Path
+
+import pandas as pd
+
+from harness import store
+from harness.ablation_effects import AblationEffects, ablation_effects
+from harness.cost import cost_tradeoff
+from harness.errors import InputError
+from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
+from harness.stats import describe, paired_comparisons, with_variants
+from harness.verdict import headline, judge_all
+
+
+@dataclass(frozen=True)
+class SuiteReport:
+    """Every analysis of one suite; what the report writers render."""
+
+    suite: str
+    metric: str
+    settings: Analysis
+    runs: pd.DataFrame
+    contenders: pd.DataFrame
+    comparisons: pd.DataFrame
+    headline: str
+    ablation: AblationEffects
+    cost: pd.DataFrame
+    attention: pd.DataFrame  # harness.axes.attention_by_variant; empty without diagnostics
+    homophily: pd.DataFrame  # graph homophily of the stored dataset profile; may be empty
+
+
+def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFrame:
+    """Stored runs of a suite (a suite file's current runs, or a stored suite name), or all.
+
+    For a suite file only runs whose key the file still expands to are kept, so runs of an
+    edited suite's old settings do not mix in.
+    """
+    if suite is not None and Path(suite).is_file():
+        from harness.suite import expand, load_suite
+
+        loaded = load_suite(suite)
+        frame = store.load_runs(store_path, [loaded.name])
+        return frame[frame["key"].isin({spec.key for spec in expand(loaded)})].reset_index(
+            drop=True
+        )
+    return store.load_runs(store_path, None if suite is None else [str(suite)])
+
+
+def settings_of(suite: str | Path | None) -> Analysis:
+    """The `[analysis]` table of a suite file; defaults for a stored suite name."""
+    if suite is not None and Path(suite).is_file():
+        from harness.suite import load_suite
+
+        return load_suite(suite).analysis
+    return DEFAULT_ANALYSIS
+
+
+def contenders(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:
+    """Per suite and variant: test metric over seeds with t and bootstrap intervals, costs."""
+    return describe(runs, settings)
+
+
+def comparisons(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:
+    """Paired comparisons (attention minus baseline, metric points) with verdicts."""
+    return judge_all(paired_comparisons(runs, settings), settings)
+
+
+def ablation(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> AblationEffects:
+    """Level means, axis effects (ranked) and interactions of the varied axes."""
+    return ablation_effects(runs, settings.confidence)
+
+
+def cost(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:
+    """Metric against seconds per epoch, parameters and peak memory, with Pareto marks."""
+    return cost_tradeoff(describe(runs, settings))
+
+
+def graph_homophily(store_path: str | Path, suite: str) -> pd.DataFrame:
+    """Homophily measures of the suite's latest stored dataset profile (measure, value)."""
+    from harness.profile_store import load_profiles
+
+    profiles = load_profiles(store_path, suite)
+    if not profiles:
+        return pd.DataFrame(columns=["measure", "value"])
+    measures = asdict(profiles[-1].homophily)
+    return pd.DataFrame({"measure": list(measures), "value": list(measures.values())})
+
+
+def analyse(
+    runs: pd.DataFrame,
+    settings: Analysis = DEFAULT_ANALYSIS,
+    homophily: pd.DataFrame | None = None,
+) -> SuiteReport:
+    """Every analysis of the runs of one suite; `homophily` from graph_homophily if known."""
+    from harness.axes import attention_by_variant
+
+    names = runs["suite"].unique()
+    if len(names) != 1:
+        raise InputError(
+            f"analysis: given runs of {len(names)} suites; allowed: the runs of exactly one suite"
+        )
+    table = describe(runs, settings)
+    judged = judge_all(paired_comparisons(runs, settings), settings)
+    return SuiteReport(
+        suite=str(names[0]),
+        metric=str(runs["metric"].iloc[0]),
+        settings=settings,
+        runs=with_variants(runs),
+        contenders=table,
+        comparisons=judged,
+        headline=headline(table, judged, settings),
+        ablation=ablation_effects(runs, settings.confidence),
+        cost=cost_tradeoff(table),
+        attention=attention_by_variant(runs),
+        homophily=homophily if homophily is not None else pd.DataFrame(columns=["measure"]),
+    )
+
+
+def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
+    """Load a suite's stored runs and analyse them with the suite's settings."""
+    loaded = runs(store_path, suite)
+    if loaded.empty:
+        raise InputError(f"{store_path}: no stored runs for suite '{suite}'; run it first")
+    name = str(loaded["suite"].iloc[0])
+    return analyse(loaded, settings_of(suite), graph_homophily(store_path, name))
+
+
+def analyse_each(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> list[SuiteReport]:
+    """One SuiteReport per suite among the runs, in stored order."""
+    return [analyse(runs[runs["suite"] == name], settings) for name in runs["suite"].unique()]

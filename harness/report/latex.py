@@ -1,0 +1,70 @@
+"""The report's tables as a LaTeX document with booktabs rules."""
+
+from __future__ import annotations
+
+from harness.api import SuiteReport
+from harness.report.tables import TextTable, all_tables
+
+_SPECIAL = {
+    "\\": r"\textbackslash{}",
+    "&": r"\&",
+    "%": r"\%",
+    "$": r"\$",
+    "#": r"\#",
+    "_": r"\_",
+    "{": r"\{",
+    "}": r"\}",
+    "~": r"\textasciitilde{}",
+    "^": r"\textasciicircum{}",
+    "<": r"\textless{}",
+    ">": r"\textgreater{}",
+    "±": r"$\pm$",
+    "−": "-",
+}
+
+
+def escape(text: str) -> str:
+    """Text safe in LaTeX's text mode: every special character replaced."""
+    return "".join(_SPECIAL.get(character, character) for character in str(text))
+
+
+def table(part: TextTable) -> str:
+    columns = "".join("r" if right else "l" for right in part.right)
+    lines = [
+        r"\begin{table}[htbp]",
+        r"\centering",
+        rf"\caption{{{escape(part.title)}}}",
+        r"\resizebox{\linewidth}{!}{%",
+        rf"\begin{{tabular}}{{{columns}}}",
+        r"\toprule",
+        " & ".join(escape(h) for h in part.header) + r" \\",
+        r"\midrule",
+    ]
+    lines += [" & ".join(escape(c) for c in row) + r" \\" for row in part.rows]
+    lines += [r"\bottomrule", r"\end{tabular}}"]
+    if part.note:
+        lines.append(rf"\par\smallskip\footnotesize {escape(part.note)}")
+    lines.append(r"\end{table}")
+    return "\n".join(lines)
+
+
+def render(report: SuiteReport) -> str:
+    """A standalone document; copy the table environments into a paper as they are."""
+    body = "\n\n".join(table(part) for part in all_tables(report))
+    return "\n".join(
+        [
+            r"\documentclass{article}",
+            r"\usepackage[T1]{fontenc}",
+            r"\usepackage[utf8]{inputenc}",
+            r"\usepackage{booktabs}",
+            r"\usepackage{graphicx}",
+            r"\usepackage[margin=2cm]{geometry}",
+            r"\begin{document}",
+            rf"\section*{{Heedful report: {escape(report.suite)}}}",
+            escape(report.headline),
+            "",
+            body,
+            r"\end{document}",
+            "",
+        ]
+    )

@@ -1,0 +1,49 @@
+"""The report as Markdown: pipe tables that render on common code hosts, plots as images."""
+
+from __future__ import annotations
+
+import re
+
+from harness.api import SuiteReport
+from harness.report.plots import PLOT_TITLES
+from harness.report.tables import TextTable, all_tables, facts, reasons
+
+# Markdown punctuation a name could use to start emphasis, links, math or code.
+_PUNCTUATION = re.compile(r"([\\`*_{}\[\]#!|$~])")
+
+
+def escape(text: str) -> str:
+    """Plain text for Markdown: entities for HTML, backslashes for Markdown punctuation."""
+    text = str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+    return _PUNCTUATION.sub(r"\\\1", text).replace("\n", " ")
+
+
+def table(part: TextTable) -> str:
+    def line(cells: tuple[str, ...]) -> str:
+        return "| " + " | ".join(escape(c) for c in cells) + " |"
+
+    rule = "| " + " | ".join("---:" if right else "---" for right in part.right) + " |"
+    lines = [f"## {escape(part.title)}", "", line(part.header), rule]
+    lines += [line(row) for row in part.rows]
+    if part.note:
+        lines += ["", escape(part.note)]
+    return "\n".join(lines)
+
+
+def render(report: SuiteReport, plots: list[str]) -> str:
+    """The whole report; `plots` names the PNG files written to plots/ next to it."""
+    parts = [
+        f"# Heedful report: {escape(report.suite)}",
+        "",
+        f"> {escape(report.headline)}",
+        "",
+        escape(facts(report)),
+    ]
+    for part in all_tables(report):
+        parts += ["", table(part)]
+        if part.name == "comparisons":
+            parts += ["", "Verdicts:", ""] + [f"- {escape(line)}" for line in reasons(report)]
+    if plots:
+        parts += ["", "## Plots", ""]
+        parts += [f"![{PLOT_TITLES[name]}](plots/{name}.png)" for name in plots]
+    return "\n".join(parts) + "\n"

@@ -1,0 +1,241 @@
+"""Report plots as PNG bytes, drawn with matplotlib's Agg canvas (no display, no pyplot).
+
+Drawing only: every plotted figure comes from a SuiteReport. Names from suite files are
+drawn as plain text (`text.parse_math` off), so `$x$` stays `$x$`.
+"""
+
+from __future__ import annotations
+
+import io
+from collections.abc import Callable
+
+import matplotlib
+import numpy as np
+from matplotlib.figure import Figure
+
+from harness.api import SuiteReport
+from harness.report.tables import metric_label
+from harness.verdict import BETTER, INCONCLUSIVE, NO_DIFFERENCE, WORSE
+
+SIDE_COLOURS = {"attention": "#c2571a", "baseline": "#2f6f9f"}
+VERDICT_COLOURS = {
+    BETTER: "#2e7d32",
+    WORSE: "#b71c1c",
+    NO_DIFFERENCE: "#607d8b",
+    INCONCLUSIVE: "#f9a825",
+}
+MAX_PANELS = 12
+STYLE = {"text.parse_math": False, "font.size": 9, "axes.spines.top": False}
+
+
+def _png(figure: Figure) -> bytes:
+    buffer = io.BytesIO()
+    figure.savefig(buffer, format="png", dpi=110, bbox_inches="tight")
+    return buffer.getvalue()
+
+
+def _height(rows: int) -> float:
+    return max(2.2, 0.45 * rows + 1.2)
+
+
+def contender_plot(report: SuiteReport) -> Figure:
+    """Each seed's test metric as a dot; the mean with its t-interval as a bar."""
+    table = report.contenders
+    figure = Figure(figsize=(7.5, _height(len(table))))
+    axes = figure.subplots()
+    for position, row in enumerate(table.itertuples()):
+        seeds = report.runs.loc[report.runs["variant"] == row.variant, "test_metric"]
+        colour = SIDE_COLOURS[row.side]
+        axes.scatter(seeds, np.full(len(seeds), position), s=14, alpha=0.45, color=colour)
+        if np.isfinite(row.t_low):
+            axes.plot([row.t_low, row.t_high], [position, position], color=colour, lw=2.5)
+        axes.plot(row.mean, position, marker="D", color=colour, markersize=7)
+    axes.set_yticks(range(len(table)), list(table["variant"]))
+    axes.invert_yaxis()
+    level = f"{report.settings.confidence:.0%}"
+    axes.set_xlabel(f"test {metric_label(report)} (dots: seeds; bar: {level} t-interval)")
+    axes.set_title("Contenders")
+    return figure
+
+
+def difference_plot(report: SuiteReport) -> Figure:
+    """Paired differences with t-intervals, coloured by verdict; band: ± minimum gain."""
+    table = report.comparisons
+    figure = Figure(figsize=(7.5, _height(len(table))))
+    axes = figure.subplots()
+    gain = report.settings.minimum_gain
+    axes.axvspan(-gain, gain, color="#eceff1", zorder=0, label=f"± minimum gain ({gain:g})")
+    axes.axvline(0, color="#455a64", lw=0.8)
+    for position, row in enumerate(table.itertuples()):
+        colour = VERDICT_COLOURS[row.verdict]
+        if np.isfinite(row.t_low):
+            axes.plot([row.t_low, row.t_high], [position, position], color=colour, lw=2.5)
+        axes.plot(row.mean_difference, position, "o", color=colour, label=row.verdict)
+    labels = [f"{r.attention} − {r.baseline}" for r in table.itertuples()]
+    axes.set_yticks(range(len(table)), labels)
+    axes.invert_yaxis()
+    handles, names = axes.get_legend_handles_labels()
+    unique = dict(zip(names, handles, strict=True))
+    axes.legend(unique.values(), unique.keys(), loc="best", fontsize=8, frameon=False)
+    axes.set_xlabel(f"difference in {metric_label(report)} points (attention minus baseline)")
+    axes.set_title("Paired differences on shared seeds")
+    return figure
+
+
+def ablation_plot(report: SuiteReport) -> Figure:
+    """One panel per (contender, axis): level means with t-intervals."""
+    levels = report.ablation.levels
+    panels = list(levels.groupby(["contender", "axis"], sort=False))[:MAX_PANELS]
+    columns = min(3, len(panels))
+    rows = -(-len(panels) // columns)
+    figure = Figure(figsize=(3.4 * columns, 2.8 * rows))
+    grid = np.atleast_1d(figure.subplots(rows, columns, squeeze=False)).ravel()
+    for axes, ((contender, axis), group) in zip(grid, panels, strict=False):
+        x = np.arange(len(group))
+        low = (group["mean"] - group["t_low"]).to_numpy()
+        high = (group["t_high"] - group["mean"]).to_numpy()
+        axes.errorbar(x, group["mean"], yerr=[low, high], fmt="o-", color="#6a1b9a", capsize=3)
+        axes.set_xticks(x, list(group["level"]))
+        axes.set_xlabel(axis)
+        axes.set_title(str(contender), fontsize=9)
+        axes.set_ylabel(f"test {metric_label(report)}")
+    for axes in grid[len(panels) :]:
+        axes.set_visible(False)
+    figure.suptitle("Ablation axes: level means with t-intervals")
+    figure.tight_layout()
+    return figure
+
+
+def cost_plot(report: SuiteReport) -> Figure:
+    """Metric against each cost; Pareto-optimal contenders filled and joined."""
+    table = report.cost
+    figure = Figure(figsize=(11, 3.6))
+    panels = figure.subplots(1, 3)
+    costs = (
+        ("seconds_per_epoch", "pareto_seconds", "seconds per epoch"),
+        ("params", "pareto_params", "parameters"),
+        ("peak_mb", "pareto_memory", "peak memory (MB)"),
+    )
+    for axes, (column, mark, name) in zip(panels, costs, strict=True):
+        for row in table.itertuples():
+            optimal = getattr(row, mark)
+            colour = SIDE_COLOURS[row.side]
+            axes.scatter(
+                getattr(row, column),
+                row.mean,
+                s=45,
+                color=colour if optimal else "white",
+                edgecolors=colour,
+                zorder=3,
+            )
+            axes.annotate(
+                row.variant,
+                (getattr(row, column), row.mean),
+                fontsize=7,
+                xytext=(4, 3),
+                textcoords="offset points",
+            )
+        front = table[table[mark]].sort_values(column)
+        axes.step(front[column], front["mean"], where="post", color="#9e9e9e", lw=1, zorder=1)
+        axes.set_xlabel(name)
+        axes.set_ylabel(f"mean test {metric_label(report)}")
+    figure.suptitle("Cost trade-off (filled: Pareto-optimal)")
+    figure.tight_layout()
+    return figure
+
+
+def attention_plot(report: SuiteReport) -> Figure:
+    """Per attention variant: entropy ratio, self share and same-label share, each against
+    what uniform attention over the same neighbourhoods would give."""
+    table = report.attention
+    figure = Figure(figsize=(11, _height(len(table))))
+    panels = figure.subplots(1, 3, sharey=True)
+    y = np.arange(len(table))
+    pairs = (
+        ("entropy_ratio", None, "entropy / uniform (1 = uniform)"),
+        ("self_share", "uniform_self_share", "self share"),
+        ("same_label_share", "neighbour_homophily", "same-label share"),
+    )
+    for axes, (measure, chance, title) in zip(panels, pairs, strict=True):
+        axes.barh(y, table[measure].fillna(0), color="#c2571a", label="attention")
+        if chance is None:
+            axes.axvline(1.0, color="#455a64", lw=1, ls="--", label="uniform")
+        else:
+            axes.scatter(table[chance], y, marker="|", s=300, color="#263238", label="uniform")
+        axes.set_title(title, fontsize=9)
+        axes.set_xlim(0, 1.05)
+    panels[0].set_yticks(y, list(table["variant"]))
+    panels[0].invert_yaxis()
+    panels[-1].legend(loc="lower right", fontsize=8, frameon=False)
+    figure.suptitle("Attention diagnostics (mean over layers, heads and seeds)")
+    figure.tight_layout()
+    return figure
+
+
+def homophily_plot(report: SuiteReport) -> Figure:
+    """The graph's homophily measures, and where each attention variant's same-label share
+    lies against the share of same-label neighbours (above the diagonal: attention prefers
+    same-label neighbours)."""
+    panels_wanted = [not report.homophily.empty, not report.attention.empty]
+    figure = Figure(figsize=(4.6 * sum(panels_wanted), 3.8))
+    panels = list(np.atleast_1d(figure.subplots(1, sum(panels_wanted))))
+    if panels_wanted[0]:
+        axes = panels.pop(0)
+        measures = report.homophily
+        axes.barh(range(len(measures)), measures["value"], color="#2f6f9f")
+        names = [m.replace("_", " ") for m in measures["measure"]]
+        axes.set_yticks(range(len(measures)), names)
+        axes.invert_yaxis()
+        axes.axvline(0, color="#455a64", lw=0.8)
+        axes.set_title("graph homophily (stored profile)", fontsize=9)
+    if panels_wanted[1]:
+        axes = panels.pop(0)
+        table = report.attention
+        axes.plot([0, 1], [0, 1], color="#9e9e9e", lw=1, ls="--")
+        axes.scatter(table["neighbour_homophily"], table["same_label_share"], color="#c2571a")
+        for row in table.itertuples():
+            axes.annotate(
+                row.variant,
+                (row.neighbour_homophily, row.same_label_share),
+                fontsize=7,
+                xytext=(4, 3),
+                textcoords="offset points",
+            )
+        axes.set_xlim(0, 1)
+        axes.set_ylim(0, 1)
+        axes.set_xlabel("same-label share of neighbours (uniform attention)")
+        axes.set_ylabel("same-label share of attention")
+        axes.set_title("attention against the graph", fontsize=9)
+    figure.suptitle("Homophily map")
+    figure.tight_layout()
+    return figure
+
+
+def _present(report: SuiteReport) -> dict[str, Callable[[SuiteReport], Figure]]:
+    plots: dict[str, Callable[[SuiteReport], Figure]] = {"contenders": contender_plot}
+    if not report.comparisons.empty:
+        plots["differences"] = difference_plot
+    if not report.ablation.levels.empty:
+        plots["ablation"] = ablation_plot
+    plots["cost"] = cost_plot
+    if not report.attention.empty:
+        plots["attention"] = attention_plot
+    if not report.homophily.empty or not report.attention.empty:
+        plots["homophily"] = homophily_plot
+    return plots
+
+
+PLOT_TITLES = {
+    "contenders": "Contenders with intervals",
+    "differences": "Paired differences",
+    "ablation": "Ablation axes",
+    "cost": "Cost trade-off",
+    "attention": "Attention diagnostics",
+    "homophily": "Homophily map",
+}
+
+
+def figures(report: SuiteReport) -> dict[str, bytes]:
+    """PNG bytes of every plot the report's data supports, by name; absent data, no plot."""
+    with matplotlib.rc_context(STYLE):
+        return {name: _png(draw(report)) for name, draw in _present(report).items()}

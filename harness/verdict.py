@@ -1,0 +1,190 @@
+"""Verdicts: what each paired comparison says, and one headline sentence per suite.
+
+Rules, applied in order to the paired t-interval [low, high] of the mean difference
+(attention minus baseline, metric points), with m the suite's minimum gain and alpha = 1 -
+confidence:
+
+1. fewer than two shared seeds: inconclusive;
+2. -m < low and high < m: no difference that matters (even when the interval excludes 0);
+3. low > 0 and Holm-adjusted p < alpha: better;
+4. high < 0 and Holm-adjusted p < alpha: worse;
+5. otherwise: inconclusive, with the number of seeds that would likely settle it.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+from scipy import stats as scipy_stats
+
+from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
+
+BETTER, WORSE, NO_DIFFERENCE, INCONCLUSIVE = (
+    "better",
+    "worse",
+    "no difference that matters",
+    "inconclusive",
+)
+SEED_CAP = 10_000
+METRIC_LABELS = {"accuracy": "accuracy", "macro_f1": "macro-F1", "roc_auc": "ROC-AUC"}
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """The verdict of one comparison and why."""
+
+    verdict: str
+    reason: str
+    seeds_needed: int | None
+
+
+def _smallest_n(spread: float, target: float, level: float) -> int:
+    """Smallest n >= 2 with t_{level, n-1} * spread / sqrt(n) < target, capped at SEED_CAP."""
+    if spread == 0:
+        return 2
+    n = max(2, math.ceil((scipy_stats.norm.ppf(level) * spread / target) ** 2))
+    while n < SEED_CAP and scipy_stats.t.ppf(level, n - 1) * spread / math.sqrt(n) >= target:
+        n += 1
+    return min(n, SEED_CAP)
+
+
+def seeds_to_settle(
+    mean_difference: float,
+    std_difference: float,
+    minimum_gain: float,
+    confidence: float,
+    comparisons: int = 1,
+) -> int | None:
+    """Seeds that would likely settle an inconclusive comparison, if mean and spread hold.
+
+    With n seeds, the paired t-interval has half-width h(n) = t_{q, n-1} * s / sqrt(n), s the
+    standard deviation of the per-seed differences. For an observed mean difference d,
+    minimum gain m, alpha = 1 - confidence and k comparisons in the suite, the comparison
+    settles at the smallest n where either
+      - the interval excludes 0 at the Bonferroni level, which bounds Holm's adjustment from
+        above: t_{1 - alpha / (2k), n-1} * s / sqrt(n) < |d|, or
+      - the interval fits inside (-m, m): t_{1 - alpha / 2, n-1} * s / sqrt(n) < m - |d|.
+    This is a precision-based sample size (common practice); it assumes d and s stay as
+    observed. None when neither can happen (d = 0 and m = 0 or s unknown); capped at SEED_CAP.
+    """
+    d, s = abs(mean_difference), std_difference
+    alpha = 1 - confidence
+    if not np.isfinite(s) or not np.isfinite(d):
+        return None
+    candidates = []
+    if d > 0:
+        candidates.append(_smallest_n(s, d, 1 - alpha / (2 * max(1, comparisons))))
+    if minimum_gain - d > 0:
+        candidates.append(_smallest_n(s, minimum_gain - d, 1 - alpha / 2))
+    return min(candidates) if candidates else None
+
+
+def judge(row: pd.Series, settings: Analysis, comparisons: int = 1) -> Verdict:
+    """The verdict of one row of stats.paired_comparisons (one of `comparisons` in its suite)."""
+    m, alpha = settings.minimum_gain, 1 - settings.confidence
+    low, high, p = row["t_low"], row["t_high"], row["p_t_holm"]
+    level = f"{settings.confidence:.0%}"
+    span = f"{level} interval {signed(low)} to {signed(high)} points"
+    if row["seeds"] < 2:
+        return Verdict(INCONCLUSIVE, f"only {row['seeds']} shared seed(s); need at least 2", None)
+    if -m < low and high < m:
+        return Verdict(NO_DIFFERENCE, f"{span} lies inside ±{m:g}, the minimum gain", None)
+    if low > 0 and p < alpha:
+        note = f"; the gain may be below the minimum gain of {m:g}" if low < m else ""
+        return Verdict(BETTER, f"{span} excludes 0, Holm-adjusted {p_phrase(p)}{note}", None)
+    if high < 0 and p < alpha:
+        note = f"; the loss may be below the minimum gain of {m:g}" if high > -m else ""
+        return Verdict(WORSE, f"{span} excludes 0, Holm-adjusted {p_phrase(p)}{note}", None)
+    needed = seeds_to_settle(
+        row["mean_difference"], row["std_difference"], m, settings.confidence, comparisons
+    )
+    if (low > 0 or high < 0) and not p < alpha:
+        why = f"{span} excludes 0 but Holm-adjusted {p_phrase(p)} is not below {alpha:g}"
+    else:
+        why = f"{span} is wider than the minimum gain of ±{m:g} allows to decide"
+    more = (
+        f"; about {needed} seeds would likely settle it"
+        if needed is not None and needed < SEED_CAP
+        else "; no practical number of seeds would settle it at this spread"
+    )
+    return Verdict(INCONCLUSIVE, why + more, needed)
+
+
+def judge_all(comparisons: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:
+    """The comparisons with `verdict`, `reason` and `seeds_needed` columns added."""
+    out = comparisons.copy()
+    if out.empty:
+        return out.assign(verdict=[], reason=[], seeds_needed=[])
+    family = comparisons.groupby("suite")["suite"].transform("size")
+    verdicts = [judge(row, settings, family[i]) for i, row in comparisons.iterrows()]
+    out["verdict"] = [v.verdict for v in verdicts]
+    out["reason"] = [v.reason for v in verdicts]
+    out["seeds_needed"] = pd.array([v.seeds_needed for v in verdicts], dtype="Int64")
+    return out
+
+
+def signed(value: float, digits: int = 1) -> str:
+    return "nan" if not np.isfinite(value) else f"{value:+.{digits}f}"
+
+
+def p_phrase(p: float) -> str:
+    """`p = 0.012` or `p < 0.001`."""
+    text = p_text(p)
+    return f"p {text}" if text.startswith("<") else f"p = {text}"
+
+
+def p_text(p: float) -> str:
+    if not np.isfinite(p):
+        return "n/a"
+    return "< 0.001" if p < 0.001 else f"{p:.2g}" if p < 0.1 else f"{p:.2f}"
+
+
+def label(row: pd.Series) -> str:
+    """A variant with its model kind and, for attention kinds, its heads."""
+    heads = row.get("heads")
+    extra = f", {int(heads)} heads" if heads is not None and not pd.isna(heads) else ""
+    return f"{row['variant']} ({row['model']}{extra})"
+
+
+def headline(contenders: pd.DataFrame, judged: pd.DataFrame, settings: Analysis) -> str:
+    """One sentence: the best attention variant against the best baseline of a suite.
+
+    `contenders` is stats.describe of one suite and `judged` its judge_all comparisons.
+    """
+    attention = contenders[contenders["side"] == "attention"]
+    baselines = contenders[contenders["side"] == "baseline"]
+    if attention.empty or baselines.empty:
+        missing = "attention contender" if attention.empty else "baseline"
+        return f"No comparison: the suite has no {missing}."
+    best_a = attention.loc[attention["mean"].idxmax()]
+    best_b = baselines.loc[baselines["mean"].idxmax()]
+    row = judged[
+        (judged["attention"] == best_a["variant"]) & (judged["baseline"] == best_b["variant"])
+    ].iloc[0]
+    metric = METRIC_LABELS.get(best_a["metric"], best_a["metric"])
+    level = f"{settings.confidence:.0%}"
+    facts = (
+        f"{level} CI {signed(row['t_low'])} to {signed(row['t_high'])}, Holm-adjusted "
+        f"{p_phrase(row['p_t_holm'])}, {row['seeds']} seeds"
+    )
+    a, b, d = label(best_a), label(best_b), signed(row["mean_difference"])
+    if row["verdict"] == BETTER:
+        return f"{a} beats the best baseline, {b}, by {d} {metric} points ({facts})."
+    if row["verdict"] == WORSE:
+        return f"{a} trails the best baseline, {b}, by {d} {metric} points ({facts})."
+    if row["verdict"] == NO_DIFFERENCE:
+        return (
+            f"{a} and the best baseline, {b}, differ by {d} {metric} points ({facts}): no "
+            f"difference that matters at a minimum gain of {settings.minimum_gain:g} points."
+        )
+    settle = (
+        f"; about {row['seeds_needed']} seeds would likely settle it"
+        if not pd.isna(row["seeds_needed"]) and row["seeds_needed"] < SEED_CAP
+        else ""
+    )
+    return (
+        f"{a} against the best baseline, {b}: inconclusive, {d} {metric} points ({facts}){settle}."
+    )
