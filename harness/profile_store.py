@@ -10,7 +10,9 @@ from pathlib import Path
 
 from pydantic import BaseModel
 
-from harness.data.profile import DatasetProfile
+from harness.data import load_graph
+from harness.data.assemble import cleaning_notes
+from harness.data.profile import DatasetProfile, profile_graph
 from harness.store import connect
 
 SCHEMA = """
@@ -56,3 +58,16 @@ def load_profiles(path: str | Path, suite: str) -> list[DatasetProfile]:
             "SELECT profile FROM profiles WHERE suite = ? ORDER BY stored_at", (suite,)
         ).fetchall()
     return [DatasetProfile.from_dict(json.loads(text)) for (text,) in rows]
+
+
+def suite_profile(suite: BaseModel, source: str) -> tuple[DatasetProfile, list[str]]:
+    """The profile of a suite's data, and notes on what loading had to clean."""
+    data = load_graph(suite.data)
+    return profile_graph(data), cleaning_notes(data, f"{source}: data")
+
+
+def record_profile(suite: BaseModel, path: str | Path) -> DatasetProfile:
+    """Profile a suite's data and store it with the suite's runs (called by `heedful run`)."""
+    profile, _ = suite_profile(suite, suite.name)
+    save_profile(path, suite.name, suite.data, profile)
+    return profile

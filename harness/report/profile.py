@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import json
+
 from rich.console import Console
 from rich.table import Table
 
@@ -45,3 +47,10 @@ def print_profile(profile: DatasetProfile, console: Console, notes: tuple[str, .
     console.print(table)
     for note in notes:
         console.print(f"note: {note}")
+
+
+def profile_json(profile: DatasetProfile) -> str:
+    """The profile as JSON; undefined homophily (one class) is written as null."""
+    values = profile.as_dict()
+    values["homophily"] = {k: (None if v != v else v) for k, v in values["homophily"].items()}
+    return json.dumps(values, indent=2)
