@@ -1,0 +1,96 @@
+"""Rich rendering of what tuning did; every figure comes from harness.tuning_results."""
+
+from __future__ import annotations
+
+import math
+
+import pandas as pd
+from rich.console import Console, Group
+from rich.table import Table
+
+from harness.report.terminal import number
+
+SPARK = "▁▂▃▄▅▆▇█"
+
+
+def sparkline(values: list[float], width: int = 40) -> str:
+    """The curve squeezed to `width` characters, low to high."""
+    if not values:
+        return ""
+    step = max(1, math.ceil(len(values) / width))
+    points = [max(values[i : i + step]) for i in range(0, len(values), step)]
+    low, high = min(points), max(points)
+    span = (high - low) or 1.0
+    return "".join(SPARK[int((p - low) / span * (len(SPARK) - 1))] for p in points)
+
+
+def budget_text(row: pd.Series) -> str:
+    parts = []
+    if not pd.isna(row["budget_trials"]):
+        parts.append(f"{int(row['budget_trials'])} trials")
+    if not pd.isna(row["budget_seconds"]):
+        parts.append(f"{row['budget_seconds']:g} s")
+    return " or ".join(parts)
+
+
+def tuning_tables(
+    summary: pd.DataFrame,
+    settings: pd.DataFrame,
+    curves: pd.DataFrame,
+    parameters: pd.DataFrame | None = None,
+) -> Group:
+    """Budget use per contender, best settings with importances, best curves, sizing."""
+    used = Table(title="Tuning: the same budget for every contender", title_justify="left")
+    for header in ("contender", "model", "budget", "completed", "pruned", "failed", "seconds"):
+        used.add_column(header, justify="left" if header in ("contender", "model") else "right")
+    used.add_column("epochs", justify="right")
+    used.add_column("best validation", justify="right")
+    used.add_column("validation curve of the best trial")
+    for _, row in summary.iterrows():
+        curve = curves[curves["contender"] == row["contender"]]["validation"].tolist()
+        used.add_row(
+            str(row["contender"]),
+            str(row["model"]),
+            budget_text(row),
+            str(row["completed"]),
+            str(row["pruned"]),
+            str(row["failed"]),
+            number(row["seconds"], 1),
+            str(row["epochs"]),
+            number(row["best_validation"]),
+            sparkline(curve),
+        )
+    chosen = Table(title="Best settings and their importance (fANOVA)", title_justify="left")
+    for header in ("contender", "setting", "value", "importance"):
+        chosen.add_column(header, justify="right" if header == "importance" else "left")
+    for _, row in settings.iterrows():
+        value = row["value"]
+        shown = f"{value:.4g}" if isinstance(value, float) else str(value)
+        chosen.add_row(row["contender"], row["setting"], shown, number(row["importance"], 2))
+    parts = [used, chosen]
+    if parameters is not None and not parameters.empty:
+        sized = Table(
+            title="Equal parameters: hidden width sized to the target", title_justify="left"
+        )
+        for header in ("contender", "hidden", "params", "target", "deviation"):
+            sized.add_column(header, justify="left" if header == "contender" else "right")
+        for _, row in parameters.iterrows():
+            sized.add_row(
+                row["contender"],
+                str(row["hidden"]),
+                f"{row['params']:,}",
+                f"{row['target']:,}",
+                f"{row['deviation']:+.1%}",
+            )
+        parts.append(sized)
+    return Group(*parts)
+
+
+def print_tuning(
+    summary: pd.DataFrame,
+    settings: pd.DataFrame,
+    curves: pd.DataFrame,
+    parameters: pd.DataFrame | None = None,
+    console: Console | None = None,
+) -> None:
+    (console or Console()).print(tuning_tables(summary, settings, curves, parameters))

@@ -1,0 +1,208 @@
+"""Fair tuning: one Optuna study per contender and data, on validation data only.
+
+Each trial samples settings from the contender's search space (tree-structured Parzen
+estimator, Bergstra et al., 2011, seeded), trains on the train nodes of the tuning seed's split
+and reports the best validation score so far after every epoch, so that a median or successive
+halving pruner (Jamieson and Talwalkar, 2016; Li et al., 2018) can stop hopeless trials. The test
+nodes are dropped from the split before training. After tuning, the best settings run as
+seeded repeats (harness/workers.py), and only those runs reach the result store.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+from typing import Any
+
+import numpy as np
+import optuna
+from optuna.samplers import BaseSampler, TPESampler
+from optuna.trial import FrozenTrial, Trial
+
+import harness
+from harness.schema.suite import Suite
+from harness.schema.training import Training
+from harness.schema.tuning import (
+    TRAINING_KEYS,
+    Range,
+    SpaceEntry,
+    Tuning,
+    is_integer_option,
+    spaces,
+)
+from harness.suite import RunSpec, expand
+from harness.train import perform
+
+Settings = dict[str, Any]
+
+
+class TrialSeededSampler(BaseSampler):
+    """TPE whose random state depends only on (seed, trial number).
+
+    Workers sharing a study then propose different settings for different trials, and a
+    single worker reproduces its proposals exactly.
+    """
+
+    def __init__(self, seed: int, startup_trials: int) -> None:
+        self.seed = seed
+        self.startup_trials = startup_trials
+        self._current: tuple[int, TPESampler] | None = None
+
+    def _tpe(self, trial: FrozenTrial | Trial) -> TPESampler:
+        if self._current is None or self._current[0] != trial.number:
+            state = np.random.SeedSequence([self.seed, trial.number]).generate_state(1)[0]
+            sampler = TPESampler(seed=int(state), n_startup_trials=self.startup_trials)
+            self._current = (trial.number, sampler)
+        return self._current[1]
+
+    def infer_relative_search_space(self, study, trial):  # noqa: ANN001, ANN201
+        return self._tpe(trial).infer_relative_search_space(study, trial)
+
+    def sample_relative(self, study, trial, search_space):  # noqa: ANN001, ANN201
+        return self._tpe(trial).sample_relative(study, trial, search_space)
+
+    def sample_independent(self, study, trial, param_name, param_distribution):  # noqa: ANN001, ANN201
+        return self._tpe(trial).sample_independent(study, trial, param_name, param_distribution)
+
+    def before_trial(self, study, trial):  # noqa: ANN001, ANN201
+        self._tpe(trial).before_trial(study, trial)
+
+    def after_trial(self, study, trial, state, values):  # noqa: ANN001, ANN201
+        self._tpe(trial).after_trial(study, trial, state, values)
+
+
+def startup_trials(tuning: Tuning) -> int:
+    """Random trials before TPE models the history: a quarter of the budget, 2 to 10."""
+    return 10 if tuning.trials is None else min(10, max(2, tuning.trials // 4))
+
+
+def make_sampler(tuning: Tuning) -> BaseSampler:
+    return TrialSeededSampler(tuning.seed, startup_trials(tuning))
+
+
+def make_pruner(tuning: Tuning, epochs: int) -> optuna.pruners.BasePruner:
+    """Median or successive halving; neither judges a trial in its first tenth of epochs."""
+    warmup = max(3, epochs // 10)
+    if tuning.pruner == "median":
+        return optuna.pruners.MedianPruner(
+            n_startup_trials=startup_trials(tuning), n_warmup_steps=warmup
+        )
+    if tuning.pruner == "halving":
+        return optuna.pruners.SuccessiveHalvingPruner(min_resource=warmup, reduction_factor=3)
+    return optuna.pruners.NopPruner()
+
+
+def digest(content: Any) -> str:
+    text = json.dumps(content, sort_keys=True, separators=(",", ":"), default=str)
+    return hashlib.sha256(text.encode()).hexdigest()[:16]
+
+
+def study_name(base: RunSpec, space: dict[str, SpaceEntry], tuning: Tuning) -> str:
+    """Names the study by everything that shapes its trials; the budget may grow later."""
+    shaping = {
+        "data": base.data.model_dump(mode="json"),
+        "split": base.split.model_dump(mode="json"),
+        "options": base.options.model_dump(mode="json", exclude={"training"}),
+        "training": base.training.model_dump(mode="json"),
+        "metric": base.metric,
+        "setting": base.setting,
+        "seed": base.seed,
+        "space": {k: v if isinstance(v, list) else v.model_dump() for k, v in space.items()},
+        "tuning": tuning.model_dump(mode="json", include={"seed", "pruner", "equal_parameters"}),
+        "version": harness.__version__,
+    }
+    return f"{base.suite}:{base.contender}:{digest(shaping)}"
+
+
+def suggest(trial: Trial, space: dict[str, SpaceEntry], options: Any) -> Settings:
+    """One value per search-space entry, drawn through the trial's sampler."""
+    settings: Settings = {}
+    for key, entry in space.items():
+        if isinstance(entry, Range):
+            if is_integer_option(options, key):
+                settings[key] = trial.suggest_int(
+                    key, int(entry.low), int(entry.high), log=entry.log
+                )
+            else:
+                settings[key] = trial.suggest_float(key, entry.low, entry.high, log=entry.log)
+        else:
+            settings[key] = trial.suggest_categorical(key, list(entry))
+    return settings
+
+
+def with_settings(base: RunSpec, settings: Settings) -> RunSpec:
+    """The spec with tuned options and training settings (validated by the schema)."""
+    option_changes = {k: v for k, v in settings.items() if k not in TRAINING_KEYS}
+    training_changes = {k: v for k, v in settings.items() if k in TRAINING_KEYS}
+    options = type(base.options).model_validate({**base.options.model_dump(), **option_changes})
+    training = Training.model_validate({**base.training.model_dump(), **training_changes})
+    return replace(base, options=options, training=training)
+
+
+def objective_for(
+    base: RunSpec,
+    space: dict[str, SpaceEntry],
+    admit: Callable[[Trial], None],
+    sizing: Callable[[RunSpec], RunSpec] | None = None,
+) -> Callable[[Trial], float]:
+    """The trial function: `admit` may refuse a trial beyond the budget (before and after)."""
+
+    def objective(trial: Trial) -> float:
+        admit(trial)
+        spec = with_settings(base, suggest(trial, space, base.options))
+        if sizing is not None:
+            spec = sizing(spec)
+            trial.set_user_attr("hidden", spec.options.hidden)
+        best = -float("inf")
+
+        def on_epoch(epoch: int, value: float) -> None:
+            nonlocal best
+            best = max(best, value)
+            trial.report(best, epoch)  # best so far: a steadier signal for the pruner
+            if trial.should_prune():
+                raise optuna.TrialPruned()
+
+        result = perform(spec, on_epoch, validation_only=True)
+        admit(trial)
+        trial.set_user_attr("curve", [round(v, 6) for v in result.curve])
+        trial.set_user_attr("params", result.params)
+        return result.val_metric
+
+    return objective
+
+
+def best_settings(study: optuna.Study) -> Settings:
+    """The best completed trial's settings (its sized hidden width included)."""
+    best = study.best_trial
+    settings = dict(best.params)
+    if "hidden" in best.user_attrs:
+        settings["hidden"] = best.user_attrs["hidden"]
+    return settings
+
+
+@dataclass(frozen=True)
+class Plan:
+    """One contender's tuning: its untuned spec on the tuning seed, its space and study."""
+
+    contender: str
+    base: RunSpec
+    space: dict[str, SpaceEntry]
+    study: str
+
+
+def tuning_plan(suite: Suite) -> list[Plan]:
+    """A plan per contender, in suite order; trials use the split of the suite's first seed."""
+    assert suite.tuning is not None
+    first = suite.seed_list[0]
+    bases = {spec.contender: spec for spec in expand(suite) if spec.seed == first}
+    return [
+        Plan(name, bases[name], space, study_name(bases[name], space, suite.tuning))
+        for name, space in spaces(suite.tuning, suite.contenders).items()
+    ]
+
+
+def repeats_study_name(suite: Suite, plans: list[Plan]) -> str:
+    """The study whose enqueued trials are the seeded repeats of the tuned settings."""
+    return f"{suite.name}:repeats:{digest([[p.study for p in plans], suite.seed_list])}"

@@ -1,0 +1,323 @@
+"""Shared execution of a tuned suite through Optuna's storage: any number of worker processes,
+on one machine or many, pointed at the same storage cooperate without a queue of our own.
+
+Tuning trials: every worker joins each contender's study. A trial is admitted only while
+fewer than `trials` live trials (waiting, running, finished) have a smaller id, checked when it
+starts and again before it reports, so a study never holds more finished trials than the
+budget; a refused trial is marked failed and never counted.
+Repeats: the seeded repeats are trials enqueued in one repeats study; popping a waiting trial
+is atomic in Optuna's storage, and of two live trials for one (contender, seed) only the one
+with the smaller id runs. A killed worker's trial loses its heartbeat, is marked failed by the
+next worker that looks and is queued again with the same settings (RetryFailedTrialCallback).
+"""
+
+from __future__ import annotations
+
+import logging
+import multiprocessing
+import signal
+import time
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+import optuna
+import torch
+from optuna.trial import FrozenTrial, Trial, TrialState
+
+from harness import store
+from harness.execute import record_of, threads_per_worker
+from harness.schema.suite import Suite
+from harness.schema.tuning import Tuning
+from harness.sizing import sizer, target_count
+from harness.suite import expand, load_suite
+from harness.train import perform
+from harness.tune import (
+    Plan,
+    best_settings,
+    make_pruner,
+    make_sampler,
+    objective_for,
+    repeats_study_name,
+    tuning_plan,
+    with_settings,
+)
+from harness.tuning_storage import open_storage
+
+FINISHED = (TrialState.COMPLETE, TrialState.PRUNED)
+LIVE = (TrialState.COMPLETE, TrialState.PRUNED, TrialState.RUNNING, TrialState.WAITING)
+POLL_SECONDS = 0.5
+
+
+class SurplusTrial(Exception):
+    """A trial beyond the budget, or a second trial for one repeat: marked failed, not counted."""
+
+
+@dataclass(frozen=True)
+class Usage:
+    """What a study has used of its budget so far."""
+
+    completed: int
+    pruned: int
+    running: int
+    waiting: int
+    failed: int
+    seconds: float
+
+    @property
+    def finished(self) -> int:
+        return self.completed + self.pruned
+
+
+def trial_seconds(trial: FrozenTrial) -> float:
+    if trial.datetime_start is None or trial.datetime_complete is None:
+        return 0.0
+    return (trial.datetime_complete - trial.datetime_start).total_seconds()
+
+
+def usage(study: optuna.Study) -> Usage:
+    trials = study.get_trials(deepcopy=False)
+
+    def count(state: TrialState) -> int:
+        return sum(1 for t in trials if t.state == state)
+
+    return Usage(
+        completed=count(TrialState.COMPLETE),
+        pruned=count(TrialState.PRUNED),
+        running=count(TrialState.RUNNING),
+        waiting=count(TrialState.WAITING),
+        failed=count(TrialState.FAIL),
+        seconds=sum(trial_seconds(t) for t in trials if t.state in FINISHED),
+    )
+
+
+def budget_spent(used: Usage, tuning: Tuning) -> bool:
+    """The budget is spent when the trials or the seconds of training are used up."""
+    by_trials = tuning.trials is not None and used.finished >= tuning.trials
+    by_seconds = tuning.seconds is not None and used.seconds >= tuning.seconds
+    return by_trials or by_seconds
+
+
+def has_room(used: Usage, tuning: Tuning) -> bool:
+    """Room for another trial: budget left, and a queued retry or trials not yet started."""
+    if budget_spent(used, tuning):
+        return False
+    busy = used.finished + used.running + used.waiting
+    return used.waiting > 0 or tuning.trials is None or busy < tuning.trials
+
+
+def trial_id(trial: Trial | FrozenTrial) -> int:
+    # Optuna numbers trials per study from the storage's trial id; the id orders creation
+    return trial._trial_id
+
+
+def admission(study: optuna.Study, tuning: Tuning) -> Callable[[Trial], None]:
+    """Raises SurplusTrial for a trial beyond the budget."""
+
+    def admit(trial: Trial) -> None:
+        trials = study.get_trials(deepcopy=False, states=LIVE)
+        if tuning.trials is not None:
+            ahead = sum(1 for t in trials if trial_id(t) < trial_id(trial))
+            if ahead >= tuning.trials:
+                raise SurplusTrial(f"trial {trial.number} is beyond the budget")
+        if tuning.seconds is not None:
+            spent = sum(trial_seconds(t) for t in trials if t.state in FINISHED)
+            if spent >= tuning.seconds:
+                raise SurplusTrial(f"trial {trial.number} starts after the time budget")
+
+    return admit
+
+
+def take_share(study: optuna.Study, objective: Callable[[Trial], float], tuning: Tuning) -> None:
+    """Run trials of this study until the budget has no room for another."""
+
+    def stop_without_room(study: optuna.Study, _: FrozenTrial) -> None:
+        if not has_room(usage(study), tuning):
+            study.stop()
+
+    if has_room(usage(study), tuning):
+        study.optimize(objective, catch=(SurplusTrial,), callbacks=[stop_without_room])
+
+
+def settle(study: optuna.Study, objective: Callable[[Trial], float], tuning: Tuning) -> None:
+    """Wait until the budget is spent and no trial runs; take over trials of dead workers."""
+    while True:
+        optuna.storages.fail_stale_trials(study)
+        used = usage(study)
+        if budget_spent(used, tuning) and used.running == 0:
+            return
+        if has_room(used, tuning):
+            take_share(study, objective, tuning)
+        else:
+            time.sleep(POLL_SECONDS)
+
+
+@dataclass(frozen=True)
+class WorkOutcome:
+    """What one worker saw at the end: study names and repeats stored locally."""
+
+    studies: dict[str, str]
+    repeats_study: str
+    keys: frozenset[str]
+
+
+def tuning_studies(
+    suite: Suite, storage: optuna.storages.BaseStorage
+) -> tuple[list[Plan], dict[str, optuna.Study], Callable | None]:
+    """The contenders' studies (created if new) and the equal-parameter sizer, if any."""
+    tuning = suite.tuning
+    plans = tuning_plan(suite)
+    resize = None
+    if tuning.equal_parameters is not None:
+        resize = sizer(target_count(tuning.equal_parameters, {p.contender: p.base for p in plans}))
+    studies = {
+        plan.contender: optuna.create_study(
+            storage=storage,
+            study_name=plan.study,
+            direction="maximize",
+            sampler=make_sampler(tuning),
+            pruner=make_pruner(tuning, plan.base.training.epochs),
+            load_if_exists=True,
+        )
+        for plan in plans
+    }
+    return plans, studies, resize
+
+
+def work(suite: Suite, store_path: str | Path, storage_url: str) -> WorkOutcome:
+    """Take part in tuning every contender, then in the seeded repeats; store every repeat."""
+    optuna.logging.set_verbosity(logging.ERROR)  # refused trials are expected, not news
+    tuning = suite.tuning
+    storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)
+    plans, studies, resize = tuning_studies(suite, storage)
+    objectives = {
+        p.contender: objective_for(p.base, p.space, admission(studies[p.contender], tuning), resize)
+        for p in plans
+    }
+    for plan in plans:  # first pass: no waiting, so workers spread over contenders
+        take_share(studies[plan.contender], objectives[plan.contender], tuning)
+    for plan in plans:
+        settle(studies[plan.contender], objectives[plan.contender], tuning)
+    settings = {name: best_settings(study) for name, study in studies.items()}
+    repeats = optuna.create_study(
+        storage=storage,
+        study_name=repeats_study_name(suite, plans),
+        direction="maximize",
+        load_if_exists=True,
+    )
+    run_repeats(suite, repeats, settings, resize, store_path)
+    keys = sync_repeats(repeats, store_path)
+    return WorkOutcome({p.contender: p.study for p in plans}, repeats.study_name, keys)
+
+
+def enqueue_missing(study: optuna.Study, wanted: list[tuple[str, int]]) -> None:
+    live = {
+        (t.user_attrs.get("contender"), t.user_attrs.get("seed"))
+        for t in study.get_trials(deepcopy=False, states=LIVE)
+    }
+    for contender, seed in wanted:
+        if (contender, seed) not in live:
+            study.enqueue_trial(
+                {"contender": contender, "seed": seed},
+                user_attrs={"contender": contender, "seed": seed},
+            )
+
+
+def run_repeats(
+    suite: Suite,
+    study: optuna.Study,
+    settings: dict[str, dict],
+    resize: Callable | None,
+    store_path: str | Path,
+) -> None:
+    """Run enqueued repeats until every (contender, seed) has a completed trial."""
+    specs = {(s.contender, s.seed): s for s in expand(suite)}
+    wanted = list(specs)
+    names, seeds = list(suite.contenders), suite.seed_list
+
+    def first_live(trial: Trial, key: tuple[str, int]) -> None:
+        for other in study.get_trials(deepcopy=False, states=LIVE):
+            same = (other.user_attrs.get("contender"), other.user_attrs.get("seed")) == key
+            if same and trial_id(other) < trial_id(trial):
+                raise SurplusTrial(f"repeat {key} is already taken by trial {other.number}")
+
+    def objective(trial: Trial) -> float:
+        key = (trial.user_attrs.get("contender"), trial.user_attrs.get("seed"))
+        if key not in specs:
+            raise SurplusTrial(f"trial {trial.number} is not an enqueued repeat")
+        trial.suggest_categorical("contender", names)
+        trial.suggest_int("seed", min(seeds), max(seeds))
+        first_live(trial, key)
+        spec = with_settings(specs[key], settings[key[0]])
+        spec = resize(spec) if resize is not None else spec
+        result = perform(spec)
+        extras = {**result.extras, "tuned": settings[key[0]]}
+        record = record_of(spec, replace(result, extras=extras))
+        first_live(trial, key)
+        trial.set_user_attr("record", record)
+        store.save_run(store_path, record)
+        return result.val_metric
+
+    def stop_when_none_waiting(study: optuna.Study, _: FrozenTrial) -> None:
+        if usage(study).waiting == 0:
+            study.stop()
+
+    while True:
+        optuna.storages.fail_stale_trials(study)
+        enqueue_missing(study, wanted)
+        trials = study.get_trials(deepcopy=False)
+        done = {
+            (t.user_attrs.get("contender"), t.user_attrs.get("seed"))
+            for t in trials
+            if t.state == TrialState.COMPLETE
+        }
+        if all(key in done for key in wanted):
+            return
+        if any(t.state == TrialState.WAITING for t in trials):
+            study.optimize(objective, catch=(SurplusTrial,), callbacks=[stop_when_none_waiting])
+        else:
+            time.sleep(POLL_SECONDS)
+
+
+def sync_repeats(study: optuna.Study, store_path: str | Path) -> frozenset[str]:
+    """Copy every completed repeat into this machine's result store (stored once by key)."""
+    completed = study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,))
+    for trial in completed:
+        store.save_run(store_path, trial.user_attrs["record"])
+    return frozenset(trial.user_attrs["record"]["key"] for trial in completed)
+
+
+def _worker_setup(threads: int) -> None:
+    signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent decides what Ctrl-C does
+    torch.set_num_threads(threads)
+
+
+def _worker_task(suite_path: str, store_path: str, storage_url: str) -> WorkOutcome:
+    return work(load_suite(suite_path), store_path, storage_url)
+
+
+def work_in_processes(
+    suite_path: str, store_path: str | Path, storage_url: str, jobs: int
+) -> WorkOutcome:
+    """`jobs` local worker processes on one storage; the outcome all of them agree on."""
+    suite = load_suite(suite_path)
+    tuning = suite.tuning
+    open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)  # fail early
+    if jobs == 1:
+        torch.set_num_threads(threads_per_worker(1))
+        return work(suite, store_path, storage_url)
+    context = multiprocessing.get_context("spawn")
+    pool = context.Pool(jobs, initializer=_worker_setup, initargs=(threads_per_worker(jobs),))
+    try:
+        pending = [
+            pool.apply_async(_worker_task, (suite_path, str(store_path), storage_url))
+            for _ in range(jobs)
+        ]
+        outcomes = [result.get() for result in pending]
+        pool.close()
+    except BaseException:
+        pool.terminate()
+        raise
+    finally:
+        pool.join()
+    return outcomes[0]
