@@ -26,6 +26,8 @@ def score(name: str, logits: torch.Tensor, labels: torch.Tensor, classes: int) -
         # one-vs-rest over the classes present; renormalise their probabilities
         probabilities = probabilities[:, present]
         probabilities = probabilities / probabilities.sum(1, keepdims=True)
+        if len(present) == 2:  # scikit-learn reads two classes as a binary problem
+            return float(roc_auc_score(truth == present[1], probabilities[:, 1]))
         return float(roc_auc_score(truth, probabilities, multi_class="ovr", labels=present))
     return float(roc_auc_score(truth, probabilities, multi_class="ovr"))
 
