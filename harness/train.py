@@ -117,7 +117,10 @@ def fit(
     with torch.no_grad():
         logits = model(x, edge_index)
     test_logits, test_y = logits[split.test], y[split.test]
-    test_scores = {name: score(name, test_logits, test_y, classes) for name in METRICS}
+    test_scores = {
+        name: score(name, test_logits, test_y, classes) if len(test_y) else float("nan")
+        for name in METRICS
+    }  # no test nodes while tuning
     params = sum(p.numel() for p in model.parameters())
     parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
     peak = parameter_bytes * (2 + ADAM_STATES) + tensor_bytes(x, edge_index, y) + meter.bytes
@@ -135,10 +138,20 @@ def fit(
     )
 
 
-def perform(spec: RunSpec, on_epoch: Callable[[int, float], None] | None = None) -> RunResult:
-    """Data, split and initialisation from the spec's seed, then fit."""
+def perform(
+    spec: RunSpec,
+    on_epoch: Callable[[int, float], None] | None = None,
+    validation_only: bool = False,
+) -> RunResult:
+    """Data, split and initialisation from the spec's seed, then fit.
+
+    `validation_only` (tuning) drops the test nodes from the split before training: the test
+    indices are never read, and the test scores are NaN.
+    """
     data = load_graph(spec.data)
     split = make_split(data, spec.split, spec.seed)
+    if validation_only:
+        split = Split(split.train, split.validation, split.train[:0])
     torch.manual_seed(spec.seed)
     classes = int(data.y.max()) + 1
     model = build_model(spec.options, data.num_features, classes)

@@ -12,6 +12,7 @@ from harness.schema.contenders import ContenderOptions
 from harness.schema.data import DataSection, FractionSplit, SplitSection
 from harness.schema.gate import GateOptions
 from harness.schema.training import Training
+from harness.schema.tuning import Tuning
 
 Metric = Literal["accuracy", "macro_f1", "roc_auc"]
 Setting = Literal["transductive", "inductive"]
@@ -31,6 +32,7 @@ class Suite(StrictModel):
     contenders: dict[str, ContenderOptions]
     gate: GateOptions = GateOptions()
     analysis: Analysis = Analysis()
+    tuning: Tuning | None = None
 
     @field_validator("seeds")
     @classmethod
