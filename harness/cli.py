@@ -99,6 +99,101 @@ def command_show(args: argparse.Namespace) -> int:
     return 0
 
 
+def _run_for_gate(args: argparse.Namespace, suite, specs) -> bool:
+    """Run (or reuse) a suite's runs for `baseline` and `gate`; False when interrupted."""
+    from harness.execute import execute, pending
+
+    todo = len(pending(specs, args.store))
+    if todo:
+        console.print(f"{suite.name}: training {todo} runs, reusing {len(specs) - todo}")
+    outcome = execute(specs, args.store, args.jobs)
+    if outcome.interrupted:
+        errors.print(
+            f"interrupted: {outcome.finished} runs finished and stored in {args.store}; "
+            "run the same command again to continue"
+        )
+    return not outcome.interrupted
+
+
+def command_baseline(args: argparse.Namespace) -> int:
+    from harness.baseline import (
+        build_baseline,
+        environment_fingerprint,
+        suite_runs,
+        write_baseline,
+    )
+    from harness.execute import threads_per_worker
+    from harness.preflight import preflight
+    from harness.suite import expand, load_suite
+
+    suite = load_suite(args.suite)
+    specs = expand(suite)
+    preflight(suite, args.suite)
+    if not _run_for_gate(args, suite, specs):
+        return 130
+    environment = environment_fingerprint(threads_per_worker(args.jobs))
+    runs = suite_runs(args.store, specs)
+    write_baseline(args.save, build_baseline(suite, specs, runs, environment))
+    console.print(f"baseline of suite '{suite.name}' ({len(specs)} runs) saved to {args.save}")
+    return 0
+
+
+def command_gate(args: argparse.Namespace) -> int:
+    import time
+
+    from harness import history
+    from harness.baseline import (
+        check_matches,
+        contender_labels,
+        environment_differences,
+        environment_fingerprint,
+        read_baseline,
+        suite_runs,
+    )
+    from harness.execute import threads_per_worker
+    from harness.gate import evaluate
+    from harness.preflight import preflight
+    from harness.report.gate_markdown import gate_markdown
+    from harness.report.gate_terminal import print_gate
+    from harness.report.junit import write_junit
+    from harness.suite import expand, load_suite
+
+    suite = load_suite(args.suite)
+    baseline = read_baseline(args.baseline)
+    specs = expand(suite)
+    check_matches(baseline, suite, specs, args.baseline)
+    preflight(suite, args.suite)
+    if not _run_for_gate(args, suite, specs):
+        return 130
+    environment = environment_fingerprint(threads_per_worker(args.jobs))
+    differences = environment_differences(baseline.environment.model_dump(), environment)
+    runs = suite_runs(args.store, specs)
+    labels = contender_labels(specs)
+    outcome = evaluate(suite, labels, baseline, runs, environment, differences, time.time())
+    history.append(args.store, outcome)
+    if args.junit:
+        write_junit(args.junit, outcome)
+    if args.markdown:
+        Path(args.markdown).parent.mkdir(parents=True, exist_ok=True)
+        Path(args.markdown).write_text(gate_markdown(outcome), encoding="utf-8")
+    print_gate(outcome, console)
+    return outcome.exit_code
+
+
+def command_history(args: argparse.Namespace) -> int:
+    from harness.history import load_history
+    from harness.report.gate_terminal import history_table
+
+    names = _suite_names(args.store, args.suite)
+    frame = load_history(args.store, names[0])
+    if frame.empty:
+        raise InputError(
+            f"{args.store}: no gate runs stored for suite '{names[0]}'; run `heedful gate` first"
+        )
+    console.print(history_table(frame, names[0]))
+    return 0
+
+
 def positive_int(text: str) -> int:
     try:
         value = int(text)
@@ -141,6 +236,27 @@ def parser() -> argparse.ArgumentParser:
     show.add_argument("--format", choices=("table", "json", "csv", "md"), default="table")
     with_store(show)
     show.set_defaults(handler=command_show)
+
+    baseline = commands.add_parser("baseline", help="run a suite and save its baseline file")
+    baseline.add_argument("suite")
+    baseline.add_argument("--save", type=Path, required=True, metavar="FILE.json")
+    baseline.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
+    with_store(baseline)
+    baseline.set_defaults(handler=command_baseline)
+
+    gate = commands.add_parser("gate", help="run a suite and compare it with a baseline")
+    gate.add_argument("suite")
+    gate.add_argument("--baseline", type=Path, required=True, metavar="FILE.json")
+    gate.add_argument("--junit", type=Path, metavar="FILE.xml", help="write JUnit XML here")
+    gate.add_argument("--markdown", type=Path, metavar="FILE.md", help="write a summary here")
+    gate.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
+    with_store(gate)
+    gate.set_defaults(handler=command_gate)
+
+    history = commands.add_parser("history", help="show stored gate runs of a suite over time")
+    history.add_argument("suite", help="suite file or suite name")
+    with_store(history)
+    history.set_defaults(handler=command_history)
     return top
 
 

@@ -1,0 +1,242 @@
+"""Baseline files: a suite's per-seed figures and where they were measured, saved as JSON.
+
+A baseline is meant to be committed next to its suite: keys are sorted, figures rounded to
+what the measurements support, and it holds no paths, user or host names.
+The suite hash covers the task the figures were measured on (data, split, setting, metric);
+contender options, training, seeds and gate settings may change between baseline and gate,
+because finding the effect of such changes is the gate's job.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import platform
+import time
+from importlib import metadata
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+from pydantic import ValidationError
+
+import harness
+from harness import store
+from harness.errors import InputError
+from harness.schema.base import format_validation_error
+from harness.schema.gate import BASELINE_FORMAT, BASELINE_FORMAT_VERSION, BaselineFile
+from harness.schema.suite import Suite
+from harness.suite import RunSpec
+
+RUN_FIELDS = (
+    "test_metric",
+    "val_metric",
+    "test_accuracy",
+    "test_macro_f1",
+    "test_roc_auc",
+    "seconds_per_epoch",
+    "peak_mb",
+)
+
+
+def cpu_model() -> str:
+    """The CPU's model name (Linux /proc/cpuinfo), else what the platform module reports."""
+    try:
+        for line in Path("/proc/cpuinfo").read_text().splitlines():
+            if line.startswith("model name"):
+                return line.split(":", 1)[1].strip()
+    except OSError:
+        pass
+    return platform.processor() or platform.machine() or "unknown"
+
+
+def _version(package: str) -> str:
+    try:
+        return metadata.version(package)
+    except metadata.PackageNotFoundError:
+        return "not installed"
+
+
+def environment_fingerprint(threads: int) -> dict[str, Any]:
+    """Library versions, CPU model and torch threads per run: what can move the figures."""
+    return {
+        "python": platform.python_version(),
+        "torch": _version("torch"),
+        "torch_geometric": _version("torch_geometric"),
+        "numpy": _version("numpy"),
+        "cpu": cpu_model(),
+        "threads": threads,
+    }
+
+
+def environment_differences(saved: dict[str, Any], current: dict[str, Any]) -> list[str]:
+    """`field: baseline X, now Y` for each fingerprint field that differs."""
+    return [
+        f"{field}: baseline {saved.get(field)}, now {current.get(field)}"
+        for field in sorted(set(saved) | set(current))
+        if saved.get(field) != current.get(field)
+    ]
+
+
+def suite_task(suite: Suite) -> dict[str, Any]:
+    """What the figures are measured on; a baseline only compares with the same task."""
+    return {
+        "data": suite.data.model_dump(mode="json"),
+        "split": suite.split.model_dump(mode="json"),
+        "setting": suite.setting,
+        "metric": suite.metric,
+    }
+
+
+def suite_hash(suite: Suite) -> str:
+    text = json.dumps(suite_task(suite), sort_keys=True, separators=(",", ":"))
+    return hashlib.sha256(text.encode()).hexdigest()[:24]
+
+
+def suite_runs(store_path: str | Path, specs: list[RunSpec]) -> pd.DataFrame:
+    """Stored runs of exactly these specs (same suite, contender and key)."""
+    if not specs:
+        return pd.DataFrame()
+    runs = store.load_runs(store_path, sorted({spec.suite for spec in specs}))
+    wanted = {(spec.contender, spec.key) for spec in specs}
+    keep = [(c, k) in wanted for c, k in zip(runs["contender"], runs["key"], strict=True)]
+    return runs[keep].reset_index(drop=True)
+
+
+def _rounded(value: Any) -> Any:
+    if value is None or (isinstance(value, float) and value != value):
+        return None
+    return round(float(value), 6)
+
+
+def contender_labels(specs: list[RunSpec]) -> list[str]:
+    """Contender labels in suite order (one per contender, or per contender and ablation point)."""
+    return list(dict.fromkeys(spec.contender for spec in specs))
+
+
+def build_baseline(
+    suite: Suite, specs: list[RunSpec], runs: pd.DataFrame, environment: dict[str, Any]
+) -> dict[str, Any]:
+    """The baseline document of a suite's stored runs (one entry per contender and seed)."""
+    options = {spec.contender: spec.options for spec in specs}
+    contenders: dict[str, Any] = {}
+    for name in contender_labels(specs):
+        group = runs[runs["contender"] == name].sort_values("seed")
+        contenders[name] = {
+            "model": options[name].model,
+            "options": options[name].model_dump(mode="json"),
+            "runs": [
+                {
+                    "seed": int(row["seed"]),
+                    "key": str(row["key"]),
+                    "epochs": int(row["epochs"]),
+                    "params": int(row["params"]),
+                    **{field: _rounded(row[field]) for field in RUN_FIELDS},
+                }
+                for _, row in group.iterrows()
+            ],
+        }
+    return {
+        "format": BASELINE_FORMAT,
+        "format_version": BASELINE_FORMAT_VERSION,
+        "suite": suite.name,
+        "suite_hash": suite_hash(suite),
+        "task": suite_task(suite),
+        "metric": suite.metric,
+        "harness_version": harness.__version__,
+        "saved_at": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime()),
+        "environment": environment,
+        "contenders": contenders,
+    }
+
+
+def write_baseline(path: str | Path, document: dict[str, Any]) -> None:
+    """Human-readable JSON with stable key order; written whole or not at all."""
+    path = Path(path)
+    if path.is_dir():
+        raise InputError(f"{path}: is a directory; allowed: a .json file path")
+    path.parent.mkdir(parents=True, exist_ok=True)
+    text = json.dumps(document, indent=2, sort_keys=True, allow_nan=False) + "\n"
+    partial = path.with_name(path.name + ".partial")
+    partial.write_text(text, encoding="utf-8")
+    partial.replace(path)
+
+
+def read_baseline(path: str | Path) -> BaselineFile:
+    """Load and validate a baseline file; every defect is one line naming the file."""
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError(
+            f"{path}: baseline file not found; save one with `heedful baseline SUITE --save {path}`"
+        ) from None
+    except (IsADirectoryError, PermissionError, UnicodeDecodeError) as error:
+        raise InputError(
+            f"{path}: cannot read baseline file ({error.__class__.__name__})"
+        ) from None
+    if not text.strip():
+        raise InputError(f"{path}: baseline file is empty; allowed: a JSON baseline document")
+    try:
+        raw = json.loads(text)
+    except json.JSONDecodeError as error:
+        if not text[error.pos :].strip():
+            raise InputError(
+                f"{path}: baseline file is truncated: the JSON ends at line {error.lineno} "
+                f"column {error.colno} before the document is complete"
+            ) from None
+        raise InputError(
+            f"{path}: baseline file is not valid JSON: {error.msg} at line {error.lineno} "
+            f"column {error.colno}"
+        ) from None
+    if not isinstance(raw, dict):
+        raise InputError(
+            f"{path}: given a JSON {type(raw).__name__}; allowed: a JSON object (a baseline)"
+        )
+    try:
+        return BaselineFile.model_validate(raw)
+    except ValidationError as error:
+        raise InputError(format_validation_error(error, raw, str(path))) from None
+
+
+def _flatten(value: Any, prefix: str = "") -> dict[str, Any]:
+    if isinstance(value, dict):
+        out: dict[str, Any] = {}
+        for key, inner in value.items():
+            out.update(_flatten(inner, f"{prefix}.{key}" if prefix else str(key)))
+        return out
+    return {prefix: value}
+
+
+def check_matches(
+    baseline: BaselineFile, suite: Suite, specs: list[RunSpec], path: str | Path
+) -> None:
+    """Refuse a baseline of another suite, another task or other contenders, saying what differs."""
+    if baseline.suite != suite.name:
+        raise InputError(
+            f"{path}: baseline is of suite '{baseline.suite}', given suite '{suite.name}'"
+        )
+    current_hash = suite_hash(suite)
+    if baseline.suite_hash != current_hash:
+        saved, now = _flatten(baseline.task), _flatten(suite_task(suite))
+        changes = [
+            f"{key}: baseline {saved.get(key)!r}, suite {now.get(key)!r}"
+            for key in sorted(set(saved) | set(now))
+            if saved.get(key) != now.get(key)
+        ]
+        detail = "; ".join(changes) if changes else "the recorded task was edited"
+        raise InputError(
+            f"{path}: suite hash differs (baseline {baseline.suite_hash}, suite {current_hash}): "
+            f"{detail}; save a new baseline for the changed task"
+        )
+    saved_names, suite_names = set(baseline.contenders), set(contender_labels(specs))
+    for name in sorted(suite_names - saved_names):
+        raise InputError(
+            f"{path}: contenders.{name}: in the suite but missing from the baseline; baseline "
+            f"has {', '.join(sorted(saved_names))}"
+        )
+    for name in sorted(saved_names - suite_names):
+        raise InputError(
+            f"{path}: contenders.{name}: in the baseline but not in the suite; suite has "
+            f"{', '.join(sorted(suite_names))}"
+        )

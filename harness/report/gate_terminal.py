@@ -1,0 +1,130 @@
+"""Gate outcomes and gate history as rich tables for the terminal."""
+
+from __future__ import annotations
+
+import pandas as pd
+from rich import box
+from rich.console import Console
+from rich.table import Table
+
+from harness.gate import PASS, SKIP, GateOutcome
+from harness.report.terminal import METRIC_LABELS, number
+
+STYLES = {"pass": "green", "warn": "yellow", "fail": "bold red", "skip": "dim"}
+MARKS = {"pass": "✓", "warn": "!", "fail": "✗", "skip": "-"}
+BLOCKS = "▁▂▃▄▅▆▇█"
+
+
+def _points(value: float) -> str:
+    return "-" if value != value else f"{100 * value:+.2f}"
+
+
+def print_gate(outcome: GateOutcome, console: Console) -> None:
+    """One row per contender, then every check that did not pass, then the verdict."""
+    metric = METRIC_LABELS.get(outcome.metric, outcome.metric)
+    level = round(100 * outcome.confidence)
+    table = Table(
+        title=f"Gate: {outcome.suite} (test {metric})",
+        title_justify="left",
+        box=box.SIMPLE_HEAD,
+        pad_edge=False,
+        collapse_padding=True,
+        caption=f"Δ = now − baseline in points; {level}% t-interval of the paired mean "
+        "difference (Welch when fewer than two seeds are shared)",
+        caption_justify="left",
+    )
+    table.add_column("contender", justify="left", no_wrap=True)
+    for header in ("baseline", "now", f"Δ [{level}% interval]", "s/ep ×", "mem ×"):
+        table.add_column(header, justify="right", no_wrap=True)
+    table.add_column("checks", justify="left", no_wrap=True)
+    for contender in outcome.contender_seconds:
+        checks = outcome.of(contender)
+        figures = checks["metric"].figures
+        marks = "".join(f"[{STYLES[c.status]}]{MARKS[c.status]}[/]" for c in checks.values())
+        table.add_row(
+            contender,
+            f"{figures['baseline']:.3f}",
+            f"{figures['current']:.3f}",
+            f"{_points(figures['difference'])} "
+            f"[{_points(figures['low'])}, {_points(figures['high'])}]",
+            f"{checks['time'].figures['ratio']:.2f}",
+            f"{checks['memory'].figures['ratio']:.2f}",
+            marks,
+        )
+    console.print(table)
+    console.print(
+        "checks: metric, time, memory, reproducibility; "
+        + ", ".join(f"{mark} {status}" for status, mark in MARKS.items()),
+        highlight=False,
+    )
+    for check in outcome.checks:
+        if check.status not in (PASS, SKIP):
+            console.print(
+                f"[{STYLES[check.status]}]{check.status}[/] {check.check}: {check.message}",
+                highlight=False,
+                soft_wrap=True,
+            )
+    if outcome.environment_differences:
+        console.print(
+            "[yellow]environment differs from the baseline's:[/] "
+            + "; ".join(outcome.environment_differences),
+            highlight=False,
+            soft_wrap=True,
+        )
+    console.print(f"gate [{STYLES[outcome.status]}]{outcome.status.upper()}[/]")
+
+
+def sparkline(values: list[float], least_span: float = 0.0) -> str:
+    """One block character per value, from the row's lowest value over at least `least_span`.
+
+    The least span keeps changes far below what matters from filling the whole height.
+    """
+    finite = [v for v in values if v == v]
+    if not finite:
+        return ""
+    low = min(finite)
+    span = max(max(finite) - low, least_span)
+    top = len(BLOCKS) - 1
+    return "".join(
+        " " if v != v else BLOCKS[0 if span == 0 else round((v - low) / span * top)] for v in values
+    )
+
+
+def history_table(history: pd.DataFrame, suite: str, last: int = 20) -> Table:
+    """Each contender's latest figures, each with a trend over its last `last` gate runs.
+
+    Metric trends span at least 2 points, cost trends at least 10% of their largest value.
+    """
+    metric = METRIC_LABELS.get(history["metric"].iloc[-1], history["metric"].iloc[-1])
+    first = pd.Timestamp(history["gated_at"].min(), unit="s").strftime("%Y-%m-%d %H:%M")
+    final = pd.Timestamp(history["gated_at"].max(), unit="s").strftime("%Y-%m-%d %H:%M")
+    gates = history["gate_id"].nunique()
+    table = Table(
+        title=f"Gate history: {suite}, {gates} gate runs, {first} to {final} UTC",
+        title_justify="left",
+        box=box.SIMPLE_HEAD,
+        pad_edge=False,
+        collapse_padding=True,
+        caption="latest value, then one mark per gate run, oldest first",
+        caption_justify="left",
+    )
+    table.add_column("contender", no_wrap=True)
+    table.add_column("gates", justify="right")
+    for header in (f"test {metric}", "s/epoch", "peak MB", "verdicts"):
+        table.add_column(header, no_wrap=True)
+    for contender, rows in history.groupby("contender", sort=False):
+        rows = rows.tail(last)
+        latest = rows.iloc[-1]
+        metric_values = rows["metric_mean"].tolist()
+        seconds = rows["seconds_per_epoch"].tolist()
+        memory = rows["peak_mb"].tolist()
+        table.add_row(
+            str(contender),
+            str(len(rows)),
+            f"{number(float(latest['metric_mean']), 3)} {sparkline(metric_values, 0.02)}",
+            f"{number(float(latest['seconds_per_epoch']), 4)} "
+            f"{sparkline(seconds, 0.1 * max(seconds))}",
+            f"{number(float(latest['peak_mb']), 2)} {sparkline(memory, 0.1 * max(memory))}",
+            "".join(f"[{STYLES[s]}]{MARKS[s]}[/]" for s in rows["contender_status"]),
+        )
+    return table

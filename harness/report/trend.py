@@ -1,0 +1,40 @@
+"""Trend plot of gate history: each contender's metric and seconds per epoch over gate runs."""
+
+from __future__ import annotations
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+import pandas as pd  # noqa: E402
+from matplotlib.figure import Figure  # noqa: E402
+
+from harness.report.terminal import METRIC_LABELS  # noqa: E402
+
+
+def trend_figure(history: pd.DataFrame) -> Figure:
+    """Two panels sharing the time axis; a failed gate run is marked with a red cross."""
+    figure, (top, bottom) = plt.subplots(2, 1, figsize=(7, 5), sharex=True)
+    metric = METRIC_LABELS.get(history["metric"].iloc[-1], history["metric"].iloc[-1])
+    for contender, rows in history.groupby("contender", sort=False):
+        when = pd.to_datetime(rows["gated_at"], unit="s")
+        line = top.plot(when, rows["metric_mean"], marker="o", label=str(contender))[0]
+        bottom.plot(when, rows["seconds_per_epoch"], marker="o", color=line.get_color())
+        failed = rows["contender_status"] == "fail"
+        top.scatter(
+            when[failed], rows["metric_mean"][failed], marker="x", color="red", s=60, zorder=3
+        )
+    top.set_ylabel(f"test {metric} (mean over seeds)")
+    bottom.set_ylabel("seconds per epoch")
+    bottom.set_xlabel("gate run (UTC)")
+    top.legend(fontsize="small", loc="best")
+    top.set_title("Gate history")
+    figure.autofmt_xdate()
+    figure.tight_layout()
+    return figure
+
+
+def save_trend(history: pd.DataFrame, path: str) -> None:
+    figure = trend_figure(history)
+    figure.savefig(path)
+    plt.close(figure)

@@ -1,0 +1,251 @@
+"""Nightly gate end to end on a tiny suite: pass, regression, noise, costs, reproducibility."""
+
+from __future__ import annotations
+
+import json
+import shutil
+import time
+import xml.etree.ElementTree as ElementTree
+from pathlib import Path
+
+import pytest
+from torch import nn
+
+import harness.train
+from harness.cli import main
+
+# A fictional courier network: depots are nodes, regular routes are edges, four depot kinds.
+SUITE = """
+name = "courier_gate"
+seeds = {seeds}
+metric = "accuracy"
+
+[data]
+source = "synthetic"
+nodes = 300
+classes = 3
+average_degree = 6
+edge_homophily = 0.8
+feature_dimension = 8
+feature_signal = 1.5
+graph_seed = 3
+
+[split]
+train = 0.4
+validation = 0.2
+test = 0.4
+
+[training]
+epochs = 30
+patience = 10
+
+[contenders.attention]
+model = "gat"
+heads = 2
+hidden = 8
+dropout = {attention_dropout}
+
+[contenders.features_only]
+model = "mlp"
+hidden = 16
+
+[gate]
+tolerance_points = 2.0
+significance = 0.05
+time_ratio = 3.0
+time_action = "{time_action}"
+"""
+
+
+def write_suite(
+    folder: Path,
+    name: str,
+    seeds: str = "[0, 1, 2, 3]",
+    attention_dropout: float = 0.5,
+    time_action: str = "warn",
+) -> Path:
+    path = folder / name
+    path.write_text(
+        SUITE.format(seeds=seeds, attention_dropout=attention_dropout, time_action=time_action)
+    )
+    return path
+
+
+@pytest.fixture(scope="module")
+def saved(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Path]:
+    """One trained store and its baseline, shared by the tests of this module."""
+    folder = tmp_path_factory.mktemp("gate")
+    suite = write_suite(folder, "suite.toml")
+    store = folder / "store.db"
+    baseline = folder / "baseline.json"
+    assert main(["baseline", str(suite), "--save", str(baseline), "--store", str(store)]) == 0
+    return {"folder": folder, "suite": suite, "store": store, "baseline": baseline}
+
+
+def gate(saved: dict[str, Path], suite: Path, tmp_path: Path, baseline: Path | None = None):
+    junit, markdown = tmp_path / "gate.xml", tmp_path / "gate.md"
+    status = main(
+        [
+            "gate",
+            str(suite),
+            "--baseline",
+            str(baseline or saved["baseline"]),
+            "--store",
+            str(saved["store"]),
+            "--junit",
+            str(junit),
+            "--markdown",
+            str(markdown),
+        ]
+    )
+    return status, ElementTree.parse(junit).getroot(), markdown.read_text()
+
+
+def case(root: ElementTree.Element, contender: str, check: str) -> ElementTree.Element:
+    for element in root.iter("testcase"):
+        if element.get("classname") == f"courier_gate.{contender}" and element.get("name") == check:
+            return element
+    raise AssertionError(f"no test case {contender}.{check}")
+
+
+def test_unchanged_suite_passes(saved, tmp_path, capsys):
+    status, root, markdown = gate(saved, saved["suite"], tmp_path)
+    out = capsys.readouterr().out
+    assert status == 0
+    assert "gate PASS" in out
+    assert root.get("failures") == "0" and root.get("tests") == "8"
+    # stored runs were reused: identical keys, identical metrics, zero difference
+    assert "4 runs with identical inputs gave identical metrics" in case(
+        root, "attention", "reproducibility"
+    ).findtext("system-out")
+    assert "| attention | " in markdown and "+0.00 | [+0.00, +0.00]" in markdown
+
+
+def test_injected_regression_fails_naming_contender_drop_and_interval(saved, tmp_path, capsys):
+    """Dropout 0.95 on the attention contender: its accuracy drops far beyond 2 points."""
+    broken = write_suite(tmp_path, "suite.toml", attention_dropout=0.95)
+    status, root, markdown = gate(saved, broken, tmp_path)
+    out = capsys.readouterr().out
+    assert status == 1
+    assert "gate FAIL" in out
+    failure = case(root, "attention", "metric").find("failure")
+    assert failure is not None
+    message = failure.get("message")
+    assert message.startswith("attention: accuracy dropped ")
+    assert "95% t-interval [" in message and "paired t-test" in message
+    drop = float(message.split("dropped ")[1].split(" points")[0])
+    low = float(message.split("t-interval [")[1].split(",")[0])
+    high = float(message.split("t-interval [")[1].split(",")[1].split("]")[0])
+    assert drop > 2.0 and low <= -drop <= high < 0  # the interval holds the drop and excludes 0
+    assert case(root, "features_only", "metric").find("failure") is None
+    assert "❌ fail" in markdown and "attention: accuracy dropped" in markdown
+
+
+def test_noise_level_change_passes(saved, tmp_path, capsys):
+    """Other seeds of the same configuration: no seed is shared, Welch's test, no failure."""
+    reseeded = write_suite(tmp_path, "suite.toml", seeds="[10, 11, 12, 13]")
+    status, root, _ = gate(saved, reseeded, tmp_path)
+    capsys.readouterr()
+    assert status == 0
+    for contender in ("attention", "features_only"):
+        metric = case(root, contender, "metric")
+        assert metric.find("failure") is None
+        assert "Welch t-test" in metric.findtext("system-out")
+        # no run has the same inputs as a baseline run, so that check is skipped
+        assert case(root, contender, "reproducibility").find("skipped") is not None
+
+
+class Slowed(nn.Module):
+    """Wraps a model and sleeps in every forward pass: the same results, slower training."""
+
+    def __init__(self, model: nn.Module, pause: float) -> None:
+        super().__init__()
+        self.model, self.pause = model, pause
+
+    def forward(self, x, edge_index):
+        time.sleep(self.pause)
+        return self.model(x, edge_index)
+
+
+def test_slowed_contender_fails_time_check(saved, tmp_path, monkeypatch, capsys):
+    """A contender whose training really takes longer (a sleep in forward, test only) is caught.
+
+    The runs are trained afresh in a copy of the store; the sleep leaves the computation and so
+    the metrics unchanged, which the reproducibility check confirms.
+    """
+    store = tmp_path / "fresh.db"
+    build = harness.train.build_model
+
+    def slowed_build(options, *args, **kwargs):
+        model = build(options, *args, **kwargs)
+        return Slowed(model, 0.01) if options.model == "mlp" else model
+
+    monkeypatch.setattr(harness.train, "build_model", slowed_build)
+    strict = write_suite(tmp_path, "suite.toml", time_action="fail")
+    status, root, _ = gate({**saved, "store": store}, strict, tmp_path)
+    out = capsys.readouterr().out
+    assert status == 1
+    failure = case(root, "features_only", "time").find("failure")
+    assert failure is not None and "seconds per epoch x" in failure.get("message")
+    ratio = float(failure.get("message").split("seconds per epoch x")[1].split(" ")[0])
+    assert ratio > 3.0
+    assert case(root, "features_only", "metric").find("failure") is None
+    assert "identical metrics" in case(root, "features_only", "reproducibility").findtext(
+        "system-out"
+    )
+    assert "fail time: features_only" in out
+
+
+def edited(saved: dict[str, Path], tmp_path: Path, change) -> Path:
+    document = json.loads(saved["baseline"].read_text())
+    change(document)
+    path = tmp_path / "edited.json"
+    path.write_text(json.dumps(document, indent=2))
+    return path
+
+
+def test_memory_growth_against_an_older_baseline_fails(saved, tmp_path, capsys):
+    """A baseline whose recorded peak memory is edited down stands for a model that grew since."""
+
+    def shrink(document):
+        for run in document["contenders"]["attention"]["runs"]:
+            run["peak_mb"] = run["peak_mb"] / 2
+
+    status, root, markdown = gate(saved, saved["suite"], tmp_path, edited(saved, tmp_path, shrink))
+    capsys.readouterr()
+    assert status == 1
+    failure = case(root, "attention", "memory").find("failure")
+    assert failure is not None and "peak memory x2.00 above limit" in failure.get("message")
+    assert case(root, "features_only", "memory").find("failure") is None
+
+
+def test_reproducibility_change_and_other_environment_are_reported(saved, tmp_path, capsys):
+    """Same run keys with a different stored metric: reported, and within tolerance not failed."""
+
+    def move(document):
+        document["contenders"]["features_only"]["runs"][1]["test_metric"] += 0.001
+        document["environment"]["torch"] = "0.0.1"
+
+    status, root, markdown = gate(saved, saved["suite"], tmp_path, edited(saved, tmp_path, move))
+    out = capsys.readouterr().out
+    assert status == 0
+    assert "gate WARN" in out
+    text = case(root, "features_only", "reproducibility").findtext("system-out")
+    assert text.startswith("warning: features_only: reproducibility change")
+    assert "on 1 of 4 runs (seed 1:" in text
+    assert "environment differs from the baseline's: torch: baseline 0.0.1" in out
+    assert "torch: baseline 0.0.1" in markdown
+
+
+def test_gate_runs_are_kept_in_history(saved, tmp_path, capsys):
+    from harness.history import load_history
+
+    store = tmp_path / "copy.db"
+    shutil.copy(saved["store"], store)
+    before = len(load_history(store, "courier_gate"))
+    assert gate({**saved, "store": store}, saved["suite"], tmp_path)[0] == 0
+    history = load_history(store, "courier_gate")
+    assert len(history) == before + 2
+    assert set(history["contender"].tail(2)) == {"attention", "features_only"}
+    assert main(["history", str(saved["suite"]), "--store", str(store)]) == 0
+    assert "Gate history: courier_gate" in capsys.readouterr().out
