@@ -21,6 +21,8 @@ from harness.errors import InputError
 
 DEFAULT_STORE = Path("runs/heedful.db")
 JSON_COLUMNS = ("options", "point", "curve", "extras")
+# SQLite keeps NaN as NULL; read back, an all-NULL column would hold None instead of NaN
+NULLABLE_NUMBERS = ("val_metric", "test_metric", "test_accuracy", "test_macro_f1", "test_roc_auc")
 
 SCHEMA = """
 CREATE TABLE IF NOT EXISTS runs (
@@ -106,4 +108,6 @@ def load_runs(path: str | Path, suites: Iterable[str] | None = None) -> pd.DataF
         frame = pd.read_sql_query(query + " ORDER BY finished_at, rowid", connection, params=wanted)
     for column in JSON_COLUMNS:
         frame[column] = frame[column].map(json.loads)
+    for column in NULLABLE_NUMBERS:
+        frame[column] = frame[column].astype(float)
     return frame
