@@ -33,6 +33,9 @@ class Analysis(StrictModel):
         return self
 
 
+DEFAULT_ANALYSIS = Analysis()
+
+
 def unknown_contenders(analysis: Analysis, contenders: list[str]) -> str | None:
     """A one-line complaint when `attention` or `baselines` names a contender the suite lacks."""
     for side in ("attention", "baselines"):
