@@ -1,0 +1,183 @@
+"""Report files, escaping of hostile names, the `report` command and the verdict after `show`."""
+
+from __future__ import annotations
+
+import base64
+import re
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from harness import store
+from harness.api import analyse, analyse_store
+from harness.cli import main
+from harness.report import html, latex, markdown
+from harness.report.files import write_report
+from harness.suite import expand, load_suite
+
+HOSTILE_SUITE = """\
+# Fictional parcel lockers of an invented courier network; names chosen to break renderers.
+name = "50%_&_$x$"
+seeds = 4
+metric = "accuracy"
+
+[data]
+source = "synthetic"
+nodes = 60
+classes = 2
+graph_seed = 1
+
+[contenders."<script>alert(1)</script>"]
+model = "gat"
+heads = 2
+hidden = 4
+
+[contenders."conv_{a}^b\\\\c"]
+model = "gcn"
+hidden = 8
+
+[contenders."plain|mlp"]
+model = "mlp"
+hidden = 8
+
+[analysis]
+minimum_gain = 2.0
+bootstrap_resamples = 200
+"""
+SCRIPT = "<script>alert(1)</script>"
+
+
+def stored_suite(tmp_path: Path, attention_extras: bool = False) -> tuple[Path, Path]:
+    """The hostile suite with crafted stored runs under its real keys (no training)."""
+    suite_path = tmp_path / "hostile.toml"
+    suite_path.write_text(HOSTILE_SUITE, encoding="utf-8")
+    store_path = tmp_path / "runs.db"
+    level = {"gat": 0.80, "gcn": 0.74, "mlp": 0.60}
+    rng = np.random.default_rng(0)
+    for spec in expand(load_suite(suite_path)):
+        value = level[spec.model] + 0.01 * spec.seed + rng.normal(0, 0.002)
+        extras = {}
+        if attention_extras and spec.model == "gat":
+            measures = {"entropy_ratio": 0.9, "self_share": 0.2, "uniform_self_share": 0.15}
+            measures |= {"same_label_share": 0.8, "neighbour_homophily": 0.6}
+            extras = {"attention": {"mean": measures}}
+        store.save_run(
+            store_path,
+            {
+                "suite": spec.suite,
+                "contender": spec.contender,
+                "key": spec.key,
+                "model": spec.model,
+                "options": spec.options.model_dump(mode="json"),
+                "point": spec.point,
+                "seed": spec.seed,
+                "metric": spec.metric,
+                "val_metric": value,
+                "test_metric": value,
+                "test_accuracy": value,
+                "test_macro_f1": value,
+                "test_roc_auc": value,
+                "epochs": 10,
+                "best_epoch": 8,
+                "seconds": 0.5,
+                "seconds_per_epoch": {"gat": 0.05, "gcn": 0.01, "mlp": 0.005}[spec.model],
+                "params": {"gat": 300, "gcn": 200, "mlp": 150}[spec.model],
+                "peak_mb": {"gat": 2.0, "gcn": 1.0, "mlp": 0.5}[spec.model],
+                "curve": [value],
+                "extras": extras,
+            },
+        )
+    return suite_path, store_path
+
+
+def test_report_writes_every_format(tmp_path: Path):
+    suite_path, store_path = stored_suite(tmp_path, attention_extras=True)
+    out = tmp_path / "report"
+    written = write_report(analyse_store(store_path, suite_path), out)
+    names = {p.relative_to(out).as_posix() for p in written}
+    assert {"report.md", "report.html", "report.tex"} <= names
+    assert {"csv/contenders.csv", "csv/comparisons.csv", "csv/cost.csv", "csv/attention.csv"} <= (
+        names
+    )
+    assert {"plots/contenders.png", "plots/differences.png", "plots/cost.png"} <= names
+    assert {"plots/attention.png", "plots/homophily.png"} <= names
+    assert "plots/ablation.png" not in names  # no varied axis: skipped, not drawn empty
+    for png in out.glob("plots/*.png"):
+        assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    comparisons = pd.read_csv(out / "csv" / "comparisons.csv")
+    assert len(comparisons) == 2  # one attention contender against two baselines
+    assert set(comparisons["verdict"]) == {"better"}
+    page = (out / "report.html").read_text(encoding="utf-8")
+    images = re.findall(r'src="data:image/png;base64,([A-Za-z0-9+/=]+)"', page)
+    assert len(images) == 5
+    assert base64.b64decode(images[0])[:4] == b"\x89PNG"
+    assert "http://" not in page and "https://" not in page  # self-contained
+
+
+def test_hostile_names_are_escaped_in_html_latex_and_markdown(tmp_path: Path):
+    suite_path, store_path = stored_suite(tmp_path)
+    report = analyse_store(store_path, suite_path)
+    page = html.render(report, {})
+    assert SCRIPT not in page
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in page
+    assert "50%_&amp;_$x$" in page
+    tex = latex.render(report)
+    assert r"50\%\_\&\_\$x\$" in tex
+    assert r"conv\_\{a\}\textasciicircum{}b\textbackslash{}c" in tex
+    assert r"\textless{}script\textgreater{}" in tex and "<script>" not in tex
+    assert r"\toprule" in tex and r"\midrule" in tex and r"\bottomrule" in tex
+    text = markdown.render(report, [])
+    assert "<script>" not in text and "&lt;script&gt;" in text
+    assert r"plain\|mlp" in text and r"50%\_&amp;\_\$x\$" in text
+    # every Markdown table row has as many cells as its header
+    for block in re.findall(r"(?:^\|.*\|$\n?)+", text, flags=re.M):
+        widths = {len(re.split(r"(?<!\\)\|", line)) for line in block.strip().splitlines()}
+        assert len(widths) == 1
+
+
+def test_report_command_writes_files_and_prints_the_verdict(tmp_path: Path, capsys):
+    suite_path, store_path = stored_suite(tmp_path)
+    out = tmp_path / "out"
+    code = main(["report", str(suite_path), "--out", str(out), "--store", str(store_path)])
+    printed = capsys.readouterr().out
+    assert code == 0
+    assert (out / "report.html").is_file()
+    assert "Verdict:" in printed and "beats the best baseline" in printed
+    assert "Cost trade-off" in printed
+
+
+def test_show_prints_the_verdict_after_the_table(tmp_path: Path, capsys):
+    _, store_path = stored_suite(tmp_path)
+    assert main(["show", "50%_&_$x$", "--store", str(store_path)]) == 0
+    printed = capsys.readouterr().out
+    assert "Verdict:" in printed and "beats the best baseline" in printed
+
+
+@pytest.mark.parametrize(
+    ("arguments", "message"),
+    [
+        (["report", "nothing_stored", "--out", "OUT"], "no stored runs for suite 'nothing_stored'"),
+        (["report", "50%_&_$x$", "--out", "FILE"], "--out is a file"),
+    ],
+)
+def test_report_errors_are_one_line_with_status_2(tmp_path: Path, capsys, arguments, message):
+    _, store_path = stored_suite(tmp_path)
+    (tmp_path / "FILE").write_text("not a folder")
+    arguments = [str(tmp_path / a) if a in ("OUT", "FILE") else a for a in arguments]
+    assert main([*arguments, "--store", str(store_path)]) == 2
+    error = capsys.readouterr().err.strip()
+    assert message in error and "\n" not in error
+
+
+def test_analyse_refuses_runs_of_two_suites():
+    rows = [
+        {"suite": name, "contender": "c", "model": "gcn", "options": {}, "point": {}, "seed": 0}
+        | {"metric": "accuracy", "test_metric": 0.5, "extras": {}}
+        for name in ("one", "two")
+    ]
+    from harness.errors import InputError
+
+    with pytest.raises(InputError, match="runs of 2 suites"):
+        analyse(pd.DataFrame(rows))
