@@ -46,9 +46,10 @@ def command_check(args: argparse.Namespace) -> int:
 
 def command_run(args: argparse.Namespace) -> int:
     from harness import store
+    from harness.api import analyse
     from harness.execute import execute, pending
     from harness.preflight import preflight
-    from harness.report.terminal import print_summary
+    from harness.report.terminal import print_summary, print_verdicts
     from harness.stats import summarise
     from harness.suite import expand, load_suite
 
@@ -77,13 +78,15 @@ def command_run(args: argparse.Namespace) -> int:
     runs = runs[runs["key"].isin({s.key for s in specs})]
     console.print(f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}")
     print_summary(summarise(runs), console)
+    print_verdicts(analyse(runs, suite.analysis), console)
     return 0
 
 
 def command_show(args: argparse.Namespace) -> int:
     from harness import store
+    from harness.api import analyse_each, settings_of
     from harness.report import records
-    from harness.report.terminal import print_summary
+    from harness.report.terminal import print_summary, print_verdicts
     from harness.stats import summarise
 
     runs = store.load_runs(args.store, _suite_names(args.store, args.suite))
@@ -93,6 +96,8 @@ def command_show(args: argparse.Namespace) -> int:
         )
     if args.format == "table":
         print_summary(summarise(runs), console)
+        for report in analyse_each(runs, settings_of(args.suite)):
+            print_verdicts(report, console)
     else:
         writer = {"json": records.as_json, "csv": records.as_csv, "md": records.as_markdown}
         sys.stdout.write(writer[args.format](runs).rstrip("\n") + "\n")
@@ -194,6 +199,18 @@ def command_history(args: argparse.Namespace) -> int:
     return 0
 
 
+def command_report(args: argparse.Namespace) -> int:
+    from harness.api import analyse_store
+    from harness.report.files import write_report
+    from harness.report.terminal import print_report
+
+    report = analyse_store(args.store, args.suite)
+    written = write_report(report, args.out)
+    print_report(report, console)
+    console.print(f"{len(written)} files written to {args.out}", highlight=False)
+    return 0
+
+
 def positive_int(text: str) -> int:
     try:
         value = int(text)
@@ -236,6 +253,14 @@ def parser() -> argparse.ArgumentParser:
     show.add_argument("--format", choices=("table", "json", "csv", "md"), default="table")
     with_store(show)
     show.set_defaults(handler=command_show)
+
+    report = commands.add_parser(
+        "report", help="write statistics, verdicts and plots (Markdown, CSV, LaTeX, HTML)"
+    )
+    report.add_argument("suite", help="suite file or stored suite name")
+    report.add_argument("--out", type=Path, required=True, help="folder for the report files")
+    with_store(report)
+    report.set_defaults(handler=command_report)
 
     baseline = commands.add_parser("baseline", help="run a suite and save its baseline file")
     baseline.add_argument("suite")
