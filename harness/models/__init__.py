@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
+import torch
 from pydantic import BaseModel
 from torch import nn
 
@@ -12,12 +13,31 @@ from harness.models import attention, convolution, neighbour_mean, perceptron
 BUILDERS: dict[str, Callable[[BaseModel, int, int], nn.Module]] = {
     "gat": attention.build,
     "gatv2": attention.build,
+    "dot_product": attention.build,
     "gcn": convolution.build,
     "sage": neighbour_mean.build,
     "mlp": perceptron.build,
 }
 
 
-def build_model(options: BaseModel, in_dim: int, out_dim: int) -> nn.Module:
-    """The contender's network, freshly initialised from the current torch seed."""
-    return BUILDERS[options.model](options, in_dim, out_dim)
+class EmbeddingStart(nn.Module):
+    """Identity feature start: x holds node ids; each id looks up one learned row."""
+
+    def __init__(self, rows: int, width: int, inner: nn.Module):
+        super().__init__()
+        self.embedding = nn.Embedding(rows, width)
+        self.inner = inner
+
+    def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
+        return self.inner(self.embedding(x), edge_index)
+
+
+def build_model(
+    options: BaseModel, in_dim: int, out_dim: int, embedding_rows: int = 0
+) -> nn.Module:
+    """The contender's network, freshly initialised from the current torch seed.
+
+    With `embedding_rows` > 0 the input is node ids, embedded in `in_dim` columns first.
+    """
+    network = BUILDERS[options.model](options, in_dim, out_dim)
+    return EmbeddingStart(embedding_rows, in_dim, network) if embedding_rows else network

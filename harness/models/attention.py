@@ -1,38 +1,121 @@
-"""Graph attention contenders on PyG's GATConv and GATv2Conv.
+"""Graph attention contenders on PyG's GATConv, GATv2Conv and TransformerConv.
 
-Static attention (Velickovic et al., 2018):
-    e_ij = LeakyReLU(a^T [W h_i || W h_j]),  alpha_ij = softmax_{j in N(i) + i}(e_ij),
-    h_i' = ||_{k=1..K} sigma(sum_j alpha_ij^k W^k h_j)     (hidden layers: heads concatenated)
-    h_i' = 1/K sum_k sum_j alpha_ij^k W^k h_j              (output layer: heads averaged)
-Dynamic attention (Brody et al., 2022): e_ij = a^T LeakyReLU(W [h_i || h_j]).
+Static attention (Velickovic et al., 2018), model "gat":
+    e_ij = LeakyReLU(a^T [W h_i || W h_j]),  alpha_ij = softmax_{j in N(i)}(e_ij)
+Dynamic attention (Brody et al., 2022), model "gatv2":
+    e_ij = a^T LeakyReLU(W_s h_j + W_t h_i)
+Scaled dot-product attention (Shi et al., 2021), model "dot_product":
+    e_ij = (W_q h_i)^T (W_k h_j) / sqrt(d),  messages W_v h_j
+Each head k computes h_i^k = sum_j alpha_ij^k W^k h_j. A layer merges its K heads by
+concatenation (||_k h_i^k) or by the mean (1/K sum_k h_i^k); defaults as Velickovic et al.:
+concatenate in hidden layers, average in the output layer. An output layer that concatenates
+is followed by a linear map from K x classes to classes.
+N(i) is the attention edge set: the k-hop neighbourhood (harness.data.hops) plus i itself
+when `attend_to_self`. `residual` adds a linear skip W_r h_i to each layer's output.
 """
 
 from __future__ import annotations
 
+import torch
 from torch import nn
-from torch_geometric.nn import GATConv, GATv2Conv
+from torch_geometric.nn import GATConv, GATv2Conv, TransformerConv
+from torch_geometric.utils import add_self_loops, remove_self_loops
 
-from harness.models.stack import LayerStack
+from harness.models.stack import ACTIVATIONS
 from harness.schema.contenders import AttentionOptions
 
-LAYER_CLASSES = {"gat": GATConv, "gatv2": GATv2Conv}
+
+def attention_layer(
+    options: AttentionOptions, width: int, out: int, heads: int, concat: bool
+) -> nn.Module:
+    """One attention layer; self-loops are handled by the stack, not by the layer."""
+    if options.model == "dot_product":
+        return TransformerConv(
+            width,
+            out,
+            heads=heads,
+            concat=concat,
+            dropout=options.attention_dropout,
+            root_weight=options.residual,
+        )
+    layer_class = GATConv if options.model == "gat" else GATv2Conv
+    return layer_class(
+        width,
+        out,
+        heads=heads,
+        concat=concat,
+        negative_slope=options.negative_slope,
+        dropout=options.attention_dropout,
+        add_self_loops=False,
+        residual=options.residual,
+    )
+
+
+class AttentionStack(nn.Module):
+    """h^{l+1} = act(attention_l(dropout(h^l), N)); the last output (projected) are logits."""
+
+    def __init__(
+        self,
+        layers: list[nn.Module],
+        activation: str,
+        dropout: float,
+        attend_to_self: bool,
+        projection: nn.Module | None = None,
+    ):
+        super().__init__()
+        self.layers = nn.ModuleList(layers)
+        self.activation = ACTIVATIONS[activation]()
+        self.dropout = nn.Dropout(dropout)
+        self.attend_to_self = attend_to_self
+        self.projection = projection
+
+    def reset_parameters(self) -> None:
+        for layer in self.layers:
+            layer.reset_parameters()
+        if self.projection is not None:
+            self.projection.reset_parameters()
+
+    def attention_edges(self, edge_index: torch.Tensor, nodes: int) -> torch.Tensor:
+        """The edges attention runs on: the given ones, with exactly one self-loop if asked."""
+        edge_index, _ = remove_self_loops(edge_index)
+        if self.attend_to_self:
+            edge_index, _ = add_self_loops(edge_index, num_nodes=nodes)
+        return edge_index
+
+    def run(
+        self, x: torch.Tensor, edge_index: torch.Tensor, keep_attention: bool = False
+    ) -> tuple[torch.Tensor, torch.Tensor, list[torch.Tensor]]:
+        """Logits, the attention edge set and (if kept) each layer's weights [edges, heads]."""
+        edges = self.attention_edges(edge_index, x.size(0))
+        weights: list[torch.Tensor] = []
+        for index, layer in enumerate(self.layers):
+            x = self.dropout(x)
+            if keep_attention:
+                x, (_, alpha) = layer(x, edges, return_attention_weights=True)
+                weights.append(alpha)
+            else:
+                x = layer(x, edges)
+            if index < len(self.layers) - 1:
+                x = self.activation(x)
+        if self.projection is not None:
+            x = self.projection(x)
+        return x, edges, weights
+
+    def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
+        return self.run(x, edge_index)[0]
 
 
 def build(options: AttentionOptions, in_dim: int, out_dim: int) -> nn.Module:
-    layer_class = LAYER_CLASSES[options.model]
+    heads, merges = options.heads_per_layer(), options.merge_per_layer()
     layers: list[nn.Module] = []
     width = in_dim
     for index in range(options.layers):
         last = index == options.layers - 1
         out = out_dim if last else options.hidden
-        layers.append(
-            layer_class(
-                width,
-                out,
-                heads=options.heads,
-                concat=not last,
-                dropout=options.attention_dropout,
-            )
-        )
-        width = out * options.heads
-    return LayerStack(layers, options.activation, options.dropout, uses_edges=True)
+        concat = merges[index] == "concatenate"
+        layers.append(attention_layer(options, width, out, heads[index], concat))
+        width = out * heads[index] if concat else out
+    projection = nn.Linear(width, out_dim) if width != out_dim else None
+    return AttentionStack(
+        layers, options.activation, options.dropout, options.attend_to_self, projection
+    )

@@ -2,33 +2,121 @@
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from typing import Annotated, Any, Literal
 
-from pydantic import Field
+from pydantic import Field, model_validator
 
-from harness.schema.base import StrictModel
+from harness.schema.base import UNKNOWN_KEY, StrictModel
 from harness.schema.training import TrainingOverride
 
 Activation = Literal["relu", "elu", "gelu", "leaky_relu", "tanh"]
+HeadMerge = Literal["concatenate", "average"]
+HeadCount = Annotated[int, Field(ge=1, le=16)]
+FeatureStart = Literal[
+    "given",
+    "identity",
+    "degree",
+    "log_degree",
+    "random",
+    "constant",
+    "given_degree",
+    "laplacian",
+    "random_walk",
+]
+
+ATTENTION_KINDS = ("gat", "gatv2", "dot_product")
+MODEL_KINDS = ("gat", "gatv2", "dot_product", "gcn", "sage", "mlp")
+# options only an attention layer has; on any other kind they are errors, not silently ignored
+ATTENTION_ONLY = (
+    "heads",
+    "head_merge",
+    "hop_radius",
+    "attend_to_self",
+    "negative_slope",
+    "attention_dropout",
+    "residual",
+)
+# widest hidden layer (heads x width per head) a suite may ask for
+MAX_LAYER_WIDTH = 1024
 
 
 class ContenderBase(StrictModel):
-    """Options every contender has."""
+    """Options every contender has, including the node features it starts from.
+
+    `start_width` is the embedding width of `identity`, the dimension of `random`, the number
+    of Laplacian eigenvectors of `laplacian` and the number of walk steps of `random_walk`;
+    `degree_cap` caps the one-hot degree of `degree` and `given_degree`.
+    """
 
     layers: int = Field(2, ge=1, le=8)
     hidden: int = Field(64, ge=1, le=4096)
     dropout: float = Field(0.5, ge=0, lt=1)
     activation: Activation = "elu"
+    feature_start: FeatureStart = "given"
+    start_width: int = Field(16, ge=1, le=1024)
+    degree_cap: int = Field(32, ge=1, le=10_000)
     training: TrainingOverride = TrainingOverride()
+
+    @model_validator(mode="before")
+    @classmethod
+    def _attention_options_need_attention(cls, data: Any) -> Any:
+        if isinstance(data, dict) and "heads" not in cls.model_fields:
+            for key in ATTENTION_ONLY:
+                if key in data:
+                    raise ValueError(
+                        f"{UNKNOWN_KEY} '{key}' for model {data.get('model')!r}: it has no "
+                        f"attention; allowed only for {', '.join(ATTENTION_KINDS)}"
+                    )
+        return data
 
 
 class AttentionOptions(ContenderBase):
-    """Graph attention: `hidden` is the width of each head."""
+    """Graph attention: `hidden` is the width of each head.
 
-    model: Literal["gat", "gatv2"]
+    `heads` and `head_merge` take one value or a list with one entry per layer. One
+    `head_merge` value applies to the hidden layers; the output layer then averages its heads,
+    as in Velickovic et al. (2018). `hop_radius` k lets a node attend to every node within k
+    hops, and to itself when `attend_to_self`. `negative_slope` is the LeakyReLU slope of the
+    static and dynamic scores; scaled dot-product scores have none.
+    """
+
+    model: Literal["gat", "gatv2", "dot_product"]
     hidden: int = Field(8, ge=1, le=4096)
-    heads: int = Field(8, ge=1, le=16)
+    heads: HeadCount | list[HeadCount] = 8
+    head_merge: HeadMerge | list[HeadMerge] = "concatenate"
+    hop_radius: int = Field(1, ge=1, le=3)
+    attend_to_self: bool = True
+    negative_slope: float = Field(0.2, ge=0, lt=1)
     attention_dropout: float = Field(0.0, ge=0, lt=1)
+    residual: bool = False
+
+    @model_validator(mode="after")
+    def _layer_shapes(self) -> AttentionOptions:
+        for name in ("heads", "head_merge"):
+            value = getattr(self, name)
+            if isinstance(value, list) and len(value) != self.layers:
+                raise ValueError(
+                    f"{name} lists {len(value)} layers; allowed: one value, or a list with one "
+                    f"entry per layer ({self.layers})"
+                )
+        heads, merges = self.heads_per_layer(), self.merge_per_layer()
+        for index in range(self.layers - 1):
+            width = heads[index] * self.hidden if merges[index] == "concatenate" else self.hidden
+            if width > MAX_LAYER_WIDTH:
+                raise ValueError(
+                    f"layer {index + 1} is heads x hidden = {heads[index]} x {self.hidden} = "
+                    f"{width} wide; allowed: at most {MAX_LAYER_WIDTH}"
+                )
+        return self
+
+    def heads_per_layer(self) -> list[int]:
+        return list(self.heads) if isinstance(self.heads, list) else [self.heads] * self.layers
+
+    def merge_per_layer(self) -> list[str]:
+        """Velickovic et al. (2018) defaults: one value sets hidden layers, output averages."""
+        if isinstance(self.head_merge, list):
+            return list(self.head_merge)
+        return [self.head_merge] * (self.layers - 1) + ["average"]
 
 
 class ConvolutionOptions(ContenderBase):
@@ -53,6 +141,3 @@ ContenderOptions = Annotated[
     AttentionOptions | ConvolutionOptions | NeighbourMeanOptions | MLPOptions,
     Field(discriminator="model"),
 ]
-
-ATTENTION_KINDS = ("gat", "gatv2")
-MODEL_KINDS = ("gat", "gatv2", "gcn", "sage", "mlp")
