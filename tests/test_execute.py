@@ -1,0 +1,123 @@
+"""Execution: finished runs are kept across a SIGKILL, none is stored twice, reruns reuse all."""
+
+from __future__ import annotations
+
+import os
+import signal
+import sqlite3
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+import harness.execute
+from harness import store
+from harness.cli import main
+from harness.execute import execute, pending, threads_per_worker
+from harness.suite import expand, load_suite
+from harness.train import perform
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def stored_rows(path: Path) -> dict[str, tuple]:
+    """Every stored row by key, read-only; empty while the store does not exist yet."""
+    try:
+        connection = sqlite3.connect(f"file:{path}?mode=ro", uri=True, timeout=5)
+    except sqlite3.OperationalError:
+        return {}
+    try:
+        rows = connection.execute("SELECT * FROM runs").fetchall()
+        names = [d[0] for d in connection.execute("SELECT * FROM runs").description]
+    except sqlite3.OperationalError:  # the table is not created yet
+        return {}
+    finally:
+        connection.close()
+    key = names.index("key")
+    return {row[key]: row for row in rows}
+
+
+def test_threads_per_worker_keep_processes_times_threads_within_cores(monkeypatch):
+    monkeypatch.setattr(harness.execute, "available_cores", lambda: 8)
+    assert [threads_per_worker(jobs) for jobs in (1, 2, 3, 8, 16)] == [8, 4, 2, 1, 1]
+    for jobs in range(1, 9):
+        assert jobs * threads_per_worker(jobs) <= 8
+
+
+def test_execute_stores_each_run_once_and_skips_finished(tiny_suite, store_path):
+    specs = expand(load_suite(tiny_suite))
+    seen: list[str] = []
+    first = execute(specs[:4], store_path, jobs=1, on_finished=seen.append)
+    assert (first.planned, first.skipped, first.finished, first.interrupted) == (4, 0, 4, False)
+    assert sorted(seen) == sorted(s.contender for s in specs[:4])
+    assert [s.key for s in pending(specs, store_path)] == [s.key for s in specs[4:]]
+    second = execute(specs, store_path, jobs=1)
+    assert (second.planned, second.skipped, second.finished) == (6, 4, 2)
+    runs = store.load_runs(store_path)
+    assert sorted(runs["key"]) == sorted(s.key for s in specs)
+    assert execute(specs, store_path, jobs=2).finished == 0  # nothing left: no worker starts
+
+
+KILL_SUITE_CHANGES = {"seeds = 2": "seeds = 4"}
+
+
+@pytest.fixture
+def kill_suite(tiny_suite_text, write_suite) -> Path:
+    """The tiny suite on 4 seeds: 12 runs; the store is polled far faster than runs finish."""
+    text = tiny_suite_text
+    for old, new in KILL_SUITE_CHANGES.items():
+        text = text.replace(old, new)
+    return write_suite(text, "kill.toml")
+
+
+def test_sigkill_then_rerun_loses_nothing_and_stores_nothing_twice(kill_suite, tmp_path, capsys):
+    """`heedful run --jobs 2` is killed with SIGKILL after some runs are stored; a rerun
+    completes the suite, keeps every finished row byte for byte, and the worker processes'
+    figures equal those of the same runs trained in this process."""
+    store_file = tmp_path / "killed.db"
+    command = [sys.executable, "-m", "harness.cli", "run", str(kill_suite)]
+    command += ["--jobs", "2", "--quiet", "--store", str(store_file)]
+    process = subprocess.Popen(
+        command,
+        cwd=ROOT,
+        start_new_session=True,  # its own process group: the kill reaches the workers too
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+    )
+    deadline = time.monotonic() + 240
+    try:
+        while len(stored_rows(store_file)) < 2:
+            assert process.poll() is None, process.stderr.read().decode()
+            assert time.monotonic() < deadline, "no run was stored within 240 s"
+            time.sleep(0.05)
+    finally:
+        os.killpg(process.pid, signal.SIGKILL)
+        process.wait()
+    kept = stored_rows(store_file)
+    specs = expand(load_suite(kill_suite))
+    assert 2 <= len(kept) < len(specs), "the suite ended before the kill; make runs longer"
+
+    assert main(["run", str(kill_suite), "--store", str(store_file), "--quiet"]) == 0
+    reused = f"{len(specs) - len(kept)} runs trained, {len(kept)} reused from {store_file}"
+    assert reused in " ".join(capsys.readouterr().out.split())  # rich wraps long lines
+    after = stored_rows(store_file)
+    assert sorted(after) == sorted(s.key for s in specs)  # every run, each exactly once
+    with sqlite3.connect(store_file) as connection:
+        assert connection.execute("SELECT count(*) FROM runs").fetchone()[0] == len(specs)
+    for key, row in kept.items():
+        assert after[key] == row  # finished rows unchanged, finishing time included
+
+    # worker-process results equal in-process results, bit for bit
+    runs = store.load_runs(store_file).set_index("key")
+    for spec in [s for s in specs if s.key in kept][:2]:
+        result = perform(spec)
+        row = runs.loc[spec.key]
+        assert (row["val_metric"], row["test_metric"]) == (result.val_metric, result.test_metric)
+        assert (row["epochs"], row["best_epoch"]) == (result.epochs, result.best_epoch)
+        assert row["curve"] == result.curve
+
+    assert main(["run", str(kill_suite), "--store", str(store_file), "--quiet"]) == 0
+    assert f"0 runs trained, {len(specs)} reused" in " ".join(capsys.readouterr().out.split())
+    assert stored_rows(store_file) == after
