@@ -37,6 +37,9 @@ def command_check(args: argparse.Namespace) -> int:
         f"{args.suite}: suite '{suite.name}' is valid: {facts.nodes} nodes, {facts.edges} edges, "
         f"{facts.classes} classes, {facts.features} features"
     )
+    console.print(
+        f"measured homophily: edge {facts.edge_homophily:.3f}, node {facts.node_homophily:.3f}"
+    )
     for contender in suite.contenders:
         count = sum(1 for s in specs if s.contender == contender)
         console.print(f"  {contender}: {count} runs")

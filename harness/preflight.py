@@ -7,6 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from harness.data import load_graph
+from harness.data.homophily import measure_homophily
 from harness.data.splits import make_split
 from harness.errors import InputError
 from harness.schema.suite import Suite
@@ -14,10 +15,14 @@ from harness.schema.suite import Suite
 
 @dataclass(frozen=True)
 class DataFacts:
+    """Size of the graph and its measured homophily (labelled edges only, PyG's homophily())."""
+
     nodes: int
     edges: int
     classes: int
     features: int
+    edge_homophily: float  # Zhu et al. (2020)
+    node_homophily: float  # Pei et al. (2020)
 
 
 def preflight(suite: Suite, source: str) -> DataFacts:
@@ -37,4 +42,12 @@ def preflight(suite: Suite, source: str) -> DataFacts:
                 f"{source}: metric: 'roc_auc' is not defined when the test split of seed {seed} "
                 "holds one class; allowed: accuracy or macro_f1, or a larger test split"
             )
-    return DataFacts(data.num_nodes, data.edge_index.size(1) // 2, classes, data.num_features)
+    measured = measure_homophily(data.edge_index, data.y)
+    return DataFacts(
+        data.num_nodes,
+        data.edge_index.size(1) // 2,
+        classes,
+        data.num_features,
+        measured.edge,
+        measured.node,
+    )
