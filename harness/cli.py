@@ -11,7 +11,8 @@ from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, T
 
 from harness.errors import InputError
 
-console = Console()
+# piped output (logs, CI) is not cut to 80 columns: long contender names would be cut short
+console = Console(width=None if sys.stdout.isatty() else 200)
 errors = Console(stderr=True, highlight=False)
 
 
@@ -224,10 +225,17 @@ def positive_int(text: str) -> int:
     return value
 
 
+class OneLineParser(argparse.ArgumentParser):
+    """Command-line mistakes are bad input too: one line, exit status 2 (subcommands inherit)."""
+
+    def error(self, message: str) -> None:
+        self.exit(2, f"heedful: error: {self.prog}: {' '.join(message.split())}\n")
+
+
 def parser() -> argparse.ArgumentParser:
     from harness.store import DEFAULT_STORE
 
-    top = argparse.ArgumentParser(
+    top = OneLineParser(
         prog="heedful", description="Benchmark graph attention against simpler baselines."
     )
     commands = top.add_subparsers(dest="command", required=True, metavar="COMMAND")
