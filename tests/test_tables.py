@@ -277,3 +277,10 @@ def test_large_tables_load_column_wise(tmp_path: Path) -> None:
     removed = data.self_loops_removed + data.duplicate_edges_removed
     assert removed > 0  # 60,000 random pairs among 20,000 nodes repeat some pairs
     assert data.edge_index.size(1) // 2 + removed == 60_000
+
+
+def test_standardised_features_have_mean_zero_and_unit_spread(tmp_path: Path) -> None:
+    write(tmp_path)
+    data = load_tables(table_section(tmp_path, split_column="split", standardise=True))
+    assert data.x.mean(0).abs().max() < 1e-6
+    assert (data.x.std(0, unbiased=False) - 1).abs().max() < 1e-5

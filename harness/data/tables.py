@@ -11,6 +11,7 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
+from sklearn.preprocessing import StandardScaler
 from torch_geometric.data import Data
 
 from harness.data.assemble import SPLIT_PARTS, assemble
@@ -187,6 +188,8 @@ def load_tables(spec: TableData) -> Data:
         need_columns(nodes, spec.nodes, [column], key)
     index = node_index(nodes[spec.id_column], spec.nodes, spec.id_column)
     features = feature_matrix(nodes, feature_names(nodes, spec), spec.nodes)
+    if spec.standardise:  # constant columns stay at 0
+        features = StandardScaler().fit_transform(features).astype(np.float32)
     labels, class_names = label_codes(nodes, spec)
     split_part = split_codes(nodes, spec) if spec.split_column else None
 

@@ -132,6 +132,7 @@ class TableData(StrictModel):
     target_column: str = "target"
     weight_column: str | None = None
     directed: bool = False
+    standardise: bool = False  # rescale each feature column to mean 0, standard deviation 1
 
     @field_validator("nodes", "edges")
     @classmethod
