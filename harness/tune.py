@@ -12,6 +12,8 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
+import socket
 from collections.abc import Callable
 from dataclasses import dataclass, replace
 from typing import Any
@@ -36,6 +38,7 @@ from harness.suite import RunSpec, expand
 from harness.train import perform
 
 Settings = dict[str, Any]
+WORKER = f"{socket.gethostname()}:{os.getpid()}"  # which process ran a trial, for diagnosis
 
 
 class TrialSeededSampler(BaseSampler):
@@ -151,6 +154,7 @@ def objective_for(
 
     def objective(trial: Trial) -> float:
         admit(trial)
+        trial.set_user_attr("worker", WORKER)
         spec = with_settings(base, suggest(trial, space, base.options))
         if sizing is not None:
             spec = sizing(spec)
@@ -206,3 +210,25 @@ def tuning_plan(suite: Suite) -> list[Plan]:
 def repeats_study_name(suite: Suite, plans: list[Plan]) -> str:
     """The study whose enqueued trials are the seeded repeats of the tuned settings."""
     return f"{suite.name}:repeats:{digest([[p.study for p in plans], suite.seed_list])}"
+
+
+def tuning_outline(suite: Suite) -> list[str]:
+    """Lines that say how a suite is tuned (for `heedful check`)."""
+    tuning = suite.tuning
+    budget = " and at most ".join(
+        part
+        for part in (
+            f"{tuning.trials} finished trials" if tuning.trials else "",
+            f"{tuning.seconds:g} seconds of trials" if tuning.seconds else "",
+        )
+        if part
+    )
+    lines = [
+        f"tuning: every contender gets {budget}; {tuning.pruner} pruner; validation nodes of "
+        f"seed {suite.seed_list[0]} only; the best settings then run on every seed"
+    ]
+    if tuning.equal_parameters is not None:
+        lines.append(f"  hidden widths sized to the parameters of {tuning.equal_parameters!r}")
+    for plan in tuning_plan(suite):
+        lines.append(f"  {plan.contender} searches {', '.join(plan.space)}")
+    return lines

@@ -8,6 +8,8 @@ marked failed by the next worker that looks, and a copy with the same settings i
 from __future__ import annotations
 
 import socket
+import sqlite3
+import warnings
 from pathlib import Path
 
 import optuna
@@ -23,6 +25,7 @@ RETRIES = 3
 def default_storage_url(store_path: str | Path) -> str:
     """SQLite file beside the result store: runs/heedful.db -> runs/heedful-tuning.db."""
     store = Path(store_path)
+    store.parent.mkdir(parents=True, exist_ok=True)  # as the result store itself would
     return f"sqlite:///{store.with_name(store.stem + '-tuning.db').resolve()}"
 
 
@@ -63,6 +66,19 @@ def check_reachable(url: URL, timeout: float = 5.0) -> None:
         ) from None
 
 
+def sqlite_connector(database: str):  # noqa: ANN201 - returns a connection factory
+    """Connections in WAL mode with normal syncing: one commit per reported epoch stays cheap,
+    and readers never block the writer (SQLite documentation, "Write-Ahead Logging")."""
+
+    def connect() -> sqlite3.Connection:
+        connection = sqlite3.connect(database, timeout=120, check_same_thread=False)
+        connection.execute("PRAGMA journal_mode=WAL")
+        connection.execute("PRAGMA synchronous=NORMAL")
+        return connection
+
+    return connect
+
+
 def open_storage(
     url: str, heartbeat_seconds: int, grace_seconds: int
 ) -> optuna.storages.RDBStorage:
@@ -76,17 +92,26 @@ def open_storage(
             folder = Path(database).parent
             if not folder.is_dir():
                 raise InputError(f"--storage {shown(parsed)}: folder {folder} does not exist")
-        engine = {"connect_args": {"timeout": 120}}
+        engine = {"creator": sqlite_connector(database or ":memory:")}
     elif parsed.get_backend_name() == "postgresql":
         engine = {"connect_args": {"connect_timeout": 10}, "pool_pre_ping": True}
     try:
-        return optuna.storages.RDBStorage(
-            parsed.render_as_string(hide_password=False),
-            engine_kwargs=engine,
-            heartbeat_interval=heartbeat_seconds,
-            grace_period=grace_seconds,
-            heartbeat_stale_trial_callback=optuna.storages.RetryFailedTrialCallback(RETRIES),
-        )
+        with warnings.catch_warnings():  # heartbeats are marked experimental in Optuna
+            warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
+            return optuna.storages.RDBStorage(
+                parsed.render_as_string(hide_password=False),
+                engine_kwargs=engine,
+                heartbeat_interval=heartbeat_seconds,
+                grace_period=grace_seconds,
+                heartbeat_stale_trial_callback=optuna.storages.RetryFailedTrialCallback(RETRIES),
+            )
     except (sqlalchemy.exc.SQLAlchemyError, ImportError, ValueError, RuntimeError) as error:
         first = str(error).strip().splitlines()[0] if str(error).strip() else type(error).__name__
         raise InputError(f"--storage {shown(parsed)}: cannot open ({first})") from None
+
+
+def fail_stale_trials(study: optuna.Study) -> None:
+    """Mark trials whose worker stopped sending heartbeats as failed (and queue retries)."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
+        optuna.storages.fail_stale_trials(study)

@@ -42,7 +42,7 @@ from harness.tune import (
     tuning_plan,
     with_settings,
 )
-from harness.tuning_storage import open_storage
+from harness.tuning_storage import fail_stale_trials, open_storage
 
 FINISHED = (TrialState.COMPLETE, TrialState.PRUNED)
 LIVE = (TrialState.COMPLETE, TrialState.PRUNED, TrialState.RUNNING, TrialState.WAITING)
@@ -142,7 +142,7 @@ def take_share(study: optuna.Study, objective: Callable[[Trial], float], tuning:
 def settle(study: optuna.Study, objective: Callable[[Trial], float], tuning: Tuning) -> None:
     """Wait until the budget is spent and no trial runs; take over trials of dead workers."""
     while True:
-        optuna.storages.fail_stale_trials(study)
+        fail_stale_trials(study)
         used = usage(study)
         if budget_spent(used, tuning) and used.running == 0:
             return
@@ -263,7 +263,7 @@ def run_repeats(
             study.stop()
 
     while True:
-        optuna.storages.fail_stale_trials(study)
+        fail_stale_trials(study)
         enqueue_missing(study, wanted)
         trials = study.get_trials(deepcopy=False)
         done = {

@@ -41,13 +41,25 @@ def tuning_tables(
 ) -> Group:
     """Budget use per contender, best settings with importances, best curves, sizing."""
     used = Table(title="Tuning: the same budget for every contender", title_justify="left")
-    for header in ("contender", "model", "budget", "completed", "pruned", "failed", "seconds"):
+    for header in ("contender", "model", "budget", "done", "pruned", "failed", "seconds"):
         used.add_column(header, justify="left" if header in ("contender", "model") else "right")
     used.add_column("epochs", justify="right")
-    used.add_column("best validation", justify="right")
-    used.add_column("validation curve of the best trial")
+    used.add_column("best val", justify="right")
+    curve_table = Table(title="Validation curve of the best trial", title_justify="left")
+    for header in ("contender", "epochs", "first", "best", "curve"):
+        curve_table.add_column(
+            header, justify="left" if header in ("contender", "curve") else "right"
+        )
     for _, row in summary.iterrows():
         curve = curves[curves["contender"] == row["contender"]]["validation"].tolist()
+        if curve:
+            curve_table.add_row(
+                str(row["contender"]),
+                str(len(curve)),
+                number(curve[0]),
+                number(max(curve)),
+                sparkline(curve),
+            )
         used.add_row(
             str(row["contender"]),
             str(row["model"]),
@@ -58,7 +70,6 @@ def tuning_tables(
             number(row["seconds"], 1),
             str(row["epochs"]),
             number(row["best_validation"]),
-            sparkline(curve),
         )
     chosen = Table(title="Best settings and their importance (fANOVA)", title_justify="left")
     for header in ("contender", "setting", "value", "importance"):
@@ -67,7 +78,7 @@ def tuning_tables(
         value = row["value"]
         shown = f"{value:.4g}" if isinstance(value, float) else str(value)
         chosen.add_row(row["contender"], row["setting"], shown, number(row["importance"], 2))
-    parts = [used, chosen]
+    parts = [used, chosen, curve_table]
     if parameters is not None and not parameters.empty:
         sized = Table(
             title="Equal parameters: hidden width sized to the target", title_justify="left"
