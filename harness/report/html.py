@@ -17,7 +17,7 @@ blockquote { font-size: 1.15rem; border-left: 4px solid #c2571a; margin: 1rem 0;
 table { border-collapse: collapse; margin: 0.5rem 0 1rem; font-size: 0.85rem; }
 th, td { padding: 0.25rem 0.6rem; border-bottom: 1px solid #e0e0e0; text-align: left; }
 th { border-bottom: 2px solid #616161; }
-td.number { text-align: right; font-variant-numeric: tabular-nums; }
+td.number { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 .note { color: #616161; font-size: 0.85rem; }
 figure { margin: 1rem 0 2rem; }
 figure img { max-width: 100%; }

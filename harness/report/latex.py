@@ -17,6 +17,8 @@ _SPECIAL = {
     "~": r"\textasciitilde{}",
     "^": r"\textasciicircum{}",
     "<": r"\textless{}",
+    "[": "{[}",  # a row starting with [ would be read as the spacing argument of \\
+    "]": "{]}",
     ">": r"\textgreater{}",
     "±": r"$\pm$",
     "−": "-",

@@ -25,7 +25,12 @@ VERDICT_COLOURS = {
     INCONCLUSIVE: "#f9a825",
 }
 MAX_PANELS = 12
-STYLE = {"text.parse_math": False, "font.size": 9, "axes.spines.top": False}
+STYLE = {
+    "text.parse_math": False,
+    "font.size": 9,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+}
 
 
 def _png(figure: Figure) -> bytes:
