@@ -99,7 +99,8 @@ def text_table(part: TextTable) -> Table:
 def print_verdicts(report: SuiteReport, console: Console | None = None) -> None:
     """The paired comparisons, the reason for each verdict and the headline sentence."""
     console = console or Console()
-    console.print(text_table(narrow(comparison_table(report), TERMINAL_COMPARISON)))
+    if not report.comparisons.empty:
+        console.print(text_table(narrow(comparison_table(report), TERMINAL_COMPARISON)))
     for line in reasons(report):
         console.print(f"  {escape(line)}", highlight=False)
     console.print(f"[bold]Verdict:[/bold] {escape(report.headline)}", highlight=False)
