@@ -261,3 +261,22 @@ SplitSection = Annotated[
         custom_error_message="unknown split method; allowed: fractions, per_class, column",
     ),
 ]
+
+
+class HomophilyMap(StrictModel):
+    """Run the contenders on synthetic graphs matched to the suite's data (nodes, average
+    degree, classes and their balance, feature width) at each edge homophily in `levels`."""
+
+    levels: list[float] = [0.1, 0.3, 0.5, 0.7, 0.9]
+    seeds: int = Field(2, ge=1, le=100)
+    feature_signal: float = Field(1.0, ge=0, le=100)
+    graph_seed: int = Field(0, ge=0)
+
+    @field_validator("levels")
+    @classmethod
+    def _levels_in_range(cls, levels: list[float]) -> list[float]:
+        if len(levels) < 2 or len(set(levels)) != len(levels):
+            raise ValueError("allowed: two or more distinct edge homophily values")
+        if any(not 0 <= level <= 1 for level in levels):
+            raise ValueError("allowed: edge homophily values from 0 to 1")
+        return sorted(levels)
