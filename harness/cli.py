@@ -45,6 +45,11 @@ def command_check(args: argparse.Namespace) -> int:
         count = sum(1 for s in specs if s.contender == contender)
         console.print(f"  {contender}: {count} runs")
     console.print(f"{len(specs)} runs in total")
+    if suite.tuning is not None:
+        from harness.tune import tuning_outline
+
+        for line in tuning_outline(suite):
+            console.print(line, markup=False)
     return 0
 
 
@@ -58,6 +63,10 @@ def command_run(args: argparse.Namespace) -> int:
     from harness.suite import expand, load_suite
 
     suite = load_suite(args.suite)
+    if suite.tuning is not None:
+        url = checked_storage(args, suite)  # a bad storage fails before anything is written
+        preflight(suite, args.suite)
+        return run_tuned(args, suite, url)
     specs = expand(suite)
     preflight(suite, args.suite)
     todo = len(pending(specs, args.store))
@@ -83,6 +92,82 @@ def command_run(args: argparse.Namespace) -> int:
     console.print(f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}")
     print_summary(summarise(runs), console)
     print_verdicts(analyse(runs, suite.analysis), console)
+    return 0
+
+
+def checked_storage(args: argparse.Namespace, suite) -> str:
+    """The tuning storage URL (default: beside the result store), opened once to check it."""
+    from harness.tuning_storage import default_storage_url, open_storage
+
+    url = args.storage or default_storage_url(args.store)
+    open_storage(url, suite.tuning.heartbeat_seconds, suite.tuning.grace_seconds)
+    return url
+
+
+def run_tuned(args: argparse.Namespace, suite, url: str) -> int:
+    """Tune every contender with one budget, then run the seeded repeats (shared storage)."""
+    from harness import store
+    from harness.api import analyse
+    from harness.report.terminal import print_summary, print_verdicts
+    from harness.stats import summarise
+    from harness.workers import work_in_processes
+
+    if not args.quiet:
+        console.print(f"{suite.name}: tuning with {args.jobs} worker(s) on storage {url}")
+    outcome = work_in_processes(args.suite, args.store, url, args.jobs)
+    print_tuning_of(suite, url)
+    runs = store.load_runs(args.store, [suite.name])
+    runs = runs[runs["key"].isin(outcome.keys)]
+    print_summary(summarise(runs), console)
+    if not runs.empty:
+        print_verdicts(analyse(runs, suite.analysis), console)
+    return 0
+
+
+def print_tuning_of(suite, storage_url: str) -> None:
+    from harness.report.tuning import print_tuning
+    from harness.tuning_results import (
+        curve_frame,
+        parameter_frame,
+        settings_frame,
+        summary_frame,
+        tuning_summary,
+    )
+    from harness.tuning_storage import open_storage
+
+    tuning = suite.tuning
+    storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)
+    summaries = tuning_summary(suite, storage)
+    print_tuning(
+        summary_frame(summaries),
+        settings_frame(summaries),
+        curve_frame(summaries),
+        parameter_frame(suite, summaries),
+        console,
+    )
+
+
+def command_tuning(args: argparse.Namespace) -> int:
+    from harness.suite import load_suite
+    from harness.tuning_storage import default_storage_url
+
+    suite = load_suite(args.suite)
+    if suite.tuning is None:
+        raise InputError(f"{args.suite}: tuning: the suite has no [tuning] table")
+    print_tuning_of(suite, args.storage or default_storage_url(args.store))
+    return 0
+
+
+def command_profile(args: argparse.Namespace) -> int:
+    from harness.profile_store import suite_profile
+    from harness.report.profile import print_profile, profile_json
+    from harness.suite import load_suite
+
+    profile, notes = suite_profile(load_suite(args.suite), args.suite)
+    if args.format == "json":
+        sys.stdout.write(profile_json(profile) + "\n")
+    else:
+        print_profile(profile, console, tuple(notes))
     return 0
 
 
@@ -248,6 +333,14 @@ def parser() -> argparse.ArgumentParser:
             help=f"result store file (default {DEFAULT_STORE})",
         )
 
+    def with_storage(sub: argparse.ArgumentParser) -> None:
+        sub.add_argument(
+            "--storage",
+            metavar="URL",
+            help="tuning storage, any SQLAlchemy URL Optuna supports (default: SQLite file "
+            "beside the result store); workers on one storage share the work",
+        )
+
     check = commands.add_parser("check", help="validate a suite and count its runs")
     check.add_argument("suite")
     check.set_defaults(handler=command_check)
@@ -257,7 +350,14 @@ def parser() -> argparse.ArgumentParser:
     run.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
     run.add_argument("--quiet", action="store_true", help="no progress bar")
     with_store(run)
+    with_storage(run)
     run.set_defaults(handler=command_run)
+
+    tuned = commands.add_parser("tuning", help="print what tuning did for a tuned suite")
+    tuned.add_argument("suite")
+    with_store(tuned)
+    with_storage(tuned)
+    tuned.set_defaults(handler=command_tuning)
 
     show = commands.add_parser("show", help="print stored runs")
     show.add_argument("suite", nargs="?", help="suite file or suite name (default: all)")

@@ -7,9 +7,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from harness.data import load_graph
+from harness.data.feature_starts import check_contender_graphs
 from harness.data.homophily import measure_homophily
 from harness.data.splits import make_split
 from harness.errors import InputError
+from harness.schema.ablation import design_points
 from harness.schema.suite import Suite
 
 
@@ -42,6 +44,7 @@ def preflight(suite: Suite, source: str) -> DataFacts:
                 f"{source}: metric: 'roc_auc' is not defined when the test split of seed {seed} "
                 "holds one class; allowed: accuracy or macro_f1, or a larger test split"
             )
+    check_contender_graphs(design_points(suite, source), data, suite.hops.memory_budget_mb, source)
     measured = measure_homophily(data.edge_index, data.y)
     return DataFacts(
         data.num_nodes,

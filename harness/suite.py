@@ -16,6 +16,7 @@ from harness.errors import InputError
 from harness.schema.base import format_validation_error
 from harness.schema.suite import Suite
 from harness.schema.training import Training
+from harness.schema.tuning import check_tuning
 
 
 @dataclass(frozen=True)
@@ -72,9 +73,11 @@ def read_suite_file(path: str | Path) -> dict:
 def parse_suite(raw: dict, source: str) -> Suite:
     """Validate raw suite data; errors name the source and key path."""
     try:
-        return Suite.model_validate(raw)
+        suite = Suite.model_validate(raw)
     except ValidationError as error:
         raise InputError(format_validation_error(error, raw, source)) from None
+    check_tuning(suite, source)  # search spaces against the contenders' options
+    return suite
 
 
 def load_suite(path: str | Path) -> Suite:

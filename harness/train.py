@@ -5,7 +5,7 @@ from __future__ import annotations
 import copy
 import time
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import torch
@@ -13,9 +13,12 @@ from torch import nn
 from torch_geometric.data import Data
 
 from harness.data import load_graph
+from harness.data.feature_starts import contender_graph
 from harness.data.splits import Split, make_split
+from harness.diagnostics import attention_diagnostics
 from harness.metrics import METRICS, fast_score, score
 from harness.models import build_model
+from harness.schema.contenders import ATTENTION_KINDS
 from harness.schema.training import Training
 from harness.suite import RunSpec
 
@@ -154,5 +157,11 @@ def perform(
         split = Split(split.train, split.validation, split.train[:0])
     torch.manual_seed(spec.seed)
     classes = int(data.y.max()) + 1
-    model = build_model(spec.options, data.num_features, classes)
-    return fit(model, data, split, spec.training, spec.metric, on_epoch)
+    started = contender_graph(data, spec.options, spec.seed, spec.hop_cache)
+    model = build_model(spec.options, started.width, classes, started.embedding_rows)
+    result = fit(model, started.data, split, spec.training, spec.metric, on_epoch)
+    if spec.model in ATTENTION_KINDS:
+        graph = started.data
+        diagnostics = attention_diagnostics(model, graph.x, graph.edge_index, graph.y)
+        result = replace(result, extras={**result.extras, "attention": diagnostics})
+    return result

@@ -20,6 +20,12 @@ from harness.errors import InputError
 
 DEFAULT_PORTS = {"postgresql": 5432, "mysql": 3306, "mariadb": 3306}
 RETRIES = 3
+# a stale trial is queued again with the same settings (the class was renamed in Optuna 4.9)
+RETRY = getattr(
+    optuna.storages,
+    "RetryHeartbeatStaleTrialCallback",
+    getattr(optuna.storages, "RetryFailedTrialCallback", None),
+)
 
 
 def default_storage_url(store_path: str | Path) -> str:
@@ -103,7 +109,7 @@ def open_storage(
                 engine_kwargs=engine,
                 heartbeat_interval=heartbeat_seconds,
                 grace_period=grace_seconds,
-                heartbeat_stale_trial_callback=optuna.storages.RetryFailedTrialCallback(RETRIES),
+                heartbeat_stale_trial_callback=RETRY(RETRIES),
             )
     except (sqlalchemy.exc.SQLAlchemyError, ImportError, ValueError, RuntimeError) as error:
         first = str(error).strip().splitlines()[0] if str(error).strip() else type(error).__name__

@@ -11,6 +11,7 @@ from rich.markup import escape
 from rich.table import Table
 
 from harness.api import SuiteReport
+from harness.axes import AblationView
 from harness.report.tables import TextTable, all_tables, comparison_table, reasons
 
 METRIC_LABELS = {"accuracy": "accuracy", "macro_f1": "macro-F1", "roc_auc": "ROC-AUC"}
@@ -43,7 +44,7 @@ def summary_table(summary: pd.DataFrame, title: str) -> Table:
     for index, row in summary.iterrows():
         style = "bold green" if index == best else None
         table.add_row(
-            str(row["contender"]),
+            escape(str(row["contender"])),  # variant labels hold [brackets]
             str(row["model"]),
             str(row["seeds"]),
             f"{number(row['mean'])} ± {number(row['std'])}",
@@ -60,6 +61,90 @@ def print_summary(summary: pd.DataFrame, console: Console | None = None) -> None
     console = console or Console()
     for suite, group in summary.groupby("suite", sort=False):
         console.print(summary_table(group.reset_index(drop=True), f"Suite: {suite}"))
+
+
+def _share(value: float, chance: float) -> str:
+    """A measured share with its uniform-attention value in brackets; "-" when not measured."""
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return "-"
+    return f"{number(value)} ({number(chance)})"
+
+
+def axis_level_table(levels: pd.DataFrame, attention: pd.DataFrame, metric: str) -> Table:
+    """One section per axis: each level's test metric, its effect, and its attention."""
+    first = levels.iloc[0]
+    label = METRIC_LABELS.get(metric, metric)
+    table = Table(
+        title=f"Ablation of '{escape(str(first['contender']))}' by axis "
+        f"(suite {escape(str(first['suite']))})",
+        title_justify="left",
+        caption="effect: level mean minus the mean of the axis's levels, in points (0.01). "
+        "Attention: mean over layers, heads and runs; uniform attention gives entropy 1 and "
+        "the chance share in brackets.",
+        caption_justify="left",
+    )
+    for header in (
+        "axis",
+        "level",
+        "runs",
+        f"test {label} [95% CI]",
+        "effect [95% CI]",
+        "entropy",
+        "same label",
+    ):
+        table.add_column(header, justify="left" if header in ("axis", "level") else "right")
+    keyed = attention.set_index(["axis", "level"]) if not attention.empty else None
+    for axis, group in levels.groupby("axis", sort=False):
+        for index, row in enumerate(group.itertuples()):
+            found = keyed is not None and (axis, row.level) in keyed.index
+            diag = keyed.loc[(axis, row.level)] if found else None
+            table.add_row(
+                escape(str(axis)) if index == 0 else "",
+                escape(str(row.level)),
+                str(row.runs),
+                f"{number(row.mean)} [{number(row.t_low)}, {number(row.t_high)}]",
+                f"{row.effect:+.1f} [{row.effect_low:+.1f}, {row.effect_high:+.1f}]",
+                number(diag["entropy_ratio"], 2) if found else "-",
+                _share(diag["same_label_share"], diag["neighbour_homophily"]) if found else "-",
+            )
+        table.add_section()
+    return table
+
+
+def attention_diagnostics_table(attention: pd.DataFrame) -> Table:
+    """Per variant: does its attention differ from neighbour averaging?"""
+    table = Table(
+        title="Attention diagnostics (mean over layers, heads and seeds)",
+        title_justify="left",
+        caption="entropy: relative to uniform attention over the same neighbourhood (1 = "
+        "uniform). Shares: attention on the self-loop, and on same-label neighbours; in "
+        "brackets what uniform attention would give.",
+        caption_justify="left",
+    )
+    for header in ("contender", "runs", "entropy", "self share", "same label"):
+        table.add_column(header, justify="left" if header == "contender" else "right")
+    for row in attention.itertuples():
+        table.add_row(
+            escape(str(row.variant)),
+            str(row.runs),
+            number(row.entropy_ratio),
+            _share(row.self_share, row.uniform_self_share),
+            _share(row.same_label_share, row.neighbour_homophily),
+        )
+    return table
+
+
+def print_ablation(view: AblationView, console: Console | None = None) -> None:
+    """Grouped-by-axis tables of every ablated contender, then attention diagnostics."""
+    console = console or Console()
+    by_level = view.attention_levels
+    if not view.levels.empty:
+        for (suite, contender), group in view.levels.groupby(["suite", "contender"], sort=False):
+            mine = by_level[(by_level["suite"] == suite) & (by_level["contender"] == contender)]
+            diagnostics = mine.drop(columns=["suite", "contender"])
+            console.print(axis_level_table(group, diagnostics, view.metric))
+    for _, group in view.attention_variants.groupby("suite", sort=False):
+        console.print(attention_diagnostics_table(group))
 
 
 VERDICT_STYLES = {

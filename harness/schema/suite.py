@@ -6,10 +6,11 @@ from typing import Literal
 
 from pydantic import Field, ValidationInfo, field_validator
 
+from harness.schema.ablation import Ablation, HopSettings
 from harness.schema.analysis import Analysis, unknown_contenders
 from harness.schema.base import StrictModel
 from harness.schema.contenders import ContenderOptions
-from harness.schema.data import DataSection, FractionSplit, SplitSection
+from harness.schema.data import DataSection, FractionSplit, HomophilyMap, SplitSection
 from harness.schema.gate import GateOptions
 from harness.schema.training import Training
 from harness.schema.tuning import Tuning
@@ -28,11 +29,14 @@ class Suite(StrictModel):
     data: DataSection
     split: SplitSection = FractionSplit()
     setting: Setting = "transductive"
+    ablation: dict[str, Ablation] = {}
+    hops: HopSettings = HopSettings()
     training: Training = Training()
     contenders: dict[str, ContenderOptions]
     gate: GateOptions = GateOptions()
     analysis: Analysis = Analysis()
     tuning: Tuning | None = None
+    homophily_map: HomophilyMap | None = None
 
     @field_validator("seeds")
     @classmethod
