@@ -13,6 +13,12 @@ from pydantic import BaseModel, ValidationError
 
 import harness
 from harness.errors import InputError
+from harness.schema.ablation import (
+    DEFAULT_HOP_CACHE,
+    design_points,
+    hop_cache_directory,
+    point_label,
+)
 from harness.schema.base import format_validation_error
 from harness.schema.suite import Suite
 from harness.schema.training import Training
@@ -33,10 +39,16 @@ class RunSpec:
     seed: int
     setting: str = "transductive"
     point: dict[str, Any] = field(default_factory=dict)
+    hop_cache: str = DEFAULT_HOP_CACHE  # where k-hop edge sets are cached; not in the key
 
     @property
     def model(self) -> str:
         return self.options.model
+
+    @property
+    def label(self) -> str:
+        """The contender with its ablation point, e.g. `attention[heads=4,hop_radius=2]`."""
+        return point_label(self.contender, self.point)
 
     @property
     def key(self) -> str:
@@ -76,6 +88,7 @@ def parse_suite(raw: dict, source: str) -> Suite:
         suite = Suite.model_validate(raw)
     except ValidationError as error:
         raise InputError(format_validation_error(error, raw, source)) from None
+    design_points(suite, source)  # ablation axes and levels, checked once here
     check_tuning(suite, source)  # search spaces against the contenders' options
     return suite
 
@@ -86,15 +99,16 @@ def load_suite(path: str | Path) -> Suite:
 
 
 def expand(suite: Suite) -> list[RunSpec]:
-    """All runs of a suite: every contender on every seed (seeds paired across contenders)."""
+    """All runs of a suite: every contender and ablation point on every seed (seeds paired)."""
     runs = []
-    for name, options in suite.contenders.items():
+    for design in design_points(suite):
+        options = design.options
         training = options.training.apply(suite.training)
         for seed in suite.seed_list:
             runs.append(
                 RunSpec(
                     suite=suite.name,
-                    contender=name,
+                    contender=design.contender,
                     options=options,
                     training=training,
                     data=suite.data,
@@ -102,6 +116,8 @@ def expand(suite: Suite) -> list[RunSpec]:
                     metric=suite.metric,
                     seed=seed,
                     setting=suite.setting,
+                    point=design.point,
+                    hop_cache=hop_cache_directory(suite.hops),
                 )
             )
     return runs
