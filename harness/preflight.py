@@ -7,6 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from harness.data import load_graph
+from harness.data.assemble import cleaning_notes
 from harness.data.feature_starts import check_contender_graphs
 from harness.data.homophily import measure_homophily
 from harness.data.splits import make_split
@@ -25,6 +26,7 @@ class DataFacts:
     features: int
     edge_homophily: float  # Zhu et al. (2020)
     node_homophily: float  # Pei et al. (2020)
+    notes: tuple[str, ...] = ()  # self-loops and repeated edges removed on load
 
 
 def preflight(suite: Suite, source: str) -> DataFacts:
@@ -53,4 +55,6 @@ def preflight(suite: Suite, source: str) -> DataFacts:
         data.num_features,
         measured.edge,
         measured.node,
+        tuple(cleaning_notes(data, f"{source}: data")),
     )
+

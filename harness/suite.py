@@ -85,7 +85,8 @@ def read_suite_file(path: str | Path) -> dict:
 def parse_suite(raw: dict, source: str) -> Suite:
     """Validate raw suite data; errors name the source and key path."""
     try:
-        suite = Suite.model_validate(raw)
+        # data file paths in a suite are relative to the suite file's folder
+        suite = Suite.model_validate(raw, context={"folder": str(Path(source).parent)})
     except ValidationError as error:
         raise InputError(format_validation_error(error, raw, source)) from None
     design_points(suite, source)  # ablation axes and levels, checked once here
