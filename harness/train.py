@@ -14,6 +14,7 @@ from torch_geometric.data import Data
 
 from harness.data import load_graph
 from harness.data.feature_starts import contender_graph
+from harness.data.inductive import measure_arrival, training_subgraph
 from harness.data.splits import Split, make_split
 from harness.diagnostics import attention_diagnostics
 from harness.metrics import METRICS, fast_score, score
@@ -73,8 +74,12 @@ def fit(
     training: Training,
     metric: str,
     on_epoch: Callable[[int, float], None] | None = None,
+    training_graph: Data | None = None,
 ) -> RunResult:
     """Train until `epochs` or `patience` epochs without validation gain; restore best weights.
+
+    `training_graph` (inductive runs): the training forward pass sees only this graph, and the
+    loss is taken at its `train_rows`; validation and test still use `data`, the full graph.
 
     `on_epoch(epoch, validation_score)` may raise to stop the run early (used by pruning).
     Peak memory is the tensor memory of a training step: parameters, gradients, Adam state,
@@ -86,6 +91,8 @@ def fit(
     )
     x, edge_index, y = data.x, data.edge_index, data.y
     train_y, val_y = y[split.train], y[split.validation]
+    seen = data if training_graph is None else training_graph
+    seen_rows = split.train if training_graph is None else training_graph.train_rows
     best_score, best_epoch, best_state = -float("inf"), 0, copy.deepcopy(model.state_dict())
     curve: list[float] = []
     meter = ActivationMeter()
@@ -96,11 +103,11 @@ def fit(
         optimizer.zero_grad()
         if epoch == 1:
             with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
-                logits = model(x, edge_index)
-                loss = nn.functional.cross_entropy(logits[split.train], train_y)
+                logits = model(seen.x, seen.edge_index)
+                loss = nn.functional.cross_entropy(logits[seen_rows], train_y)
         else:
-            logits = model(x, edge_index)
-            loss = nn.functional.cross_entropy(logits[split.train], train_y)
+            logits = model(seen.x, seen.edge_index)
+            loss = nn.functional.cross_entropy(logits[seen_rows], train_y)
         loss.backward()
         optimizer.step()
         model.eval()
@@ -159,7 +166,16 @@ def perform(
     classes = int(data.y.max()) + 1
     started = contender_graph(data, spec.options, spec.seed, spec.hop_cache)
     model = build_model(spec.options, started.width, classes, started.embedding_rows)
-    result = fit(model, started.data, split, spec.training, spec.metric, on_epoch)
+    inductive = None
+    if spec.setting == "inductive":  # held-out nodes and their edges never reach training
+        train_graph = training_subgraph(data, split)
+        inductive = contender_graph(train_graph, spec.options, spec.seed, spec.hop_cache).data
+    result = fit(model, started.data, split, spec.training, spec.metric, on_epoch, inductive)
+    if inductive is not None and not validation_only:
+        radius = spec.options.layers * getattr(spec.options, "hop_radius", 1)
+        radius += spec.model == "gcn"  # degree weights reach 1 hop more
+        arrival = measure_arrival(model, started.data, split, radius, seed=spec.seed)
+        result = replace(result, extras={**result.extras, "arrival": arrival.as_dict()})
     if spec.model in ATTENTION_KINDS:
         graph = started.data
         diagnostics = attention_diagnostics(model, graph.x, graph.edge_index, graph.y)
