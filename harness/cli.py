@@ -41,6 +41,8 @@ def command_check(args: argparse.Namespace) -> int:
     console.print(
         f"measured homophily: edge {facts.edge_homophily:.3f}, node {facts.node_homophily:.3f}"
     )
+    for note in facts.notes:
+        console.print(f"note: {note}")
     for contender in suite.contenders:
         count = sum(1 for s in specs if s.contender == contender)
         console.print(f"  {contender}: {count} runs")
@@ -58,6 +60,7 @@ def command_run(args: argparse.Namespace) -> int:
     from harness.api import analyse
     from harness.execute import execute, pending
     from harness.preflight import preflight
+    from harness.profile_store import record_profile
     from harness.report.terminal import print_summary, print_verdicts
     from harness.stats import summarise
     from harness.suite import expand, load_suite
@@ -66,9 +69,11 @@ def command_run(args: argparse.Namespace) -> int:
     if suite.tuning is not None:
         url = checked_storage(args, suite)  # a bad storage fails before anything is written
         preflight(suite, args.suite)
+        record_profile(suite, args.store)
         return run_tuned(args, suite, url)
     specs = expand(suite)
     preflight(suite, args.suite)
+    profile = record_profile(suite, args.store)
     todo = len(pending(specs, args.store))
     with Progress(
         TextColumn("[bold]{task.description}"),
@@ -92,6 +97,28 @@ def command_run(args: argparse.Namespace) -> int:
     console.print(f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}")
     print_summary(summarise(runs), console)
     print_verdicts(analyse(runs, suite.analysis), console)
+    if suite.homophily_map is not None:
+        return run_homophily_map(args, suite, profile)
+    return 0
+
+
+def run_homophily_map(args: argparse.Namespace, suite, profile) -> int:
+    """The suite's contenders on synthetic graphs matched to its data, across edge homophily."""
+    from harness import store
+    from harness.execute import execute
+    from harness.homophily_map import map_specs, map_suite_name, summarise_map
+    from harness.report.homophily_map import print_homophily_map
+
+    specs = map_specs(suite, profile)
+    if not args.quiet:
+        console.print(f"homophily map: {len(specs)} runs on matched synthetic graphs")
+    outcome = execute(specs, args.store, args.jobs)
+    if outcome.interrupted:
+        errors.print(f"interrupted: homophily map runs so far are stored in {args.store}")
+        return 130
+    runs = store.load_runs(args.store, [map_suite_name(suite)])
+    runs = runs[runs["key"].isin({s.key for s in specs})]
+    print_homophily_map(summarise_map(runs, profile, suite.metric), console)
     return 0
 
 
@@ -155,6 +182,19 @@ def command_tuning(args: argparse.Namespace) -> int:
     if suite.tuning is None:
         raise InputError(f"{args.suite}: tuning: the suite has no [tuning] table")
     print_tuning_of(suite, args.storage or default_storage_url(args.store))
+    return 0
+
+
+def command_profile(args: argparse.Namespace) -> int:
+    from harness.profile_store import suite_profile
+    from harness.report.profile import print_profile, profile_json
+    from harness.suite import load_suite
+
+    profile, notes = suite_profile(load_suite(args.suite), args.suite)
+    if args.format == "json":
+        sys.stdout.write(profile_json(profile) + "\n")
+    else:
+        print_profile(profile, console, tuple(notes))
     return 0
 
 
@@ -358,6 +398,11 @@ def parser() -> argparse.ArgumentParser:
     with_store(tuned)
     with_storage(tuned)
     tuned.set_defaults(handler=command_tuning)
+
+    profile = commands.add_parser("profile", help="describe a suite's data and its homophily")
+    profile.add_argument("suite")
+    profile.add_argument("--format", choices=("table", "json"), default="table")
+    profile.set_defaults(handler=command_profile)
 
     show = commands.add_parser("show", help="print stored runs")
     show.add_argument("suite", nargs="?", help="suite file or suite name (default: all)")
