@@ -198,19 +198,6 @@ def command_profile(args: argparse.Namespace) -> int:
     return 0
 
 
-def command_profile(args: argparse.Namespace) -> int:
-    from harness.profile_store import suite_profile
-    from harness.report.profile import print_profile, profile_json
-    from harness.suite import load_suite
-
-    profile, notes = suite_profile(load_suite(args.suite), args.suite)
-    if args.format == "json":
-        sys.stdout.write(profile_json(profile) + "\n")
-    else:
-        print_profile(profile, console, tuple(notes))
-    return 0
-
-
 def command_show(args: argparse.Namespace) -> int:
     from harness import store
     from harness.api import analyse_each, settings_of
