@@ -317,11 +317,14 @@ def command_history(args: argparse.Namespace) -> int:
 
 def command_report(args: argparse.Namespace) -> int:
     from harness.api import analyse_store
+    from harness.history import stored_history
     from harness.report.files import write_report
     from harness.report.terminal import print_report
+    from harness.report.trend import trend_png
 
     report = analyse_store(args.store, args.suite)
-    written = write_report(report, args.out)
+    trend = trend_png(stored_history(args.store, report.suite))
+    written = write_report(report, args.out, trend)
     print_report(report, console)
     console.print(f"{len(written)} files written to {args.out}", highlight=False)
     return 0

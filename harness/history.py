@@ -120,3 +120,14 @@ def load_history(path: str | Path, suite: str | None = None) -> pd.DataFrame:
         frame[column] = frame[column].map(json.loads)
     frame["environment_differs"] = frame["environment_differs"].astype(bool)
     return frame
+
+
+def stored_history(path: str | Path, suite: str) -> pd.DataFrame:
+    """A suite's gate history, or an empty frame when the store or its history is missing."""
+    if not Path(path).is_file():
+        return pd.DataFrame()
+    with closing(store.connect(path, create=False)) as connection:
+        found = connection.execute(
+            "SELECT name FROM sqlite_master WHERE type = 'table' AND name = 'gate_history'"
+        ).fetchone()
+    return load_history(path, suite) if found else pd.DataFrame()

@@ -8,9 +8,10 @@ import pytest
 from harness.baseline import build_baseline, contender_labels
 from harness.cli import main
 from harness.gate import evaluate
-from harness.history import append, load_history
+from harness.history import append, load_history, stored_history
 from harness.report.gate_terminal import sparkline
-from harness.report.trend import save_trend, trend_figure
+from harness.report.html import trend_section
+from harness.report.trend import save_trend, trend_figure, trend_png
 from harness.schema.gate import BaselineFile
 from harness.suite import expand, parse_suite
 
@@ -132,3 +133,13 @@ def test_trend_plot_has_one_line_per_contender(stored, tmp_path):
     path = tmp_path / "trend.png"
     save_trend(history, str(path))
     assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_html_report_gains_the_trend_plot_only_with_history(stored, tmp_path):
+    png = trend_png(stored_history(stored, "docks"))
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+    section = trend_section(png)
+    assert section.startswith("<h2>Gate history</h2>") and "data:image/png;base64," in section
+    assert trend_png(stored_history(stored, "other suite")) is None
+    assert trend_png(stored_history(tmp_path / "none.db", "docks")) is None
+    assert trend_section(None) == ""

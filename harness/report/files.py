@@ -10,8 +10,11 @@ from harness.report import csv, html, latex, markdown
 from harness.report.plots import figures
 
 
-def write_report(report: SuiteReport, out: str | Path) -> list[Path]:
-    """report.md, report.html, report.tex, csv/*.csv and plots/*.png under `out`."""
+def write_report(report: SuiteReport, out: str | Path, trend: bytes | None = None) -> list[Path]:
+    """report.md, report.html, report.tex, csv/*.csv and plots/*.png under `out`.
+
+    `trend` is the gate-history plot (PNG); when given it is saved and shown in the HTML page.
+    """
     out = Path(out)
     if out.exists() and not out.is_dir():
         raise InputError(f"{out}: --out is a file; allowed: a folder (created if missing)")
@@ -22,9 +25,12 @@ def write_report(report: SuiteReport, out: str | Path) -> list[Path]:
         path = out / "plots" / f"{name}.png"
         path.write_bytes(png)
         written.append(path)
+    if trend is not None:
+        (out / "plots" / "gate_trend.png").write_bytes(trend)
+        written.append(out / "plots" / "gate_trend.png")
     pages = {
         "report.md": markdown.render(report, list(plots)),
-        "report.html": html.render(report, plots),
+        "report.html": html.render(report, plots, trend),
         "report.tex": latex.render(report),
     }
     for name, text in pages.items():

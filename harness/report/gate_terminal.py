@@ -100,7 +100,8 @@ def history_table(history: pd.DataFrame, suite: str, last: int = 20) -> Table:
     final = pd.Timestamp(history["gated_at"].max(), unit="s").strftime("%Y-%m-%d %H:%M")
     gates = history["gate_id"].nunique()
     table = Table(
-        title=f"Gate history: {suite}, {gates} gate runs, {first} to {final} UTC",
+        title=f"Gate history: {suite}, {gates} gate run{'s' if gates != 1 else ''}, "
+        f"{first} to {final} UTC",
         title_justify="left",
         box=box.SIMPLE_HEAD,
         pad_edge=False,

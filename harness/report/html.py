@@ -8,6 +8,7 @@ from html import escape
 from harness.api import SuiteReport
 from harness.report.plots import PLOT_TITLES
 from harness.report.tables import TextTable, all_tables, facts, reasons
+from harness.report.trend import TREND_TITLE
 
 STYLE = """
 body { font-family: system-ui, sans-serif; margin: 2rem auto; max-width: 1200px;
@@ -42,7 +43,18 @@ def table(part: TextTable) -> str:
     )
 
 
-def render(report: SuiteReport, plots: dict[str, bytes]) -> str:
+def trend_section(trend: bytes | None) -> str:
+    """The gate-history plot (harness.report.trend), when the suite has gate runs."""
+    if trend is None:
+        return ""
+    return (
+        f'<h2>Gate history</h2><figure><img alt="{escape(TREND_TITLE)}" '
+        f'src="data:image/png;base64,{base64.b64encode(trend).decode("ascii")}">'
+        f"<figcaption>{escape(TREND_TITLE)}</figcaption></figure>"
+    )
+
+
+def render(report: SuiteReport, plots: dict[str, bytes], trend: bytes | None = None) -> str:
     """The page; `plots` maps plot names to PNG bytes (embedded, no outside files)."""
     sections = []
     for part in all_tables(report):
@@ -69,6 +81,7 @@ def render(report: SuiteReport, plots: dict[str, bytes]) -> str:
 <p class="note">{escape(facts(report))}</p>
 <h2>Plots</h2>
 {figures}
+{trend_section(trend)}
 {"".join(sections)}
 </body>
 </html>

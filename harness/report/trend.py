@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import io
+
 import matplotlib
 
 matplotlib.use("Agg")
@@ -38,3 +40,17 @@ def save_trend(history: pd.DataFrame, path: str) -> None:
     figure = trend_figure(history)
     figure.savefig(path)
     plt.close(figure)
+
+
+TREND_TITLE = "Gate history: mean test metric and seconds per epoch per gate run"
+
+
+def trend_png(history: pd.DataFrame) -> bytes | None:
+    """The trend plot as PNG bytes, or None when there is no gate history to plot."""
+    if history.empty:
+        return None
+    buffer = io.BytesIO()
+    figure = trend_figure(history)
+    figure.savefig(buffer, format="png", dpi=110)
+    plt.close(figure)
+    return buffer.getvalue()
