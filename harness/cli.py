@@ -45,7 +45,10 @@ def command_check(args: argparse.Namespace) -> int:
         console.print(f"note: {note}")
     for contender in suite.contenders:
         count = sum(1 for s in specs if s.contender == contender)
-        console.print(f"  {contender}: {count} runs")
+        ablation = suite.ablation.get(contender)
+        mode = ablation.mode.replace("_", "-") if ablation else ""
+        points = f" ({count // len(suite.seed_list)} {mode} points)" if ablation else ""
+        console.print(f"  {contender}: {count} runs{points}")
     console.print(f"{len(specs)} runs in total")
     if suite.tuning is not None:
         from harness.tune import tuning_outline
@@ -58,10 +61,11 @@ def command_check(args: argparse.Namespace) -> int:
 def command_run(args: argparse.Namespace) -> int:
     from harness import store
     from harness.api import analyse
+    from harness.axes import ablation_view, label_points
     from harness.execute import execute, pending
     from harness.preflight import preflight
     from harness.profile_store import record_profile
-    from harness.report.terminal import print_summary, print_verdicts
+    from harness.report.terminal import print_ablation, print_summary, print_verdicts
     from harness.stats import summarise
     from harness.suite import expand, load_suite
 
@@ -95,7 +99,8 @@ def command_run(args: argparse.Namespace) -> int:
     runs = store.load_runs(args.store, [suite.name])
     runs = runs[runs["key"].isin({s.key for s in specs})]
     console.print(f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}")
-    print_summary(summarise(runs), console)
+    print_summary(summarise(label_points(runs)), console)
+    print_ablation(ablation_view(runs), console)
     print_verdicts(analyse(runs, suite.analysis), console)
     if suite.homophily_map is not None:
         return run_homophily_map(args, suite, profile)
@@ -201,8 +206,9 @@ def command_profile(args: argparse.Namespace) -> int:
 def command_show(args: argparse.Namespace) -> int:
     from harness import store
     from harness.api import analyse_each, settings_of
+    from harness.axes import ablation_view, label_points
     from harness.report import records
-    from harness.report.terminal import print_summary, print_verdicts
+    from harness.report.terminal import print_ablation, print_summary, print_verdicts
     from harness.stats import summarise
 
     runs = store.load_runs(args.store, _suite_names(args.store, args.suite))
@@ -211,7 +217,8 @@ def command_show(args: argparse.Namespace) -> int:
             f"{args.store}: no stored runs" + (f" for suite '{args.suite}'" if args.suite else "")
         )
     if args.format == "table":
-        print_summary(summarise(runs), console)
+        print_summary(summarise(label_points(runs)), console)
+        print_ablation(ablation_view(runs), console)
         for report in analyse_each(runs, settings_of(args.suite)):
             print_verdicts(report, console)
     else:
