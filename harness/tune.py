@@ -20,6 +20,7 @@ from typing import Any
 
 import numpy as np
 import optuna
+import pandas as pd
 from optuna.samplers import BaseSampler, TPESampler
 from optuna.trial import FrozenTrial, Trial
 
@@ -232,3 +233,10 @@ def tuning_outline(suite: Suite) -> list[str]:
     for plan in tuning_plan(suite):
         lines.append(f"  {plan.contender} searches {', '.join(plan.space)}")
     return lines
+
+
+def current_tuned_runs(runs: pd.DataFrame, suite: Suite) -> pd.DataFrame:
+    """Stored runs that are seeded repeats of this tuned suite's current studies."""
+    studies = {plan.study for plan in tuning_plan(suite)}
+    current = runs["extras"].map(lambda extras: extras.get("tuning_study") in studies)
+    return runs[current & runs["seed"].isin(suite.seed_list)]

@@ -205,7 +205,8 @@ def work(suite: Suite, store_path: str | Path, storage_url: str) -> WorkOutcome:
         direction="maximize",
         load_if_exists=True,
     )
-    run_repeats(suite, repeats, settings, resize, store_path)
+    names = {p.contender: p.study for p in plans}
+    run_repeats(suite, repeats, settings, names, resize, store_path)
     keys = sync_repeats(repeats, store_path)
     return WorkOutcome({p.contender: p.study for p in plans}, repeats.study_name, keys)
 
@@ -227,6 +228,7 @@ def run_repeats(
     suite: Suite,
     study: optuna.Study,
     settings: dict[str, dict],
+    study_names: dict[str, str],
     resize: Callable | None,
     store_path: str | Path,
 ) -> None:
@@ -251,7 +253,7 @@ def run_repeats(
         spec = with_settings(specs[key], settings[key[0]])
         spec = resize(spec) if resize is not None else spec
         result = perform(spec)
-        extras = {**result.extras, "tuned": settings[key[0]]}
+        extras = {**result.extras, "tuned": settings[key[0]], "tuning_study": study_names[key[0]]}
         record = record_of(spec, replace(result, extras=extras))
         first_live(trial, key)
         trial.set_user_attr("record", record)

@@ -9,7 +9,7 @@ import pytest
 import torch
 
 import harness.train
-from harness import store
+from harness import api, store
 from harness.cli import main
 from harness.data.splits import Split
 from harness.sizing import parameter_count, size_hidden, target_count
@@ -123,6 +123,7 @@ def test_a_run_spends_exactly_the_budget_and_stores_each_repeat_once(tmp_path, c
     ]
     assert runs["key"].is_unique and not runs["test_metric"].isna().any()
     assert all(set(extras["tuned"]) >= {"learning_rate", "dropout"} for extras in runs["extras"])
+    assert len(api.runs(store_path, suite_path)) == 4  # what reports read: the repeats
 
     # again: nothing new is trained; a larger budget continues the same studies
     work(suite, store_path, url)
