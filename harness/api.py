@@ -56,6 +56,10 @@ def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFram
 
         loaded = load_suite(suite)
         frame = store.load_runs(store_path, [loaded.name])
+        if loaded.tuning is not None:  # the seeded repeats of the tuned settings
+            from harness.tune import current_tuned_runs
+
+            return current_tuned_runs(frame, loaded).reset_index(drop=True)
         return frame[frame["key"].isin({spec.key for spec in expand(loaded)})].reset_index(
             drop=True
         )
