@@ -16,6 +16,7 @@ from __future__ import annotations
 
 from dataclasses import asdict, dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import pandas as pd
 
@@ -24,8 +25,12 @@ from harness.ablation_effects import AblationEffects, ablation_effects
 from harness.cost import cost_tradeoff
 from harness.errors import InputError
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
+from harness.schema.suite import Suite
 from harness.stats import describe, paired_comparisons, with_variants
 from harness.verdict import headline, judge_all
+
+if TYPE_CHECKING:
+    from harness.homophily_map import HomophilyMapSummary
 
 
 @dataclass(frozen=True)
@@ -43,6 +48,7 @@ class SuiteReport:
     cost: pd.DataFrame
     attention: pd.DataFrame  # harness.axes.attention_by_variant; empty without diagnostics
     homophily: pd.DataFrame  # graph homophily of the stored dataset profile; may be empty
+    homophily_map: HomophilyMapSummary | None = None  # stored homophily-map runs, if any
 
 
 def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFrame:
@@ -106,12 +112,27 @@ def graph_homophily(store_path: str | Path, suite: str) -> pd.DataFrame:
     return pd.DataFrame({"measure": list(measures), "value": list(measures.values())})
 
 
+def stored_homophily_map(store_path: str | Path, suite: Suite) -> HomophilyMapSummary | None:
+    """The suite's homophily map (harness.homophily_map) from stored runs and profile, if run."""
+    from harness.homophily_map import map_suite_name, summarise_map
+    from harness.profile_store import load_profiles
+
+    profiles = load_profiles(store_path, suite.name)
+    mapped = store.load_runs(store_path, [map_suite_name(suite)])
+    if mapped.empty or not profiles:
+        return None
+    latest = with_variants(mapped)  # a map rerun with other settings counts once per seed
+    return summarise_map(latest, profiles[-1], suite.metric)
+
+
 def analyse(
     runs: pd.DataFrame,
     settings: Analysis = DEFAULT_ANALYSIS,
     homophily: pd.DataFrame | None = None,
+    homophily_map: HomophilyMapSummary | None = None,
 ) -> SuiteReport:
-    """Every analysis of the runs of one suite; `homophily` from graph_homophily if known."""
+    """Every analysis of the runs of one suite; the graph's homophily measures and homophily
+    map come from the store (graph_homophily, stored_homophily_map) when known."""
     from harness.axes import attention_by_variant
 
     names = runs["suite"].unique()
@@ -133,16 +154,25 @@ def analyse(
         cost=cost_tradeoff(table),
         attention=attention_by_variant(runs),
         homophily=homophily if homophily is not None else pd.DataFrame(columns=["measure"]),
+        homophily_map=homophily_map,
     )
 
 
 def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
-    """Load a suite's stored runs and analyse them with the suite's settings."""
+    """Load a suite's stored runs and analyse them with the suite's settings.
+
+    Given a suite file, its homophily map is included when its runs are stored.
+    """
     loaded = runs(store_path, suite)
     if loaded.empty:
         raise InputError(f"{store_path}: no stored runs for suite '{suite}'; run it first")
     name = str(loaded["suite"].iloc[0])
-    return analyse(loaded, settings_of(suite), graph_homophily(store_path, name))
+    mapped = None
+    if Path(suite).is_file():
+        from harness.suite import load_suite
+
+        mapped = stored_homophily_map(store_path, load_suite(suite))
+    return analyse(loaded, settings_of(suite), graph_homophily(store_path, name), mapped)
 
 
 def analyse_each(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> list[SuiteReport]:

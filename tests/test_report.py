@@ -181,3 +181,38 @@ def test_analyse_refuses_runs_of_two_suites():
 
     with pytest.raises(InputError, match="runs of 2 suites"):
         analyse(pd.DataFrame(rows))
+
+
+def test_stored_homophily_map_is_drawn_and_tabled(tmp_path: Path):
+    """Map runs (stored under the map's suite name) and the data profile enter the report."""
+    from harness.data import load_graph
+    from harness.data.profile import profile_graph
+    from harness.homophily_map import map_suite_name
+    from harness.profile_store import save_profile
+
+    suite_path, store_path = stored_suite(tmp_path)
+    text = suite_path.read_text() + "\n[homophily_map]\nlevels = [0.2, 0.8]\nseeds = 2\n"
+    suite_path.write_text(text, encoding="utf-8")
+    suite = load_suite(suite_path)
+    save_profile(store_path, suite.name, suite.data, profile_graph(load_graph(suite.data)))
+    for level in (0.2, 0.8):
+        for contender, base in (("plain|mlp", 0.6), ("conv_{a}^b\\c", 0.5 + 0.3 * level)):
+            for seed in range(2):
+                record = store.load_runs(store_path, [suite.name]).iloc[0].to_dict()
+                value = base + 0.01 * seed
+                record |= {"suite": map_suite_name(suite), "contender": contender}
+                record |= {"key": f"{contender}{level}{seed}", "point": {"edge_homophily": level}}
+                record |= {"seed": seed, "test_metric": value}
+                record.pop("version"), record.pop("finished_at")
+                store.save_run(store_path, record)
+    report = analyse_store(store_path, suite_path)
+    assert report.homophily_map is not None
+    table = report.homophily_map.table.set_index(["level", "contender"])
+    assert table.loc[(0.8, "conv_{a}^b\\c"), "mean"] == pytest.approx(0.745)
+    assert table.loc[(0.2, "plain|mlp"), "seeds"] == 2
+    out = tmp_path / "mapped"
+    write_report(report, out)
+    assert (out / "plots" / "homophily.png").is_file()
+    assert (out / "csv" / "homophily_map.csv").is_file()
+    page = (out / "report.md").read_text(encoding="utf-8")
+    assert "## Homophily map" in page and "edge homophily is" in page

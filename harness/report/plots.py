@@ -177,40 +177,75 @@ def attention_plot(report: SuiteReport) -> Figure:
     return figure
 
 
+def _map_panel(axes, report: SuiteReport) -> None:
+    """Each contender's metric across edge homophily; a line where the suite's data lies."""
+    summary = report.homophily_map
+    for contender, group in summary.table.groupby("contender", sort=False):
+        group = group.sort_values("level")
+        line = axes.plot(group["level"], group["mean"], marker="o", label=contender)[0]
+        axes.fill_between(
+            group["level"], group["low"], group["high"], alpha=0.15, color=line.get_color()
+        )
+    axes.axvline(summary.data_edge_homophily, color="#455a64", ls="--", lw=1)
+    axes.annotate(
+        "your data",
+        (summary.data_edge_homophily, 1.0),
+        xycoords=("data", "axes fraction"),
+        fontsize=7,
+        xytext=(3, -10),
+        textcoords="offset points",
+    )
+    axes.set_xlabel("edge homophily of matched synthetic graphs")
+    axes.set_ylabel(f"test {metric_label(report)}")
+    axes.legend(fontsize=7, frameon=False)
+    axes.set_title("contenders across homophily", fontsize=9)
+
+
+def _graph_panel(axes, report: SuiteReport) -> None:
+    measures = report.homophily
+    axes.barh(range(len(measures)), measures["value"], color="#2f6f9f")
+    axes.set_yticks(range(len(measures)), [m.replace("_", " ") for m in measures["measure"]])
+    axes.invert_yaxis()
+    axes.axvline(0, color="#455a64", lw=0.8)
+    axes.set_title("graph homophily (stored profile)", fontsize=9)
+
+
+def _attention_panel(axes, report: SuiteReport) -> None:
+    table = report.attention
+    axes.plot([0, 1], [0, 1], color="#9e9e9e", lw=1, ls="--")
+    axes.scatter(table["neighbour_homophily"], table["same_label_share"], color="#c2571a")
+    for row in table.itertuples():
+        axes.annotate(
+            row.variant,
+            (row.neighbour_homophily, row.same_label_share),
+            fontsize=7,
+            xytext=(4, 3),
+            textcoords="offset points",
+        )
+    axes.set_xlim(0, 1)
+    axes.set_ylim(0, 1)
+    axes.set_xlabel("same-label share of neighbours (uniform attention)")
+    axes.set_ylabel("same-label share of attention")
+    axes.set_title("attention against the graph", fontsize=9)
+
+
 def homophily_plot(report: SuiteReport) -> Figure:
-    """The graph's homophily measures, and where each attention variant's same-label share
-    lies against the share of same-label neighbours (above the diagonal: attention prefers
-    same-label neighbours)."""
-    panels_wanted = [not report.homophily.empty, not report.attention.empty]
-    figure = Figure(figsize=(4.6 * sum(panels_wanted), 3.8))
-    panels = list(np.atleast_1d(figure.subplots(1, sum(panels_wanted))))
-    if panels_wanted[0]:
-        axes = panels.pop(0)
-        measures = report.homophily
-        axes.barh(range(len(measures)), measures["value"], color="#2f6f9f")
-        names = [m.replace("_", " ") for m in measures["measure"]]
-        axes.set_yticks(range(len(measures)), names)
-        axes.invert_yaxis()
-        axes.axvline(0, color="#455a64", lw=0.8)
-        axes.set_title("graph homophily (stored profile)", fontsize=9)
-    if panels_wanted[1]:
-        axes = panels.pop(0)
-        table = report.attention
-        axes.plot([0, 1], [0, 1], color="#9e9e9e", lw=1, ls="--")
-        axes.scatter(table["neighbour_homophily"], table["same_label_share"], color="#c2571a")
-        for row in table.itertuples():
-            axes.annotate(
-                row.variant,
-                (row.neighbour_homophily, row.same_label_share),
-                fontsize=7,
-                xytext=(4, 3),
-                textcoords="offset points",
-            )
-        axes.set_xlim(0, 1)
-        axes.set_ylim(0, 1)
-        axes.set_xlabel("same-label share of neighbours (uniform attention)")
-        axes.set_ylabel("same-label share of attention")
-        axes.set_title("attention against the graph", fontsize=9)
+    """The homophily map (contenders on matched synthetic graphs across edge homophily), the
+    graph's homophily measures, and each attention variant's same-label share against the
+    share of same-label neighbours (above the diagonal: attention prefers them); each panel
+    only when its data is stored."""
+    panels = [
+        draw
+        for draw, present in (
+            (_map_panel, report.homophily_map is not None),
+            (_graph_panel, not report.homophily.empty),
+            (_attention_panel, not report.attention.empty),
+        )
+        if present
+    ]
+    figure = Figure(figsize=(4.8 * len(panels), 3.9))
+    for axes, draw in zip(np.atleast_1d(figure.subplots(1, len(panels))), panels, strict=True):
+        draw(axes, report)
     figure.suptitle("Homophily map")
     figure.tight_layout()
     return figure
@@ -225,7 +260,7 @@ def _present(report: SuiteReport) -> dict[str, Callable[[SuiteReport], Figure]]:
     plots["cost"] = cost_plot
     if not report.attention.empty:
         plots["attention"] = attention_plot
-    if not report.homophily.empty or not report.attention.empty:
+    if report.homophily_map is not None or not report.homophily.empty or not report.attention.empty:
         plots["homophily"] = homophily_plot
     return plots
 

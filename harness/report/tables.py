@@ -256,13 +256,41 @@ def homophily_table(report: SuiteReport) -> TextTable | None:
     return _table("homophily", "Graph homophily", ["measure", "value"], rows, note)
 
 
+def homophily_map_table(report: SuiteReport) -> TextTable | None:
+    summary = report.homophily_map
+    if summary is None:
+        return None
+    frame = summary.table
+    contenders = list(dict.fromkeys(frame["contender"]))
+    rows = []
+    for level, group in frame.groupby("level", sort=True):
+        by_name = {r.contender: r for r in group.itertuples()}
+        rows.append(
+            [f"{level:g}"]
+            + [
+                f"{fixed(by_name[c].mean)} ({interval(by_name[c].low, by_name[c].high)})"
+                if c in by_name
+                else "-"
+                for c in contenders
+            ]
+        )
+    note = (
+        f"Mean test {metric_label(report)} (t-interval) on synthetic graphs matched to the "
+        f"suite's data; the data's edge homophily is {summary.data_edge_homophily:.3f}, "
+        f"nearest level {summary.nearest_level:g}, where the best contender is "
+        f"{summary.best_at_nearest}."
+    )
+    header = ["edge homophily", *contenders]
+    return _table("homophily_map", "Homophily map", header, rows, note)
+
+
 def all_tables(report: SuiteReport) -> list[TextTable]:
     """The report's tables in reading order; absent analyses are left out."""
     tables = [contender_table(report), comparison_table(report)]
     if not report.ablation.axes.empty:
         tables += [axis_table(report), level_table(report), *interaction_tables(report)]
     tables.append(cost_table(report))
-    extra = [attention_table(report), homophily_table(report)]
+    extra = [attention_table(report), homophily_table(report), homophily_map_table(report)]
     return tables + [part for part in extra if part is not None]
 
 
@@ -277,5 +305,8 @@ def frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
         "cost": report.cost,
         "attention": report.attention,
         "homophily": report.homophily,
+        "homophily_map": (
+            report.homophily_map.table if report.homophily_map is not None else pd.DataFrame()
+        ),
     }
     return {name: frame for name, frame in out.items() if not frame.empty}
