@@ -286,3 +286,29 @@ def test_run_key_hashes_what_determines_the_result(tiny_suite_text):
     assert keys_with("training", "learning_rate", 0.03).isdisjoint(original)
     assert len(keys_with("contenders.convolution", "hidden", 9) & original) == 4
     assert keys_with("", "seeds", [5, 6]).isdisjoint(original)
+
+
+def test_roc_auc_when_a_test_split_holds_one_class(tmp_path, capsys):
+    """A table whose split column puts only class 'parcel' nodes in the test part."""
+    rows = ["id,label,weight,volume,part"]
+    for index in range(30):
+        part = "train" if index < 12 else "validation" if index < 20 else "test"
+        label = "parcel" if part == "test" or index % 2 else "letter"
+        rows.append(f"depot{index},{label},{index % 7 / 7:.3f},{index % 5 / 5:.3f},{part}")
+    (tmp_path / "depots.csv").write_text("\n".join(rows) + "\n")
+    routes = ["source,target"] + [f"depot{i},depot{(i + 1) % 30}" for i in range(30)]
+    (tmp_path / "routes.csv").write_text("\n".join(routes) + "\n")
+    path = tmp_path / "one_class_test.toml"
+    path.write_text(
+        'name = "depots"\nseeds = 2\nmetric = "roc_auc"\n'
+        '[data]\nsource = "tables"\nnodes = "depots.csv"\nedges = "routes.csv"\n'
+        'split_column = "part"\n[split]\nmethod = "column"\n'
+        '[contenders.features_only]\nmodel = "mlp"\n'
+    )
+    line = check_fails(path, capsys)
+    assert line == (
+        f"heedful: error: {path}: metric: 'roc_auc' is not defined when the test split of "
+        "seed 0 holds one class; allowed: accuracy or macro_f1, or a larger test split"
+    )
+    path.write_text(path.read_text().replace('"roc_auc"', '"macro_f1"'))
+    assert main(["check", str(path)]) == 0  # the same data is fine for another metric
