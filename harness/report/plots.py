@@ -246,7 +246,8 @@ def homophily_plot(report: SuiteReport) -> Figure:
     figure = Figure(figsize=(4.8 * len(panels), 3.9))
     for axes, draw in zip(np.atleast_1d(figure.subplots(1, len(panels))), panels, strict=True):
         draw(axes, report)
-    figure.suptitle("Homophily map")
+    mapped = report.homophily_map is not None
+    figure.suptitle("Homophily map" if mapped else "Homophily of the graph and of attention")
     figure.tight_layout()
     return figure
 
