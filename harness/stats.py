@@ -7,6 +7,7 @@ two variants measured on the same seed form a pair.
 
 from __future__ import annotations
 
+import math
 import warnings
 
 import numpy as np
@@ -99,7 +100,9 @@ def describe(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.Da
     runs["attention"] = attention_side(runs, settings)
     rows = []
     for (suite, variant), group in runs.groupby(["suite", "variant"], sort=False):
-        values = group["test_metric"].to_numpy(dtype=float)
+        values = group["test_metric"].dropna().to_numpy(dtype=float)  # NaN: metric undefined
+        if len(values) == 0:
+            values = np.array([np.nan])
         t_low, t_high = t_interval(values, settings.confidence)
         boot_low, boot_high = bootstrap_interval(
             values, settings.confidence, settings.bootstrap_resamples
@@ -115,7 +118,7 @@ def describe(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.Da
                 "point": first["point"],
                 "side": "attention" if first["attention"] else "baseline",
                 "metric": first["metric"],
-                "seeds": len(values),
+                "seeds": int(np.isfinite(values).sum()),
                 "mean": float(values.mean()),
                 "std": float(values.std(ddof=1)) if len(values) > 1 else float("nan"),
                 "median": float(np.median(values)),
@@ -170,7 +173,7 @@ def paired_test(differences: np.ndarray, settings: Analysis = DEFAULT_ANALYSIS) 
     out["effect_size"] = (
         float(out["mean_difference"] / sd)
         if sd > 0
-        else float("inf") * np.sign(out["mean_difference"])
+        else math.copysign(math.inf, out["mean_difference"])
     )
     return out
 

@@ -116,3 +116,13 @@ def test_summarise_keeps_its_columns_for_the_terminal_table():
         "seconds_per_epoch", "params", "peak_mb",
     ]  # fmt: skip
     assert summary["mean"].iloc[0] == pytest.approx(np.mean(VALUES))
+
+
+def test_undefined_metric_values_are_left_out():
+    """ROC-AUC can be undefined on a split (NaN); the other seeds still count."""
+    rows = [run("att", "gat", s, v) for s, v in enumerate([0.7, float("nan"), 0.8])]
+    rows += [run("conv", "gcn", s, 0.6) for s in range(3)]
+    runs = pd.DataFrame(rows)
+    row = describe(runs, SETTINGS).iloc[0]
+    assert row["seeds"] == 2 and row["mean"] == pytest.approx(0.75)
+    assert paired_comparisons(runs, SETTINGS).iloc[0]["seeds"] == 2
