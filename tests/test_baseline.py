@@ -7,6 +7,7 @@ from pathlib import Path
 
 import pytest
 
+import harness.execute
 from harness.baseline import environment_differences, read_baseline, suite_hash
 from harness.cli import main
 from harness.errors import InputError
@@ -50,7 +51,9 @@ def write_suite(folder: Path, extra_data: str = "") -> Path:
 def saved(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Path]:
     folder = tmp_path_factory.mktemp("baseline")
     suite, store, baseline = write_suite(folder), folder / "store.db", folder / "base.json"
-    assert main(["baseline", str(suite), "--save", str(baseline), "--store", str(store)]) == 0
+    with pytest.MonkeyPatch.context() as patch:  # one torch thread, as conftest sets per test
+        patch.setattr(harness.execute, "available_cores", lambda: 1)
+        assert main(["baseline", str(suite), "--save", str(baseline), "--store", str(store)]) == 0
     return {"folder": folder, "suite": suite, "store": store, "baseline": baseline}
 
 
