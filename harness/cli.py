@@ -354,6 +354,13 @@ class OneLineParser(argparse.ArgumentParser):
         self.exit(2, f"heedful: error: {self.prog}: {' '.join(message.split())}\n")
 
 
+def output_file(text: str) -> Path:
+    """A file the command will write: not an existing folder."""
+    if Path(text).is_dir():
+        raise argparse.ArgumentTypeError(f"given {text!r}, a folder; allowed: a file path")
+    return Path(text)
+
+
 def parser() -> argparse.ArgumentParser:
     from harness.store import DEFAULT_STORE
 
@@ -417,7 +424,7 @@ def parser() -> argparse.ArgumentParser:
 
     baseline = commands.add_parser("baseline", help="run a suite and save its baseline file")
     baseline.add_argument("suite")
-    baseline.add_argument("--save", type=Path, required=True, metavar="FILE.json")
+    baseline.add_argument("--save", type=output_file, required=True, metavar="FILE.json")
     baseline.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
     with_store(baseline)
     baseline.set_defaults(handler=command_baseline)
@@ -425,8 +432,8 @@ def parser() -> argparse.ArgumentParser:
     gate = commands.add_parser("gate", help="run a suite and compare it with a baseline")
     gate.add_argument("suite")
     gate.add_argument("--baseline", type=Path, required=True, metavar="FILE.json")
-    gate.add_argument("--junit", type=Path, metavar="FILE.xml", help="write JUnit XML here")
-    gate.add_argument("--markdown", type=Path, metavar="FILE.md", help="write a summary here")
+    gate.add_argument("--junit", type=output_file, metavar="FILE.xml", help="write JUnit XML")
+    gate.add_argument("--markdown", type=output_file, metavar="FILE.md", help="write a summary")
     gate.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
     with_store(gate)
     gate.set_defaults(handler=command_gate)

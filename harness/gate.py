@@ -240,6 +240,10 @@ def evaluate(
     options = suite.gate
     checks: list[Check] = []
     seconds: dict[str, float] = {}
+    costs = (
+        ("time", "seconds_per_epoch", options.time_ratio, options.time_action),
+        ("memory", "peak_mb", options.memory_ratio, options.memory_action),
+    )
     for name in contenders:
         now = runs[runs["contender"] == name]
         saved = pd.DataFrame([run.model_dump() for run in baseline.contenders[name].runs])
@@ -251,26 +255,9 @@ def evaluate(
             1 - options.significance,
         )
         checks.append(metric_check(name, suite.metric, comparison, options))
-        checks.append(
-            cost_check(
-                name,
-                "time",
-                float(saved["seconds_per_epoch"].mean()),
-                float(now["seconds_per_epoch"].mean()),
-                options.time_ratio,
-                options.time_action,
-            )
-        )
-        checks.append(
-            cost_check(
-                name,
-                "memory",
-                float(saved["peak_mb"].mean()),
-                float(now["peak_mb"].mean()),
-                options.memory_ratio,
-                options.memory_action,
-            )
-        )
+        for check, column, limit, action in costs:
+            baseline_cost, current_cost = float(saved[column].mean()), float(now[column].mean())
+            checks.append(cost_check(name, check, baseline_cost, current_cost, limit, action))
         checks.append(
             reproducibility_check(
                 name,

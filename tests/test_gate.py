@@ -252,3 +252,19 @@ def test_gate_runs_are_kept_in_history(saved, tmp_path, capsys):
     assert set(history["contender"].tail(2)) == {"attention", "features_only"}
     assert main(["history", str(saved["suite"]), "--store", str(store)]) == 0
     assert "Gate history: courier_gate" in capsys.readouterr().out
+
+
+def test_bad_gate_settings_and_output_paths_exit_2(saved, tmp_path, capsys):
+    suite = tmp_path / "suite.toml"
+    suite.write_text(saved["suite"].read_text().replace("tolerance_points", "tolerance_point"))
+    status = main(["gate", str(suite), "--baseline", str(saved["baseline"])])
+    err = capsys.readouterr().err
+    assert status == 2
+    assert "gate: unknown key 'tolerance_point' (did you mean 'tolerance_points'?)" in err
+    suite.write_text(saved["suite"].read_text().replace("time_ratio = 3.0", "time_ratio = 0.5"))
+    assert main(["gate", str(suite), "--baseline", str(saved["baseline"])]) == 2
+    assert "gate.time_ratio: given 0.5;" in capsys.readouterr().err
+    with pytest.raises(SystemExit) as stopped:
+        main(["gate", str(saved["suite"]), "--baseline", "b.json", "--junit", str(tmp_path)])
+    assert stopped.value.code == 2
+    assert "--junit: given" in capsys.readouterr().err
