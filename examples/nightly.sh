@@ -15,7 +15,7 @@ set -u
 cd "$(dirname "$0")/.."
 HEEDFUL=${HEEDFUL:-.venv/bin/heedful}
 SUITE=${SUITE:-suites/nightly.toml}
-BASELINE=${BASELINE:-runs/nightly-baseline.json}
+BASELINE=${BASELINE:-baselines/nightly.json}
 STORE=${STORE:-runs/nightly.db}
 REPORTS=${REPORTS:-runs/gate-reports}
 JOBS=${JOBS:-1}

@@ -93,6 +93,15 @@ def suite_hash(suite: Suite) -> str:
     return hashlib.sha256(text.encode()).hexdigest()[:24]
 
 
+def check_gateable(suite: Suite, path: str | Path) -> None:
+    """Baselines and gates compare fixed settings; a tuning suite's settings move each time."""
+    if suite.tuning is not None:
+        raise InputError(
+            f"{path}: tuning: a gate compares fixed contender settings; allowed: a suite without "
+            "[tuning] (copy the tuned settings into its contenders)"
+        )
+
+
 def suite_runs(store_path: str | Path, specs: list[RunSpec]) -> pd.DataFrame:
     """Stored runs of exactly these specs (same suite, contender and key)."""
     if not specs:

@@ -246,6 +246,7 @@ def _run_for_gate(args: argparse.Namespace, suite, specs) -> bool:
 def command_baseline(args: argparse.Namespace) -> int:
     from harness.baseline import (
         build_baseline,
+        check_gateable,
         environment_fingerprint,
         suite_runs,
         write_baseline,
@@ -255,6 +256,7 @@ def command_baseline(args: argparse.Namespace) -> int:
     from harness.suite import expand, load_suite
 
     suite = load_suite(args.suite)
+    check_gateable(suite, args.suite)
     specs = expand(suite)
     preflight(suite, args.suite)
     if not _run_for_gate(args, suite, specs):
@@ -271,6 +273,7 @@ def command_gate(args: argparse.Namespace) -> int:
 
     from harness import history
     from harness.baseline import (
+        check_gateable,
         check_matches,
         contender_labels,
         environment_differences,
@@ -287,6 +290,7 @@ def command_gate(args: argparse.Namespace) -> int:
     from harness.suite import expand, load_suite
 
     suite = load_suite(args.suite)
+    check_gateable(suite, args.suite)
     baseline = read_baseline(args.baseline)
     specs = expand(suite)
     check_matches(baseline, suite, specs, args.baseline)

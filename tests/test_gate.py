@@ -268,3 +268,13 @@ def test_bad_gate_settings_and_output_paths_exit_2(saved, tmp_path, capsys):
         main(["gate", str(saved["suite"]), "--baseline", "b.json", "--junit", str(tmp_path)])
     assert stopped.value.code == 2
     assert "--junit: given" in capsys.readouterr().err
+
+
+def test_tuning_suites_are_refused(saved, tmp_path, capsys):
+    """Tuning picks new settings each time, so there is no fixed configuration to gate."""
+    suite = tmp_path / "suite.toml"
+    suite.write_text(saved["suite"].read_text() + "\n[tuning]\ntrials = 4\n")
+    assert main(["baseline", str(suite), "--save", str(tmp_path / "b.json")]) == 2
+    assert "tuning: a gate compares fixed contender settings" in capsys.readouterr().err
+    assert main(["gate", str(suite), "--baseline", str(saved["baseline"])]) == 2
+    assert "tuning: a gate compares fixed contender settings" in capsys.readouterr().err
