@@ -24,7 +24,6 @@ import pandas as pd
 from optuna.samplers import BaseSampler, TPESampler
 from optuna.trial import FrozenTrial, Trial
 
-import harness
 from harness.schema.suite import Suite
 from harness.schema.training import Training
 from harness.schema.tuning import (
@@ -106,16 +105,9 @@ def digest(content: Any) -> str:
 def study_name(base: RunSpec, space: dict[str, SpaceEntry], tuning: Tuning) -> str:
     """Names the study by everything that shapes its trials; the budget may grow later."""
     shaping = {
-        "data": base.data.model_dump(mode="json"),
-        "split": base.split.model_dump(mode="json"),
-        "options": base.options.model_dump(mode="json", exclude={"training"}),
-        "training": base.training.model_dump(mode="json"),
-        "metric": base.metric,
-        "setting": base.setting,
-        "seed": base.seed,
+        "run": base.key,  # data, split, options, training, metric, setting, seed, version
         "space": {k: v if isinstance(v, list) else v.model_dump() for k, v in space.items()},
         "tuning": tuning.model_dump(mode="json", include={"seed", "pruner", "equal_parameters"}),
-        "version": harness.__version__,
     }
     return f"{base.suite}:{base.contender}:{digest(shaping)}"
 

@@ -221,23 +221,6 @@ def test_equal_parameters_match_the_attention_contender_within_ten_percent(tmp_p
         )
 
 
-def test_parameter_counts_follow_the_layer_formulas():
-    """Two-layer GCN and MLP: a weight matrix and a bias per layer,
-    (d*h + h) + (h*c + c) (Kipf and Welling, 2017, eq. 9; PyG GCNConv adds the bias).
-    Two-layer GAT (Velickovic et al., 2018): per layer W (d x K*h), attention vectors a_src and
-    a_dst (K*h each) and a bias of K*h (concatenated) or c (averaged output)."""
-    from harness.schema.contenders import AttentionOptions, ConvolutionOptions, MLPOptions
-
-    d, h, c, k = 6, 10, 3, 2
-    dense = (d * h + h) + (h * c + c)
-    assert parameter_count(ConvolutionOptions(model="gcn", hidden=h), d, c) == dense
-    assert parameter_count(MLPOptions(model="mlp", hidden=h), d, c) == dense
-    first = d * k * h + 2 * k * h + k * h
-    second = k * h * k * c + 2 * k * c + c
-    gat = AttentionOptions(model="gat", hidden=h, heads=k)
-    assert parameter_count(gat, d, c) == first + second
-
-
 def test_unreachable_or_malformed_storage_is_one_line_and_writes_nothing(tmp_path, capsys):
     suite_path = write_suite(tmp_path)
     store_path = tmp_path / "runs.db"
