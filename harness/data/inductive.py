@@ -6,12 +6,11 @@ forward pass. Evaluation uses the full graph with the trained weights, without r
 
 New-node arrival: starting from the training graph, the held-out nodes join in batches. An
 L-layer message-passing model's output at node v depends only on v's L-hop in-neighbourhood, so
-after a batch arrives only the nodes within L hops downstream of a new node can change. Those
-are recomputed on their (L + 1)-hop neighbourhood (one hop more, because degree normalisations
-of the outermost nodes need those nodes' own edges), and the result is compared with a full
-recompute of every present node. Under symmetric degree normalisation (GCN: weights
-1/sqrt(d_i d_j)) a new edge changes its endpoints' degrees and so the weights of their other
-edges: the change reaches one hop further, L + 1.
+after a batch arrives only the nodes within L hops downstream of a new node can change; they
+are recomputed on their own L-hop neighbourhood and compared with a full recompute of every
+present node. Under symmetric degree normalisation (GCN: weights 1/sqrt(d_i d_j)) a new edge
+changes its endpoints' degrees and so the weights of their other edges, and the degrees of the
+outermost nodes depend on their own edges: both reach one hop further, L + 1.
 """
 
 from __future__ import annotations
@@ -77,8 +76,9 @@ def update_outputs(
     """Recompute `outputs` of the nodes within `radius` hops downstream of the `new` nodes."""
     nodes = x.size(0)
     affected, _, _, _ = k_hop_subgraph(new, radius, edges, num_nodes=nodes, flow="target_to_source")
+    # the affected outputs need inputs within `radius` hops of them (see the module docstring)
     inputs, local_edges, positions, _ = k_hop_subgraph(
-        affected, radius + 1, edges, relabel_nodes=True, num_nodes=nodes
+        affected, radius, edges, relabel_nodes=True, num_nodes=nodes
     )
     outputs[affected] = model(x[inputs], local_edges)[positions]
 
