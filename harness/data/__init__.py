@@ -1,7 +1,9 @@
 """Data stage: graphs from a data section, and seeded splits.
 
 Every source returns a PyG `Data` with float features `x`, an undirected, coalesced
-`edge_index` without self-loops, and integer labels `y` (-1 for unlabelled nodes).
+`edge_index` without self-loops (a table source with `directed = true` keeps directions), and
+integer labels `y` (-1 for unlabelled nodes). Cleaning counts, class names and a split column
+travel as extra attributes (see data/assemble.py).
 """
 
 from __future__ import annotations
