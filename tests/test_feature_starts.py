@@ -59,6 +59,16 @@ def test_random_is_fixed_per_seed() -> None:
     assert first.shape == (6, 4) and torch.equal(first, again) and not torch.equal(first, other)
 
 
+def test_random_rows_follow_node_ids_into_subgraphs() -> None:
+    data = star_graph()
+    full = start_features(data, options("random", start_width=4), 3).data.x
+    part = Data(x=data.x[[1, 4]], edge_index=torch.tensor([[0], [1]]), num_nodes=2)
+    part.original = torch.tensor([1, 4])
+    assert torch.equal(
+        start_features(part, options("random", start_width=4), 3).data.x, full[[1, 4]]
+    )
+
+
 def test_constant_and_given_plus_degree() -> None:
     data = star_graph()
     assert torch.equal(start_features(data, options("constant"), 0).data.x, torch.ones(6, 1))

@@ -54,6 +54,16 @@ def degree_one_hot(data: Data, cap: int) -> torch.Tensor:
     return one_hot(degrees(data).clamp(max=cap), num_classes=cap + 1)
 
 
+def random_features(data: Data, width: int, seed: int) -> torch.Tensor:
+    """N(0, 1) rows drawn in node-id order, so a node keeps its row in any subgraph that
+    records its ids as `original` (the inductive training graph)."""
+    ids = getattr(data, "original", None)
+    ids = torch.arange(data.num_nodes) if ids is None else ids
+    rows = int(ids.max()) + 1 if len(ids) else 0
+    table = np.random.default_rng(seed).standard_normal((rows, width)).astype(np.float32)
+    return torch.from_numpy(table)[ids]
+
+
 def laplacian_encoding(data: Data, count: int, seed: int) -> torch.Tensor:
     """Eigenvector signs are arbitrary; PyG flips them at random, so we fix its generator."""
     plain = Data(edge_index=data.edge_index, num_nodes=data.num_nodes)
@@ -83,8 +93,7 @@ def start_features(data: Data, options: BaseModel, seed: int) -> StartedGraph:
     elif kind == "log_degree":
         x = torch.log1p(degrees(data).float()).unsqueeze(1)
     elif kind == "random":
-        generator = torch.Generator().manual_seed(seed)
-        x = torch.randn(nodes, options.start_width, generator=generator)
+        x = random_features(data, options.start_width, seed)
     elif kind == "constant":
         x = torch.ones(nodes, 1)
     elif kind == "given_degree":
