@@ -88,7 +88,7 @@ def test_slope_residual_and_dropout_reach_the_layers() -> None:
     assert (layer.negative_slope, layer.dropout) == (0.05, 0.3)
     assert layer.res is not None
     plain = build_model(AttentionOptions(model="dot_product"), FEATURES, CLASSES).layers[0]
-    assert plain.root_weight is False  # residual off: no skip term W_r h_i
+    assert plain.root_weight is False and plain.lin_skip is None  # no skip term W_r h_i
     rooted = AttentionOptions(model="dot_product", residual=True)
     assert build_model(rooted, FEATURES, CLASSES).layers[0].root_weight is True
 

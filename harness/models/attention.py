@@ -18,11 +18,28 @@ from __future__ import annotations
 
 import torch
 from torch import nn
-from torch_geometric.nn import GATConv, GATv2Conv, TransformerConv
+from torch_geometric.nn import GATConv, GATv2Conv, MessagePassing, TransformerConv
 from torch_geometric.utils import add_self_loops, remove_self_loops
 
 from harness.models.stack import ACTIVATIONS
 from harness.schema.contenders import AttentionOptions
+
+
+class ScaledDotProductConv(TransformerConv):
+    """PyG's TransformerConv; with the skip term off its unused skip weights are dropped, so
+    parameter counts hold only what the layer computes with."""
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        if not self.root_weight:
+            self.lin_skip = None
+
+    def reset_parameters(self) -> None:
+        MessagePassing.reset_parameters(self)
+        parts = (self.lin_key, self.lin_query, self.lin_value, self.lin_edge, self.lin_skip)
+        for part in (*parts, self.lin_beta):
+            if part is not None:
+                part.reset_parameters()
 
 
 def attention_layer(
@@ -30,7 +47,7 @@ def attention_layer(
 ) -> nn.Module:
     """One attention layer; self-loops are handled by the stack, not by the layer."""
     if options.model == "dot_product":
-        return TransformerConv(
+        return ScaledDotProductConv(
             width,
             out,
             heads=heads,
