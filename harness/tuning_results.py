@@ -16,8 +16,8 @@ from optuna.trial import TrialState
 from harness.errors import InputError
 from harness.schema.suite import Suite
 from harness.sizing import parameter_table, size_hidden, target_count
+from harness.trial_states import FINISHED, usage
 from harness.tune import best_settings, tuning_plan, with_settings
-from harness.workers import FINISHED, usage
 
 
 @dataclass(frozen=True)

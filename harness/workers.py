@@ -8,7 +8,7 @@ budget; a refused trial is marked failed and never counted.
 Repeats: the seeded repeats are trials enqueued in one repeats study; popping a waiting trial
 is atomic in Optuna's storage, and of two live trials for one (contender, seed) only the one
 with the smaller id runs. A killed worker's trial loses its heartbeat, is marked failed by the
-next worker that looks and is queued again with the same settings (RetryFailedTrialCallback).
+next worker that looks and is queued again with the same settings (Optuna retry callback).
 """
 
 from __future__ import annotations
@@ -18,20 +18,29 @@ import multiprocessing
 import signal
 import time
 from collections.abc import Callable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from pathlib import Path
 
 import optuna
 import torch
-from optuna.trial import FrozenTrial, Trial, TrialState
+from optuna.trial import FrozenTrial, Trial
 
-from harness import store
-from harness.execute import record_of, threads_per_worker
+from harness.execute import threads_per_worker
+from harness.repeats import run_repeats, sync_repeats
 from harness.schema.suite import Suite
 from harness.schema.tuning import Tuning
 from harness.sizing import sizer, target_count
-from harness.suite import expand, load_suite
-from harness.train import perform
+from harness.suite import load_suite
+from harness.trial_states import (
+    FINISHED,
+    LIVE,
+    POLL_SECONDS,
+    SurplusTrial,
+    Usage,
+    trial_id,
+    trial_seconds,
+    usage,
+)
 from harness.tune import (
     Plan,
     best_settings,
@@ -40,55 +49,8 @@ from harness.tune import (
     objective_for,
     repeats_study_name,
     tuning_plan,
-    with_settings,
 )
 from harness.tuning_storage import fail_stale_trials, open_storage
-
-FINISHED = (TrialState.COMPLETE, TrialState.PRUNED)
-LIVE = (TrialState.COMPLETE, TrialState.PRUNED, TrialState.RUNNING, TrialState.WAITING)
-POLL_SECONDS = 0.5
-
-
-class SurplusTrial(Exception):
-    """A trial beyond the budget, or a second trial for one repeat: marked failed, not counted."""
-
-
-@dataclass(frozen=True)
-class Usage:
-    """What a study has used of its budget so far."""
-
-    completed: int
-    pruned: int
-    running: int
-    waiting: int
-    failed: int
-    seconds: float
-
-    @property
-    def finished(self) -> int:
-        return self.completed + self.pruned
-
-
-def trial_seconds(trial: FrozenTrial) -> float:
-    if trial.datetime_start is None or trial.datetime_complete is None:
-        return 0.0
-    return (trial.datetime_complete - trial.datetime_start).total_seconds()
-
-
-def usage(study: optuna.Study) -> Usage:
-    trials = study.get_trials(deepcopy=False)
-
-    def count(state: TrialState) -> int:
-        return sum(1 for t in trials if t.state == state)
-
-    return Usage(
-        completed=count(TrialState.COMPLETE),
-        pruned=count(TrialState.PRUNED),
-        running=count(TrialState.RUNNING),
-        waiting=count(TrialState.WAITING),
-        failed=count(TrialState.FAIL),
-        seconds=sum(trial_seconds(t) for t in trials if t.state in FINISHED),
-    )
 
 
 def budget_spent(used: Usage, tuning: Tuning) -> bool:
@@ -104,11 +66,6 @@ def has_room(used: Usage, tuning: Tuning) -> bool:
         return False
     busy = used.finished + used.running + used.waiting
     return used.waiting > 0 or tuning.trials is None or busy < tuning.trials
-
-
-def trial_id(trial: Trial | FrozenTrial) -> int:
-    # Optuna numbers trials per study from the storage's trial id; the id orders creation
-    return trial._trial_id
 
 
 def admission(study: optuna.Study, tuning: Tuning) -> Callable[[Trial], None]:
@@ -209,84 +166,6 @@ def work(suite: Suite, store_path: str | Path, storage_url: str) -> WorkOutcome:
     run_repeats(suite, repeats, settings, names, resize, store_path)
     keys = sync_repeats(repeats, store_path)
     return WorkOutcome({p.contender: p.study for p in plans}, repeats.study_name, keys)
-
-
-def enqueue_missing(study: optuna.Study, wanted: list[tuple[str, int]]) -> None:
-    live = {
-        (t.user_attrs.get("contender"), t.user_attrs.get("seed"))
-        for t in study.get_trials(deepcopy=False, states=LIVE)
-    }
-    for contender, seed in wanted:
-        if (contender, seed) not in live:
-            study.enqueue_trial(
-                {"contender": contender, "seed": seed},
-                user_attrs={"contender": contender, "seed": seed},
-            )
-
-
-def run_repeats(
-    suite: Suite,
-    study: optuna.Study,
-    settings: dict[str, dict],
-    study_names: dict[str, str],
-    resize: Callable | None,
-    store_path: str | Path,
-) -> None:
-    """Run enqueued repeats until every (contender, seed) has a completed trial."""
-    specs = {(s.contender, s.seed): s for s in expand(suite)}
-    wanted = list(specs)
-    names, seeds = list(suite.contenders), suite.seed_list
-
-    def first_live(trial: Trial, key: tuple[str, int]) -> None:
-        for other in study.get_trials(deepcopy=False, states=LIVE):
-            same = (other.user_attrs.get("contender"), other.user_attrs.get("seed")) == key
-            if same and trial_id(other) < trial_id(trial):
-                raise SurplusTrial(f"repeat {key} is already taken by trial {other.number}")
-
-    def objective(trial: Trial) -> float:
-        key = (trial.user_attrs.get("contender"), trial.user_attrs.get("seed"))
-        if key not in specs:
-            raise SurplusTrial(f"trial {trial.number} is not an enqueued repeat")
-        trial.suggest_categorical("contender", names)
-        trial.suggest_int("seed", min(seeds), max(seeds))
-        first_live(trial, key)
-        spec = with_settings(specs[key], settings[key[0]])
-        spec = resize(spec) if resize is not None else spec
-        result = perform(spec)
-        extras = {**result.extras, "tuned": settings[key[0]], "tuning_study": study_names[key[0]]}
-        record = record_of(spec, replace(result, extras=extras))
-        first_live(trial, key)
-        trial.set_user_attr("record", record)
-        store.save_run(store_path, record)
-        return result.val_metric
-
-    def stop_when_none_waiting(study: optuna.Study, _: FrozenTrial) -> None:
-        if usage(study).waiting == 0:
-            study.stop()
-
-    while True:
-        fail_stale_trials(study)
-        enqueue_missing(study, wanted)
-        trials = study.get_trials(deepcopy=False)
-        done = {
-            (t.user_attrs.get("contender"), t.user_attrs.get("seed"))
-            for t in trials
-            if t.state == TrialState.COMPLETE
-        }
-        if all(key in done for key in wanted):
-            return
-        if any(t.state == TrialState.WAITING for t in trials):
-            study.optimize(objective, catch=(SurplusTrial,), callbacks=[stop_when_none_waiting])
-        else:
-            time.sleep(POLL_SECONDS)
-
-
-def sync_repeats(study: optuna.Study, store_path: str | Path) -> frozenset[str]:
-    """Copy every completed repeat into this machine's result store (stored once by key)."""
-    completed = study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,))
-    for trial in completed:
-        store.save_run(store_path, trial.user_attrs["record"])
-    return frozenset(trial.user_attrs["record"]["key"] for trial in completed)
 
 
 def _worker_setup(threads: int) -> None:
