@@ -13,6 +13,7 @@ import pandas as pd
 from pydantic import BaseModel
 
 from harness.data import load_graph
+from harness.data.feature_starts import start_features
 from harness.errors import InputError
 from harness.models import build_model
 from harness.suite import RunSpec
@@ -35,14 +36,16 @@ class Sized:
         return (self.params - self.target) / self.target
 
 
-def dimensions(spec: RunSpec) -> tuple[int, int]:
-    """Input features and classes of the spec's graph."""
+def dimensions(spec: RunSpec) -> tuple[int, int, int]:
+    """Input width, classes and embedding rows of the graph the contender starts from."""
     data = load_graph(spec.data)
-    return data.num_features, int(data.y.max()) + 1
+    started = start_features(data, spec.options, spec.seed)
+    return started.width, int(data.y.max()) + 1, started.embedding_rows
 
 
-def parameter_count(options: BaseModel, in_dim: int, out_dim: int) -> int:
-    return sum(p.numel() for p in build_model(options, in_dim, out_dim).parameters())
+def parameter_count(options: BaseModel, in_dim: int, out_dim: int, embedding_rows: int = 0) -> int:
+    model = build_model(options, in_dim, out_dim, embedding_rows)
+    return sum(p.numel() for p in model.parameters())
 
 
 def _valid_widths(options: BaseModel) -> int:
@@ -59,10 +62,10 @@ def _valid_widths(options: BaseModel) -> int:
 
 def size_hidden(spec: RunSpec, target: int) -> Sized:
     """The hidden width whose parameter count is nearest `target` (bisection; counts grow)."""
-    in_dim, out_dim = dimensions(spec)
+    shape = dimensions(spec)
 
     def count(hidden: int) -> int:
-        return parameter_count(spec.options.model_copy(update={"hidden": hidden}), in_dim, out_dim)
+        return parameter_count(spec.options.model_copy(update={"hidden": hidden}), *shape)
 
     low, high = 1, _valid_widths(spec.options)
     while low < high:  # smallest width with count >= target
