@@ -14,7 +14,8 @@ from harness import store
 from harness.api import analyse, analyse_store
 from harness.cli import main
 from harness.report import html, latex, markdown
-from harness.report.files import write_report
+from harness.report.files import WRITERS, write_report
+from harness.report.plots import figures
 from harness.suite import expand, load_suite
 
 HOSTILE_SUITE = """\
@@ -216,3 +217,19 @@ def test_stored_homophily_map_is_drawn_and_tabled(tmp_path: Path):
     assert (out / "csv" / "homophily_map.csv").is_file()
     page = (out / "report.md").read_text(encoding="utf-8")
     assert "## Homophily map" in page and "edge homophily is" in page
+
+
+@pytest.mark.parametrize("writer", sorted(WRITERS))
+def test_every_writer_keeps_the_contract(tmp_path: Path, writer: str):
+    """Each writer writes non-empty files inside the folder; markup formats escape names."""
+    suite_path, store_path = stored_suite(tmp_path, attention_extras=True)
+    report = analyse_store(store_path, suite_path)
+    out = tmp_path / "out"
+    out.mkdir()
+    written = WRITERS[writer](report, figures(report), out, None)
+    assert written
+    for path in written:
+        assert path.is_file() and path.stat().st_size > 0
+        assert out in path.parents
+        if path.suffix in (".md", ".html", ".tex"):
+            assert SCRIPT not in path.read_text(encoding="utf-8")

@@ -1,13 +1,50 @@
-"""Write every report format of one suite into a folder."""
+"""Write every report format of one suite into a folder.
+
+Each format is one writer behind the same interface, `write(report, plots, folder, trend)`
+returning the paths it wrote; a new format is one new module and one entry in WRITERS.
+`plots` maps plot names to PNG bytes (harness.report.plots); `trend` is the gate-history plot
+(harness.report.trend) or None.
+"""
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from pathlib import Path
 
 from harness.api import SuiteReport
 from harness.errors import InputError
 from harness.report import csv, html, latex, markdown
 from harness.report.plots import figures
+
+Writer = Callable[[SuiteReport, dict[str, bytes], Path, bytes | None], list[Path]]
+
+
+def _text(path: Path, text: str) -> list[Path]:
+    path.write_text(text, encoding="utf-8")
+    return [path]
+
+
+def write_plots(
+    report: SuiteReport, plots: dict[str, bytes], folder: Path, trend: bytes | None
+) -> list[Path]:
+    """plots/NAME.png for every plot, and plots/gate_trend.png when there is a trend."""
+    (folder / "plots").mkdir(parents=True, exist_ok=True)
+    pictures = dict(plots) | ({"gate_trend": trend} if trend is not None else {})
+    written = []
+    for name, png in pictures.items():
+        path = folder / "plots" / f"{name}.png"
+        path.write_bytes(png)
+        written.append(path)
+    return written
+
+
+WRITERS: dict[str, Writer] = {
+    "plots": write_plots,
+    "markdown": lambda r, p, f, t: _text(f / "report.md", markdown.render(r, list(p))),
+    "html": lambda r, p, f, t: _text(f / "report.html", html.render(r, p, t)),
+    "latex": lambda r, p, f, t: _text(f / "report.tex", latex.render(r)),
+    "csv": lambda r, p, f, t: csv.write(r, f / "csv"),
+}
 
 
 def write_report(report: SuiteReport, out: str | Path, trend: bytes | None = None) -> list[Path]:
@@ -18,23 +55,6 @@ def write_report(report: SuiteReport, out: str | Path, trend: bytes | None = Non
     out = Path(out)
     if out.exists() and not out.is_dir():
         raise InputError(f"{out}: --out is a file; allowed: a folder (created if missing)")
-    (out / "plots").mkdir(parents=True, exist_ok=True)
+    out.mkdir(parents=True, exist_ok=True)
     plots = figures(report)
-    written = []
-    for name, png in plots.items():
-        path = out / "plots" / f"{name}.png"
-        path.write_bytes(png)
-        written.append(path)
-    if trend is not None:
-        (out / "plots" / "gate_trend.png").write_bytes(trend)
-        written.append(out / "plots" / "gate_trend.png")
-    pages = {
-        "report.md": markdown.render(report, list(plots)),
-        "report.html": html.render(report, plots, trend),
-        "report.tex": latex.render(report),
-    }
-    for name, text in pages.items():
-        path = out / name
-        path.write_text(text, encoding="utf-8")
-        written.append(path)
-    return written + csv.write(report, out / "csv")
+    return [path for writer in WRITERS.values() for path in writer(report, plots, out, trend)]
