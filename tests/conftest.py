@@ -1,8 +1,8 @@
 """Shared fixtures: suite files written into a temporary folder, and a tiny fast suite.
 
-Tests run torch on one thread: their graphs are tiny, and on a busy machine two threads per
-process spin against each other (a 15-epoch run took 6 s on two threads, 0.5 s on one).
-Subprocess tests are not affected and see the machine's real cores.
+Tests run torch on one thread: their graphs are tiny, so a second thread buys nothing and
+only competes with the other test processes for the cores. Subprocess tests are not affected
+and see the machine's real cores.
 
 The tiny suite is set in an invented scenario: a fictional courier network whose depots are
 nodes, shared routes are edges, and each depot is tagged with the parcel mix it mostly handles.
