@@ -165,6 +165,11 @@ def headline(contenders: pd.DataFrame, judged: pd.DataFrame, settings: Analysis)
         (judged["attention"] == best_a["variant"]) & (judged["baseline"] == best_b["variant"])
     ].iloc[0]
     metric = METRIC_LABELS.get(best_a["metric"], best_a["metric"])
+    if row["seeds"] < 2:
+        return (
+            f"{label(best_a)} against the best baseline, {label(best_b)}: inconclusive, they "
+            f"share {row['seeds']} seed(s); a paired comparison needs at least 2."
+        )
     level = f"{settings.confidence:.0%}"
     facts = (
         f"{level} CI {signed(row['t_low'])} to {signed(row['t_high'])}, Holm-adjusted "

@@ -125,3 +125,14 @@ def test_no_comparison_without_a_baseline():
     report = analyse(runs[runs["contender"] == "att"], SETTINGS)
     assert report.comparisons.empty
     assert report.headline == "No comparison: the suite has no baseline."
+
+
+def test_too_few_shared_seeds_say_so():
+    runs = crafted(CLEAR_GAIN)
+    runs = runs[(runs["contender"] == "att") | (runs["seed"] == 0)]
+    runs = runs[(runs["contender"] == "conv") | (runs["seed"] != 0)]  # no seed in common
+    report = analyse(runs, SETTINGS)
+    assert report.comparisons.iloc[0]["verdict"] == INCONCLUSIVE
+    assert report.headline.endswith(
+        "inconclusive, they share 0 seed(s); a paired comparison needs at least 2."
+    )
