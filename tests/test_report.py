@@ -161,12 +161,13 @@ def test_show_prints_the_verdict_after_the_table(tmp_path: Path, capsys):
     [
         (["report", "nothing_stored", "--out", "OUT"], "no stored runs for suite 'nothing_stored'"),
         (["report", "50%_&_$x$", "--out", "FILE"], "--out is a file"),
+        (["report", "50%_&_$x$", "--out", "FILE/inside"], "cannot write the report"),
     ],
 )
 def test_report_errors_are_one_line_with_status_2(tmp_path: Path, capsys, arguments, message):
     _, store_path = stored_suite(tmp_path)
     (tmp_path / "FILE").write_text("not a folder")
-    arguments = [str(tmp_path / a) if a in ("OUT", "FILE") else a for a in arguments]
+    arguments = [str(tmp_path / a) if a.startswith(("OUT", "FILE")) else a for a in arguments]
     assert main([*arguments, "--store", str(store_path)]) == 2
     error = capsys.readouterr().err.strip()
     assert message in error and "\n" not in error

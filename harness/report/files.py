@@ -55,6 +55,9 @@ def write_report(report: SuiteReport, out: str | Path, trend: bytes | None = Non
     out = Path(out)
     if out.exists() and not out.is_dir():
         raise InputError(f"{out}: --out is a file; allowed: a folder (created if missing)")
-    out.mkdir(parents=True, exist_ok=True)
     plots = figures(report)
-    return [path for writer in WRITERS.values() for path in writer(report, plots, out, trend)]
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+        return [path for writer in WRITERS.values() for path in writer(report, plots, out, trend)]
+    except OSError as error:
+        raise InputError(f"{out}: cannot write the report ({error.strerror})") from None
