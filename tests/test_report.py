@@ -93,11 +93,15 @@ def stored_suite(tmp_path: Path, attention_extras: bool = False) -> tuple[Path, 
     return suite_path, store_path
 
 
-def test_report_writes_every_format(tmp_path: Path):
+def test_report_command_writes_every_format_and_prints_the_verdict(tmp_path: Path, capsys):
     suite_path, store_path = stored_suite(tmp_path, attention_extras=True)
     out = tmp_path / "report"
-    written = write_report(analyse_store(store_path, suite_path), out)
-    names = {p.relative_to(out).as_posix() for p in written}
+    code = main(["report", str(suite_path), "--out", str(out), "--store", str(store_path)])
+    printed = capsys.readouterr().out
+    assert code == 0
+    assert "Verdict:" in printed and "beats the best baseline" in printed
+    assert "Cost trade-off" in printed and "12 files written to" in printed
+    names = {p.relative_to(out).as_posix() for p in out.rglob("*") if p.is_file()}
     assert {"report.md", "report.html", "report.tex"} <= names
     assert {"csv/contenders.csv", "csv/comparisons.csv", "csv/cost.csv", "csv/attention.csv"} <= (
         names
@@ -136,17 +140,6 @@ def test_hostile_names_are_escaped_in_html_latex_and_markdown(tmp_path: Path):
     for block in re.findall(r"(?:^\|.*\|$\n?)+", text, flags=re.M):
         widths = {len(re.split(r"(?<!\\)\|", line)) for line in block.strip().splitlines()}
         assert len(widths) == 1
-
-
-def test_report_command_writes_files_and_prints_the_verdict(tmp_path: Path, capsys):
-    suite_path, store_path = stored_suite(tmp_path)
-    out = tmp_path / "out"
-    code = main(["report", str(suite_path), "--out", str(out), "--store", str(store_path)])
-    printed = capsys.readouterr().out
-    assert code == 0
-    assert (out / "report.html").is_file()
-    assert "Verdict:" in printed and "beats the best baseline" in printed
-    assert "Cost trade-off" in printed
 
 
 def test_show_prints_the_verdict_after_the_table(tmp_path: Path, capsys):
@@ -220,17 +213,22 @@ def test_stored_homophily_map_is_drawn_and_tabled(tmp_path: Path):
     assert "## Homophily map" in page and "edge homophily is" in page
 
 
-@pytest.mark.parametrize("writer", sorted(WRITERS))
-def test_every_writer_keeps_the_contract(tmp_path: Path, writer: str):
-    """Each writer writes non-empty files inside the folder; markup formats escape names."""
-    suite_path, store_path = stored_suite(tmp_path, attention_extras=True)
+@pytest.fixture(scope="module")
+def drawn_report(tmp_path_factory: pytest.TempPathFactory):
+    """The hostile suite's report and its plots, drawn once for the writer contract."""
+    suite_path, store_path = stored_suite(tmp_path_factory.mktemp("drawn"), True)
     report = analyse_store(store_path, suite_path)
-    out = tmp_path / "out"
-    out.mkdir()
-    written = WRITERS[writer](report, figures(report), out, None)
+    return report, figures(report)
+
+
+@pytest.mark.parametrize("writer", sorted(WRITERS))
+def test_every_writer_keeps_the_contract(tmp_path: Path, drawn_report, writer: str):
+    """Each writer writes non-empty files inside the folder; markup formats escape names."""
+    report, plots = drawn_report
+    written = WRITERS[writer](report, plots, tmp_path, None)
     assert written
     for path in written:
         assert path.is_file() and path.stat().st_size > 0
-        assert out in path.parents
+        assert tmp_path in path.parents
         if path.suffix in (".md", ".html", ".tex"):
             assert SCRIPT not in path.read_text(encoding="utf-8")
