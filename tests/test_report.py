@@ -14,8 +14,9 @@ from harness import store
 from harness.api import analyse, analyse_store
 from harness.cli import main
 from harness.report import html, latex, markdown
-from harness.report.files import WRITERS, write_report
-from harness.report.plots import figures
+from harness.report.files import WRITERS
+from harness.report.plots import figures, homophily_plot
+from harness.report.tables import frames
 from harness.suite import expand, load_suite
 
 HOSTILE_SUITE = """\
@@ -205,11 +206,10 @@ def test_stored_homophily_map_is_drawn_and_tabled(tmp_path: Path):
     table = report.homophily_map.table.set_index(["level", "contender"])
     assert table.loc[(0.8, "conv_{a}^b\\c"), "mean"] == pytest.approx(0.745)
     assert table.loc[(0.2, "plain|mlp"), "seeds"] == 2
-    out = tmp_path / "mapped"
-    write_report(report, out)
-    assert (out / "plots" / "homophily.png").is_file()
-    assert (out / "csv" / "homophily_map.csv").is_file()
-    page = (out / "report.md").read_text(encoding="utf-8")
+    figure = homophily_plot(report)
+    assert [axes.get_title() for axes in figure.axes][0] == "contenders across homophily"
+    assert "homophily_map" in frames(report)
+    page = markdown.render(report, [])
     assert "## Homophily map" in page and "edge homophily is" in page
 
 
