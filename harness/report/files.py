@@ -55,9 +55,9 @@ def write_report(report: SuiteReport, out: str | Path, trend: bytes | None = Non
     out = Path(out)
     if out.exists() and not out.is_dir():
         raise InputError(f"{out}: --out is a file; allowed: a folder (created if missing)")
-    plots = figures(report)
     try:
-        out.mkdir(parents=True, exist_ok=True)
+        out.mkdir(parents=True, exist_ok=True)  # before drawing: a bad folder fails fast
+        plots = figures(report)
         return [path for writer in WRITERS.values() for path in writer(report, plots, out, trend)]
     except OSError as error:
         raise InputError(f"{out}: cannot write the report ({error.strerror})") from None
