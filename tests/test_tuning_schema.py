@@ -127,3 +127,9 @@ def test_the_cli_prints_one_line_and_exits_2(tmp_path, capsys):
     err = capsys.readouterr().err.strip()
     assert len(err.splitlines()) == 1
     assert "tuning.space.attention.learning_rate" in err and "includes 0" in err
+
+
+def test_tuning_and_ablation_tables_do_not_mix():
+    raw = suite_with()
+    raw["ablation"] = {"attention": {"mode": "grid", "axes": {"heads": [1, 2]}}}
+    assert "cannot also be tuned" in error_of(raw)
