@@ -12,6 +12,10 @@ Goal: ratio Heedful / plain <= 1.05.
 
 from __future__ import annotations
 
+# isort: off
+import harness  # noqa: F401  (first: Heedful's OpenMP wait policy must be set before torch loads)
+
+# isort: on
 import argparse
 import os
 import platform
