@@ -3,8 +3,12 @@
 from __future__ import annotations
 
 import multiprocessing
+import multiprocessing.pool
 import os
 import signal
+import threading
+import time
+from collections import deque
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
@@ -87,6 +91,82 @@ def pending(specs: list[RunSpec], store_path: str | Path) -> list[RunSpec]:
     return [s for s in specs if (s.suite, s.contender, s.key) not in done]
 
 
+def _all_ready(results: list[multiprocessing.pool.AsyncResult]) -> bool:
+    """A callback submits the next run before its own result turns ready: recount afterwards."""
+    seen = list(results)
+    return all(result.ready() for result in seen) and len(results) == len(seen)
+
+
+def _share_with_workers(
+    todo: list[RunSpec], store_path: str, jobs: int, on_finished: Callable[[str], None] | None
+) -> tuple[int, bool]:
+    """This process trains too, beside jobs - 1 spawned workers, all taking runs from one queue.
+
+    A spawned worker spends seconds importing torch and PyG before its first run; this process
+    has them loaded already and trains meanwhile instead of waiting.
+    """
+    queue = deque(todo)
+    lock = threading.Lock()
+    finished = 0
+    failures: list[BaseException] = []
+    pending_results: list[multiprocessing.pool.AsyncResult] = []
+
+    def count(contender: str) -> None:
+        nonlocal finished
+        with lock:
+            finished += 1
+        if on_finished:
+            on_finished(contender)
+
+    def take() -> RunSpec | None:
+        with lock:
+            return queue.popleft() if queue and not failures else None
+
+    def submit(_: object = None) -> None:
+        spec = take()
+        if spec is not None:
+            pending_results.append(
+                pool.apply_async(
+                    _worker_task,
+                    ((spec, store_path),),
+                    callback=lambda contender: (count(contender), submit()),
+                    error_callback=failures.append,
+                )
+            )
+
+    threads = threads_per_worker(jobs)
+    torch.set_num_threads(threads)
+    context = multiprocessing.get_context("spawn")
+    # workers start with Ctrl-C ignored (kept across exec), so none prints a traceback while
+    # still importing; this process alone decides what Ctrl-C does
+    main_thread = threading.current_thread() is threading.main_thread()
+    default = signal.signal(signal.SIGINT, signal.SIG_IGN) if main_thread else None
+    try:
+        pool = context.Pool(jobs - 1, initializer=_worker_setup, initargs=(threads,))
+    finally:
+        if main_thread:
+            signal.signal(signal.SIGINT, default)
+    try:
+        for _ in range(jobs - 1):
+            submit()
+        while (spec := take()) is not None:
+            count(run_and_store(spec, store_path))
+        while not _all_ready(pending_results):
+            time.sleep(0.02)
+        if failures:
+            raise failures[0]
+        pool.close()
+    except KeyboardInterrupt:
+        pool.terminate()
+        return finished, True
+    except BaseException:
+        pool.terminate()
+        raise
+    finally:
+        pool.join()
+    return finished, False
+
+
 def execute(
     specs: list[RunSpec],
     store_path: str | Path,
@@ -108,20 +188,5 @@ def execute(
         except KeyboardInterrupt:
             interrupted = True
     else:
-        context = multiprocessing.get_context("spawn")
-        pool = context.Pool(jobs, initializer=_worker_setup, initargs=(threads_per_worker(jobs),))
-        try:
-            for on in pool.imap_unordered(_worker_task, [(s, str(store_path)) for s in todo]):
-                finished += 1
-                if on_finished:
-                    on_finished(on)
-            pool.close()
-        except KeyboardInterrupt:
-            interrupted = True
-            pool.terminate()
-        except BaseException:
-            pool.terminate()
-            raise
-        finally:
-            pool.join()
+        finished, interrupted = _share_with_workers(todo, str(store_path), jobs, on_finished)
     return Outcome(len(specs), len(specs) - len(todo), finished, interrupted)
