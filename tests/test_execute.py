@@ -60,12 +60,12 @@ def test_execute_stores_each_run_once_and_skips_finished(tiny_suite, store_path)
     assert execute(specs, store_path, jobs=2).finished == 0  # nothing left: no worker starts
 
 
-KILL_SUITE_CHANGES = {"seeds = 2": "seeds = 4"}
+KILL_SUITE_CHANGES = {"seeds = 2": "seeds = 6"}
 
 
 @pytest.fixture
 def kill_suite(tiny_suite_text, write_suite) -> Path:
-    """The tiny suite on 4 seeds: 12 runs; the store is polled far faster than runs finish."""
+    """The tiny suite on 6 seeds: 18 runs; the store is polled far faster than runs finish."""
     text = tiny_suite_text
     for old, new in KILL_SUITE_CHANGES.items():
         text = text.replace(old, new)
@@ -74,8 +74,8 @@ def kill_suite(tiny_suite_text, write_suite) -> Path:
 
 def test_sigkill_then_rerun_loses_nothing_and_stores_nothing_twice(kill_suite, tmp_path, capsys):
     """`heedful run --jobs 2` is killed with SIGKILL after some runs are stored; a rerun
-    completes the suite, keeps every finished row byte for byte, and the worker processes'
-    figures equal those of the same runs trained in this process."""
+    completes the suite, keeps every finished row byte for byte, and the killed command's
+    figures equal those of the same runs trained again in this process."""
     store_file = tmp_path / "killed.db"
     command = [sys.executable, "-m", "harness.cli", "run", str(kill_suite)]
     command += ["--jobs", "2", "--quiet", "--store", str(store_file)]
@@ -109,7 +109,7 @@ def test_sigkill_then_rerun_loses_nothing_and_stores_nothing_twice(kill_suite, t
     for key, row in kept.items():
         assert after[key] == row  # finished rows unchanged, finishing time included
 
-    # worker-process results equal in-process results, bit for bit
+    # another process, same seed: the same figures, bit for bit
     runs = store.load_runs(store_file).set_index("key")
     for spec in [s for s in specs if s.key in kept][:2]:
         result = perform(spec)
@@ -121,3 +121,21 @@ def test_sigkill_then_rerun_loses_nothing_and_stores_nothing_twice(kill_suite, t
     assert main(["run", str(kill_suite), "--store", str(store_file), "--quiet"]) == 0
     assert f"0 runs trained, {len(specs)} reused" in " ".join(capsys.readouterr().out.split())
     assert stored_rows(store_file) == after
+
+
+def test_a_spawned_worker_gives_the_figures_of_this_process(tiny_suite):
+    """The worker path (spawned process, worker set-up, one torch thread) changes no figure."""
+    import multiprocessing
+
+    spec = next(s for s in expand(load_suite(tiny_suite)) if s.model == "gat")
+    context = multiprocessing.get_context("spawn")
+    with context.Pool(1, initializer=harness.execute._worker_setup, initargs=(1,)) as pool:
+        remote = pool.apply(perform, (spec,))
+    local = perform(spec)
+    assert (remote.val_metric, remote.test_metric) == (local.val_metric, local.test_metric)
+    assert (remote.epochs, remote.best_epoch, remote.params) == (
+        local.epochs,
+        local.best_epoch,
+        local.params,
+    )
+    assert remote.curve == local.curve and remote.test_scores == local.test_scores
