@@ -25,8 +25,7 @@ from sklearn.neighbors import kneighbors_graph
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from training_loop import cpu_model  # noqa: E402  (a sibling script, not a package)
-
+from harness.baseline import cpu_model  # noqa: E402
 from harness.data import load_graph  # noqa: E402
 from harness.data.assemble import assemble  # noqa: E402
 from harness.data.inductive import measure_arrival  # noqa: E402

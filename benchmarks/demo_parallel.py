@@ -21,7 +21,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from training_loop import cpu_model  # noqa: E402  (a sibling script, not a package)
+from harness.baseline import cpu_model  # noqa: E402
 
 
 def timed_run(suite: str, store: Path, jobs: int) -> tuple[float, int]:

@@ -27,6 +27,7 @@ import torch
 import torch_geometric
 from torch import nn
 
+from harness.baseline import cpu_model
 from harness.data import load_graph
 from harness.data.splits import make_split
 from harness.execute import available_cores
@@ -54,16 +55,6 @@ def plain_loop(model: nn.Module, data, split, learning_rate: float, weight_decay
             predicted = model(data.x, data.edge_index).argmax(1)[split.validation]
         curve.append(float((predicted == data.y[split.validation]).double().mean()))
     return (time.perf_counter() - started) / epochs, curve
-
-
-def cpu_model() -> str:
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                return line.split(":", 1)[1].strip()
-    except OSError:
-        pass
-    return platform.processor() or platform.machine()
 
 
 def machine_line(threads: int) -> str:

@@ -57,4 +57,3 @@ def preflight(suite: Suite, source: str) -> DataFacts:
         measured.node,
         tuple(cleaning_notes(data, f"{source}: data")),
     )
-
