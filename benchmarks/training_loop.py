@@ -30,8 +30,8 @@ from torch import nn
 from harness.baseline import cpu_model
 from harness.data import load_graph
 from harness.data.splits import make_split
-from harness.execute import available_cores
 from harness.models import build_model
+from harness.pool import available_cores
 from harness.suite import load_suite
 from harness.train import fit
 

@@ -59,6 +59,34 @@ def command_check(args: argparse.Namespace) -> int:
 
 
 def command_run(args: argparse.Namespace) -> int:
+    from harness.suite import load_suite
+
+    suite = load_suite(args.suite)
+    if suite.tuning is not None:
+        return command_run_tuned(args, suite)
+    from harness.pool import start_workers, threads_per_worker
+
+    # workers start before the heavy imports below, so that theirs overlap this process's
+    workers = start_workers(args.jobs - 1, threads_per_worker(args.jobs)) if args.jobs > 1 else None
+    try:
+        return run_untuned(args, suite, workers)
+    except BaseException:
+        if workers is not None:
+            workers.terminate()
+        raise
+
+
+def command_run_tuned(args: argparse.Namespace, suite) -> int:
+    from harness.preflight import preflight
+    from harness.profile_store import record_profile
+
+    url = checked_storage(args, suite)  # a bad storage fails before anything is written
+    preflight(suite, args.suite)
+    record_profile(suite, args.store)
+    return run_tuned(args, suite, url)
+
+
+def run_untuned(args: argparse.Namespace, suite, workers) -> int:
     from harness import store
     from harness.api import analyse
     from harness.axes import ablation_view, label_points
@@ -67,14 +95,8 @@ def command_run(args: argparse.Namespace) -> int:
     from harness.profile_store import record_profile
     from harness.report.terminal import print_ablation, print_summary, print_verdicts
     from harness.stats import summarise
-    from harness.suite import expand, load_suite
+    from harness.suite import expand
 
-    suite = load_suite(args.suite)
-    if suite.tuning is not None:
-        url = checked_storage(args, suite)  # a bad storage fails before anything is written
-        preflight(suite, args.suite)
-        record_profile(suite, args.store)
-        return run_tuned(args, suite, url)
     specs = expand(suite)
     preflight(suite, args.suite)
     profile = record_profile(suite, args.store)
@@ -89,7 +111,7 @@ def command_run(args: argparse.Namespace) -> int:
         disable=args.quiet,
     ) as progress:
         task = progress.add_task(suite.name, total=todo)
-        outcome = execute(specs, args.store, args.jobs, lambda _: progress.advance(task))
+        outcome = execute(specs, args.store, args.jobs, lambda _: progress.advance(task), workers)
     if outcome.interrupted:
         errors.print(
             f"interrupted: {outcome.finished} runs finished and stored in {args.store}; "

@@ -4,8 +4,6 @@ from __future__ import annotations
 
 import multiprocessing
 import multiprocessing.pool
-import os
-import signal
 import threading
 import time
 from collections import deque
@@ -17,6 +15,7 @@ from typing import Any
 import torch
 
 from harness import store
+from harness.pool import start_workers, threads_per_worker
 from harness.suite import RunSpec
 from harness.train import RunResult, perform
 
@@ -29,15 +28,6 @@ class Outcome:
     skipped: int
     finished: int
     interrupted: bool
-
-
-def available_cores() -> int:
-    return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
-
-
-def threads_per_worker(jobs: int) -> int:
-    """Torch threads per worker so that workers x threads <= cores."""
-    return max(1, available_cores() // jobs)
 
 
 def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
@@ -73,11 +63,6 @@ def run_and_store(spec: RunSpec, store_path: str) -> str:
     return spec.contender
 
 
-def _worker_setup(threads: int) -> None:
-    signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent decides what Ctrl-C does
-    torch.set_num_threads(threads)
-
-
 def _worker_task(args: tuple[RunSpec, str]) -> str:
     return run_and_store(*args)
 
@@ -98,7 +83,11 @@ def _all_ready(results: list[multiprocessing.pool.AsyncResult]) -> bool:
 
 
 def _share_with_workers(
-    todo: list[RunSpec], store_path: str, jobs: int, on_finished: Callable[[str], None] | None
+    todo: list[RunSpec],
+    store_path: str,
+    jobs: int,
+    on_finished: Callable[[str], None] | None,
+    pool: multiprocessing.pool.Pool,
 ) -> tuple[int, bool]:
     """This process trains too, beside jobs - 1 spawned workers, all taking runs from one queue.
 
@@ -134,18 +123,7 @@ def _share_with_workers(
                 )
             )
 
-    threads = threads_per_worker(jobs)
-    torch.set_num_threads(threads)
-    context = multiprocessing.get_context("spawn")
-    # workers start with Ctrl-C ignored (kept across exec), so none prints a traceback while
-    # still importing; this process alone decides what Ctrl-C does
-    main_thread = threading.current_thread() is threading.main_thread()
-    default = signal.signal(signal.SIGINT, signal.SIG_IGN) if main_thread else None
-    try:
-        pool = context.Pool(jobs - 1, initializer=_worker_setup, initargs=(threads,))
-    finally:
-        if main_thread:
-            signal.signal(signal.SIGINT, default)
+    torch.set_num_threads(threads_per_worker(jobs))
     try:
         for _ in range(jobs - 1):
             submit()
@@ -172,12 +150,20 @@ def execute(
     store_path: str | Path,
     jobs: int = 1,
     on_finished: Callable[[str], None] | None = None,
+    workers: multiprocessing.pool.Pool | None = None,
 ) -> Outcome:
-    """Run every spec not yet stored, on `jobs` processes; Ctrl-C keeps what finished."""
+    """Run every spec not yet stored, on `jobs` processes; Ctrl-C keeps what finished.
+
+    `workers`, if given, is a pool of jobs - 1 processes from `start_workers`, started early
+    by the caller; execute owns it from here and shuts it down.
+    """
     todo = pending(specs, store_path)
     finished = 0
     interrupted = False
     if jobs == 1 or len(todo) <= 1:
+        if workers is not None:
+            workers.terminate()
+            workers.join()
         torch.set_num_threads(threads_per_worker(1))
         try:
             for spec in todo:
@@ -188,5 +174,9 @@ def execute(
         except KeyboardInterrupt:
             interrupted = True
     else:
-        finished, interrupted = _share_with_workers(todo, str(store_path), jobs, on_finished)
+        if workers is None:
+            workers = start_workers(jobs - 1, threads_per_worker(jobs))
+        finished, interrupted = _share_with_workers(
+            todo, str(store_path), jobs, on_finished, workers
+        )
     return Outcome(len(specs), len(specs) - len(todo), finished, interrupted)

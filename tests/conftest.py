@@ -64,9 +64,9 @@ hidden = 8
 @pytest.fixture(autouse=True)
 def one_torch_thread(monkeypatch: pytest.MonkeyPatch) -> None:
     """In-process runs (`execute` with one job) would set torch to one thread per core."""
-    import harness.execute
+    import harness.pool
 
-    monkeypatch.setattr(harness.execute, "available_cores", lambda: 1)
+    monkeypatch.setattr(harness.pool, "available_cores", lambda: 1)
 
 
 @pytest.fixture(scope="session")
@@ -102,7 +102,7 @@ def store_path(tmp_path: Path) -> Path:
 @pytest.fixture(scope="session")
 def finished_store(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, Path]:
     """(suite path, store path) after `heedful run` of the tiny suite; copy before changing it."""
-    import harness.execute
+    import harness.pool
     from harness.cli import main
 
     folder = tmp_path_factory.mktemp("finished")
@@ -110,6 +110,6 @@ def finished_store(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, Path
     suite.write_text(TINY_SUITE, encoding="utf-8")
     store = folder / "runs.db"
     with pytest.MonkeyPatch.context() as patch:  # session scope runs before one_torch_thread
-        patch.setattr(harness.execute, "available_cores", lambda: 1)
+        patch.setattr(harness.pool, "available_cores", lambda: 1)
         assert main(["run", str(suite), "--store", str(store), "--quiet"]) == 0
     return suite, store

@@ -13,6 +13,7 @@ from pathlib import Path
 import pytest
 
 import harness.execute
+import harness.pool
 from harness import store
 from harness.cli import main
 from harness.execute import execute, pending, threads_per_worker
@@ -40,7 +41,7 @@ def stored_rows(path: Path) -> dict[str, tuple]:
 
 
 def test_threads_per_worker_keep_processes_times_threads_within_cores(monkeypatch):
-    monkeypatch.setattr(harness.execute, "available_cores", lambda: 8)
+    monkeypatch.setattr(harness.pool, "available_cores", lambda: 8)
     assert [threads_per_worker(jobs) for jobs in (1, 2, 3, 8, 16)] == [8, 4, 2, 1, 1]
     for jobs in range(1, 9):
         assert jobs * threads_per_worker(jobs) <= 8
@@ -129,7 +130,7 @@ def test_a_spawned_worker_gives_the_figures_of_this_process(tiny_suite):
 
     spec = next(s for s in expand(load_suite(tiny_suite)) if s.model == "gat")
     context = multiprocessing.get_context("spawn")
-    with context.Pool(1, initializer=harness.execute._worker_setup, initargs=(1,)) as pool:
+    with context.Pool(1, initializer=harness.pool.worker_setup, initargs=(1,)) as pool:
         remote = pool.apply(perform, (spec,))
     local = perform(spec)
     assert (remote.val_metric, remote.test_metric) == (local.val_metric, local.test_metric)

@@ -1,0 +1,42 @@
+"""Local worker processes. Kept free of heavy imports so that the run command can start its
+workers first: their torch and PyG imports (seconds each) then overlap the parent's own."""
+
+from __future__ import annotations
+
+import multiprocessing
+import multiprocessing.pool
+import os
+import signal
+import threading
+
+
+def available_cores() -> int:
+    return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
+
+
+def threads_per_worker(jobs: int) -> int:
+    """Torch threads per worker so that workers x threads <= cores."""
+    return max(1, available_cores() // jobs)
+
+
+def worker_setup(threads: int) -> None:
+    """Runs once in each worker: Ctrl-C is the parent's, threads are capped, imports done now."""
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    import torch
+
+    torch.set_num_threads(threads)
+    import harness.execute  # noqa: F401  (loads PyG and the run code before the first run arrives)
+
+
+def start_workers(count: int, threads: int) -> multiprocessing.pool.Pool:
+    """A spawned pool of `count` workers, `threads` torch threads each."""
+    context = multiprocessing.get_context("spawn")
+    # workers start with Ctrl-C ignored (kept across exec), so none prints a traceback while
+    # still importing; this process alone decides what Ctrl-C does
+    main_thread = threading.current_thread() is threading.main_thread()
+    default = signal.signal(signal.SIGINT, signal.SIG_IGN) if main_thread else None
+    try:
+        return context.Pool(count, initializer=worker_setup, initargs=(threads,))
+    finally:
+        if main_thread:
+            signal.signal(signal.SIGINT, default)
