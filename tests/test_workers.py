@@ -131,7 +131,9 @@ def test_two_workers_on_postgresql_each_with_its_own_result_store(tmp_path):
 def test_two_workers_on_sqlite_one_killed_mid_trial_and_restarted(tmp_path):
     """Worker A is killed with SIGKILL while it runs a trial, then started again; together
     with worker B the study completes with no finished trial lost or counted twice."""
-    suite_path = write_suite(tmp_path, "killed", epochs=12)
+    # trials long enough (about a second each) that a running trial of worker A is seen
+    # reliably on a fast, idle machine before A has finished all of its work
+    suite_path = write_suite(tmp_path, "killed", epochs=300)
     url = f"sqlite:///{tmp_path / 'tuning.db'}"
     store_path = tmp_path / "runs.db"
     first = tuning_plan(load_suite(suite_path))[0]
