@@ -13,11 +13,13 @@ import pytest
 from harness import store
 from harness.api import analyse, analyse_store
 from harness.cli import main
+from harness.execute import record_of
 from harness.report import html, latex, markdown
 from harness.report.files import WRITERS
 from harness.report.plots import figures, homophily_plot
 from harness.report.tables import frames
 from harness.suite import expand, load_suite
+from harness.train import RunResult
 
 HOSTILE_SUITE = """\
 # Fictional parcel lockers of an invented courier network; names chosen to break renderers.
@@ -65,32 +67,20 @@ def stored_suite(tmp_path: Path, attention_extras: bool = False) -> tuple[Path, 
             measures = {"entropy_ratio": 0.9, "self_share": 0.2, "uniform_self_share": 0.15}
             measures |= {"same_label_share": 0.8, "neighbour_homophily": 0.6}
             extras = {"attention": {"mean": measures}}
-        store.save_run(
-            store_path,
-            {
-                "suite": spec.suite,
-                "contender": spec.contender,
-                "key": spec.key,
-                "model": spec.model,
-                "options": spec.options.model_dump(mode="json"),
-                "point": spec.point,
-                "seed": spec.seed,
-                "metric": spec.metric,
-                "val_metric": value,
-                "test_metric": value,
-                "test_accuracy": value,
-                "test_macro_f1": value,
-                "test_roc_auc": value,
-                "epochs": 10,
-                "best_epoch": 8,
-                "seconds": 0.5,
-                "seconds_per_epoch": {"gat": 0.05, "gcn": 0.01, "mlp": 0.005}[spec.model],
-                "params": {"gat": 300, "gcn": 200, "mlp": 150}[spec.model],
-                "peak_mb": {"gat": 2.0, "gcn": 1.0, "mlp": 0.5}[spec.model],
-                "curve": [value],
-                "extras": extras,
-            },
+        result = RunResult(
+            val_metric=value,
+            test_metric=value,
+            test_scores=dict.fromkeys(("accuracy", "macro_f1", "roc_auc"), value),
+            epochs=10,
+            best_epoch=8,
+            seconds=0.5,
+            seconds_per_epoch={"gat": 0.05, "gcn": 0.01, "mlp": 0.005}[spec.model],
+            params={"gat": 300, "gcn": 200, "mlp": 150}[spec.model],
+            peak_mb={"gat": 2.0, "gcn": 1.0, "mlp": 0.5}[spec.model],
+            curve=[value],
+            extras=extras,
         )
+        store.save_run(store_path, record_of(spec, result))
     return suite_path, store_path
 
 
