@@ -131,9 +131,11 @@ def test_two_workers_on_postgresql_each_with_its_own_result_store(tmp_path):
 def test_two_workers_on_sqlite_one_killed_mid_trial_and_restarted(tmp_path):
     """Worker A is killed with SIGKILL while it runs a trial, then started again; together
     with worker B the study completes with no finished trial lost or counted twice."""
-    # trials long enough (about a second each) that a running trial of worker A is seen
-    # reliably on a fast, idle machine before A has finished all of its work
+    # trials long enough (about a second each) and never pruned, so that worker A is caught
+    # mid-trial on a fast, idle machine, with most of that trial still ahead of it
     suite_path = write_suite(tmp_path, "killed", epochs=300)
+    with suite_path.open("a") as suite_file:
+        suite_file.write('pruner = "none"\n')  # appended to the [tuning] table
     url = f"sqlite:///{tmp_path / 'tuning.db'}"
     store_path = tmp_path / "runs.db"
     first = tuning_plan(load_suite(suite_path))[0]
@@ -152,7 +154,11 @@ def test_two_workers_on_sqlite_one_killed_mid_trial_and_restarted(tmp_path):
         trials = study.get_trials(deepcopy=False)
         mine = [t for t in trials if t.user_attrs.get("worker", "").endswith(f":{doomed.pid}")]
         finished = [t for t in trials if t.state in (TrialState.COMPLETE, TrialState.PRUNED)]
-        if len(finished) >= 2 and any(t.state == TrialState.RUNNING for t in mine):
+        # fewer than 100 of 300 epochs reported: the trial cannot end before the signal lands
+        early = [
+            t for t in mine if t.state == TrialState.RUNNING and len(t.intermediate_values) < 100
+        ]
+        if len(finished) >= 2 and early:
             doomed.send_signal(signal.SIGKILL)
             break
         time.sleep(0.05)
