@@ -1,5 +1,6 @@
-"""Wall time of `heedful run` on the demo suite with --jobs 1 and --jobs 2, each into a fresh
-temporary store, then once more into the filled store (every run reused).
+"""Wall time of `heedful run` on the demo suite with --jobs 1 and --jobs 2 (one torch thread
+per process, the default), each into a fresh temporary store, then once more into the filled
+store (every run reused). For comparison, one process with as many torch threads as cores.
 
 Times are whole commands as a user sees them: start-up, data, training, storing, the table.
 Run by hand (not a test):  .venv/bin/python benchmarks/demo_parallel.py [--suite FILE]
@@ -24,10 +25,10 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 from harness.baseline import cpu_model  # noqa: E402
 
 
-def timed_run(suite: str, store: Path, jobs: int) -> tuple[float, int]:
+def timed_run(suite: str, store: Path, jobs: int, threads: int = 1) -> tuple[float, int]:
     """Seconds of one `heedful run` and the runs stored afterwards; stops on failure."""
     command = [sys.executable, "-m", "harness.cli", "run", suite, "--jobs", str(jobs)]
-    command += ["--quiet", "--store", str(store)]
+    command += ["--threads", str(threads), "--quiet", "--store", str(store)]
     started = time.perf_counter()
     finished = subprocess.run(command, cwd=ROOT, capture_output=True, text=True)
     seconds = time.perf_counter() - started
@@ -59,10 +60,13 @@ def main() -> None:
         rows.append(("--jobs 2, fresh store", two, runs_two))
         again, runs_again = timed_run(args.suite, Path(folder) / "two.db", 1)
         rows.append(("rerun, all stored", again, runs_again))
-    print(f"{'command':<24}{'wall seconds':>14}{'runs stored':>13}")
+        threaded, runs_threaded = timed_run(args.suite, Path(folder) / "threads.db", 1, usable)
+        rows.append((f"--jobs 1 --threads {usable}", threaded, runs_threaded))
+    print(f"{'command':<26}{'wall seconds':>14}{'runs stored':>13}")
     for label, seconds, stored in rows:
-        print(f"{label:<24}{seconds:>14.1f}{stored:>13}")
+        print(f"{label:<26}{seconds:>14.1f}{stored:>13}")
     print(f"speed-up of --jobs 2 over --jobs 1: {one / two:.2f} (goal >= 1.6)")
+    print(f"speed-up of --jobs 2 over --jobs 1 --threads {usable}: {threaded / two:.2f}")
 
 
 if __name__ == "__main__":

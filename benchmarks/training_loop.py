@@ -70,7 +70,9 @@ def main() -> None:
     parser.add_argument("--suite", default=str(ROOT / "suites" / "demo.toml"))
     parser.add_argument("--epochs", type=int, default=100)
     parser.add_argument("--repeats", type=int, default=5, help="alternating timed repeats")
-    parser.add_argument("--threads", type=int, default=available_cores())
+    parser.add_argument(
+        "--threads", type=int, default=1, help="torch threads (the command's default is 1)"
+    )
     args = parser.parse_args()
     torch.set_num_threads(args.threads)
 

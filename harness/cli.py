@@ -64,10 +64,11 @@ def command_run(args: argparse.Namespace) -> int:
     suite = load_suite(args.suite)
     if suite.tuning is not None:
         return command_run_tuned(args, suite)
-    from harness.pool import start_workers, threads_per_worker
+    from harness.pool import check_threads, start_workers
 
+    check_threads(args.jobs, args.threads)
     # workers start before the heavy imports below, so that theirs overlap this process's
-    workers = start_workers(args.jobs - 1, threads_per_worker(args.jobs)) if args.jobs > 1 else None
+    workers = start_workers(args.jobs - 1, args.threads) if args.jobs > 1 else None
     try:
         return run_untuned(args, suite, workers)
     except BaseException:
@@ -77,9 +78,11 @@ def command_run(args: argparse.Namespace) -> int:
 
 
 def command_run_tuned(args: argparse.Namespace, suite) -> int:
+    from harness.pool import check_threads
     from harness.preflight import preflight
     from harness.profile_store import record_profile
 
+    check_threads(args.jobs, args.threads)
     url = checked_storage(args, suite)  # a bad storage fails before anything is written
     preflight(suite, args.suite)
     record_profile(suite, args.store)
@@ -111,7 +114,9 @@ def run_untuned(args: argparse.Namespace, suite, workers) -> int:
         disable=args.quiet,
     ) as progress:
         task = progress.add_task(suite.name, total=todo)
-        outcome = execute(specs, args.store, args.jobs, lambda _: progress.advance(task), workers)
+        outcome = execute(
+            specs, args.store, args.jobs, lambda _: progress.advance(task), workers, args.threads
+        )
     if outcome.interrupted:
         errors.print(
             f"interrupted: {outcome.finished} runs finished and stored in {args.store}; "
@@ -139,7 +144,7 @@ def run_homophily_map(args: argparse.Namespace, suite, profile) -> int:
     specs = map_specs(suite, profile)
     if not args.quiet:
         console.print(f"homophily map: {len(specs)} runs on matched synthetic graphs")
-    outcome = execute(specs, args.store, args.jobs)
+    outcome = execute(specs, args.store, args.jobs, threads=args.threads)
     if outcome.interrupted:
         errors.print(f"interrupted: homophily map runs so far are stored in {args.store}")
         return 130
@@ -168,7 +173,7 @@ def run_tuned(args: argparse.Namespace, suite, url: str) -> int:
 
     if not args.quiet:
         console.print(f"{suite.name}: tuning with {args.jobs} worker(s) on storage {url}")
-    outcome = work_in_processes(args.suite, args.store, url, args.jobs)
+    outcome = work_in_processes(args.suite, args.store, url, args.jobs, args.threads)
     print_tuning_of(suite, url)
     runs = store.load_runs(args.store, [suite.name])
     runs = runs[runs["key"].isin(outcome.keys)]
@@ -252,11 +257,13 @@ def command_show(args: argparse.Namespace) -> int:
 def _run_for_gate(args: argparse.Namespace, suite, specs) -> bool:
     """Run (or reuse) a suite's runs for `baseline` and `gate`; False when interrupted."""
     from harness.execute import execute, pending
+    from harness.pool import check_threads
 
+    check_threads(args.jobs, args.threads)
     todo = len(pending(specs, args.store))
     if todo:
         console.print(f"{suite.name}: training {todo} runs, reusing {len(specs) - todo}")
-    outcome = execute(specs, args.store, args.jobs)
+    outcome = execute(specs, args.store, args.jobs, threads=args.threads)
     if outcome.interrupted:
         errors.print(
             f"interrupted: {outcome.finished} runs finished and stored in {args.store}; "
@@ -273,7 +280,6 @@ def command_baseline(args: argparse.Namespace) -> int:
         suite_runs,
         write_baseline,
     )
-    from harness.execute import threads_per_worker
     from harness.preflight import preflight
     from harness.suite import expand, load_suite
 
@@ -283,7 +289,7 @@ def command_baseline(args: argparse.Namespace) -> int:
     preflight(suite, args.suite)
     if not _run_for_gate(args, suite, specs):
         return 130
-    environment = environment_fingerprint(threads_per_worker(args.jobs))
+    environment = environment_fingerprint(args.threads)
     runs = suite_runs(args.store, specs)
     write_baseline(args.save, build_baseline(suite, specs, runs, environment))
     console.print(f"baseline of suite '{suite.name}' ({len(specs)} runs) saved to {args.save}")
@@ -303,7 +309,6 @@ def command_gate(args: argparse.Namespace) -> int:
         read_baseline,
         suite_runs,
     )
-    from harness.execute import threads_per_worker
     from harness.gate import evaluate
     from harness.preflight import preflight
     from harness.report.gate_markdown import gate_markdown
@@ -319,7 +324,7 @@ def command_gate(args: argparse.Namespace) -> int:
     preflight(suite, args.suite)
     if not _run_for_gate(args, suite, specs):
         return 130
-    environment = environment_fingerprint(threads_per_worker(args.jobs))
+    environment = environment_fingerprint(args.threads)
     differences = environment_differences(baseline.environment.model_dump(), environment)
     runs = suite_runs(args.store, specs)
     labels = contender_labels(specs)
@@ -403,6 +408,15 @@ def parser() -> argparse.ArgumentParser:
             help=f"result store file (default {DEFAULT_STORE})",
         )
 
+    def with_jobs(sub: argparse.ArgumentParser) -> None:
+        sub.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
+        sub.add_argument(
+            "--threads",
+            type=positive_int,
+            default=1,
+            help="torch threads per process (default 1; jobs x threads must fit the cores)",
+        )
+
     def with_storage(sub: argparse.ArgumentParser) -> None:
         sub.add_argument(
             "--storage",
@@ -417,7 +431,7 @@ def parser() -> argparse.ArgumentParser:
 
     run = commands.add_parser("run", help="run a suite (finished runs are reused)")
     run.add_argument("suite")
-    run.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
+    with_jobs(run)
     run.add_argument("--quiet", action="store_true", help="no progress bar")
     with_store(run)
     with_storage(run)
@@ -451,7 +465,7 @@ def parser() -> argparse.ArgumentParser:
     baseline = commands.add_parser("baseline", help="run a suite and save its baseline file")
     baseline.add_argument("suite")
     baseline.add_argument("--save", type=output_file, required=True, metavar="FILE.json")
-    baseline.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
+    with_jobs(baseline)
     with_store(baseline)
     baseline.set_defaults(handler=command_baseline)
 
@@ -460,7 +474,7 @@ def parser() -> argparse.ArgumentParser:
     gate.add_argument("--baseline", type=Path, required=True, metavar="FILE.json")
     gate.add_argument("--junit", type=output_file, metavar="FILE.xml", help="write JUnit XML")
     gate.add_argument("--markdown", type=output_file, metavar="FILE.md", help="write a summary")
-    gate.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
+    with_jobs(gate)
     with_store(gate)
     gate.set_defaults(handler=command_gate)
 

@@ -15,7 +15,7 @@ from typing import Any
 import torch
 
 from harness import store
-from harness.pool import start_workers, threads_per_worker
+from harness.pool import start_workers
 from harness.suite import RunSpec
 from harness.train import RunResult, perform
 
@@ -88,6 +88,7 @@ def _share_with_workers(
     jobs: int,
     on_finished: Callable[[str], None] | None,
     pool: multiprocessing.pool.Pool,
+    threads: int,
 ) -> tuple[int, bool]:
     """This process trains too, beside jobs - 1 spawned workers, all taking runs from one queue.
 
@@ -123,7 +124,7 @@ def _share_with_workers(
                 )
             )
 
-    torch.set_num_threads(threads_per_worker(jobs))
+    torch.set_num_threads(threads)
     try:
         for _ in range(jobs - 1):
             submit()
@@ -151,11 +152,13 @@ def execute(
     jobs: int = 1,
     on_finished: Callable[[str], None] | None = None,
     workers: multiprocessing.pool.Pool | None = None,
+    threads: int = 1,
 ) -> Outcome:
-    """Run every spec not yet stored, on `jobs` processes; Ctrl-C keeps what finished.
+    """Run every spec not yet stored, on `jobs` processes of `threads` torch threads each;
+    Ctrl-C keeps what finished.
 
     `workers`, if given, is a pool of jobs - 1 processes from `start_workers`, started early
-    by the caller; execute owns it from here and shuts it down.
+    by the caller with the same `threads`; execute owns it from here and shuts it down.
     """
     todo = pending(specs, store_path)
     finished = 0
@@ -164,7 +167,7 @@ def execute(
         if workers is not None:
             workers.terminate()
             workers.join()
-        torch.set_num_threads(threads_per_worker(1))
+        torch.set_num_threads(threads)
         try:
             for spec in todo:
                 on = run_and_store(spec, str(store_path))
@@ -175,8 +178,8 @@ def execute(
             interrupted = True
     else:
         if workers is None:
-            workers = start_workers(jobs - 1, threads_per_worker(jobs))
+            workers = start_workers(jobs - 1, threads)
         finished, interrupted = _share_with_workers(
-            todo, str(store_path), jobs, on_finished, workers
+            todo, str(store_path), jobs, on_finished, workers, threads
         )
     return Outcome(len(specs), len(specs) - len(todo), finished, interrupted)

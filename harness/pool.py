@@ -9,14 +9,21 @@ import os
 import signal
 import threading
 
+from harness.errors import InputError
+
 
 def available_cores() -> int:
     return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
 
 
-def threads_per_worker(jobs: int) -> int:
-    """Torch threads per worker so that workers x threads <= cores."""
-    return max(1, available_cores() // jobs)
+def check_threads(jobs: int, threads: int) -> None:
+    """More than one torch thread per process is allowed only while jobs x threads <= cores."""
+    cores = available_cores()
+    if threads > 1 and jobs * threads > cores:
+        raise InputError(
+            f"--threads: {jobs} jobs x {threads} threads need {jobs * threads} cores, "
+            f"{cores} are usable; allowed: jobs x threads <= {cores}"
+        )
 
 
 def worker_setup(threads: int) -> None:

@@ -25,7 +25,6 @@ import optuna
 import torch
 from optuna.trial import FrozenTrial, Trial
 
-from harness.execute import threads_per_worker
 from harness.repeats import run_repeats, sync_repeats
 from harness.schema.suite import Suite
 from harness.schema.tuning import Tuning
@@ -178,17 +177,18 @@ def _worker_task(suite_path: str, store_path: str, storage_url: str) -> WorkOutc
 
 
 def work_in_processes(
-    suite_path: str, store_path: str | Path, storage_url: str, jobs: int
+    suite_path: str, store_path: str | Path, storage_url: str, jobs: int, threads: int = 1
 ) -> WorkOutcome:
-    """`jobs` local worker processes on one storage; the outcome all of them agree on."""
+    """`jobs` local worker processes of `threads` torch threads each, on one storage; the
+    outcome all of them agree on."""
     suite = load_suite(suite_path)
     tuning = suite.tuning
     open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)  # fail early
     if jobs == 1:
-        torch.set_num_threads(threads_per_worker(1))
+        torch.set_num_threads(threads)
         return work(suite, store_path, storage_url)
     context = multiprocessing.get_context("spawn")
-    pool = context.Pool(jobs, initializer=_worker_setup, initargs=(threads_per_worker(jobs),))
+    pool = context.Pool(jobs, initializer=_worker_setup, initargs=(threads,))
     try:
         pending = [
             pool.apply_async(_worker_task, (suite_path, str(store_path), storage_url))

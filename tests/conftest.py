@@ -1,8 +1,7 @@
 """Shared fixtures: suite files written into a temporary folder, and a tiny fast suite.
 
-Tests run torch on one thread: their graphs are tiny, so a second thread buys nothing and
-only competes with the other test processes for the cores. Subprocess tests are not affected
-and see the machine's real cores.
+Tests run torch on one thread, as the command does by default: their graphs are tiny, so a
+second thread buys nothing and only competes with the other test processes for the cores.
 
 The tiny suite is set in an invented scenario: a fictional courier network whose depots are
 nodes, shared routes are edges, and each depot is tagged with the parcel mix it mostly handles.
@@ -61,14 +60,6 @@ hidden = 8
 """
 
 
-@pytest.fixture(autouse=True)
-def one_torch_thread(monkeypatch: pytest.MonkeyPatch) -> None:
-    """In-process runs (`execute` with one job) would set torch to one thread per core."""
-    import harness.pool
-
-    monkeypatch.setattr(harness.pool, "available_cores", lambda: 1)
-
-
 @pytest.fixture(scope="session")
 def tiny_suite_text() -> str:
     """TOML of a valid suite: 3 contenders x 2 seeds on 120 nodes, 15 epochs per run."""
@@ -102,14 +93,11 @@ def store_path(tmp_path: Path) -> Path:
 @pytest.fixture(scope="session")
 def finished_store(tmp_path_factory: pytest.TempPathFactory) -> tuple[Path, Path]:
     """(suite path, store path) after `heedful run` of the tiny suite; copy before changing it."""
-    import harness.pool
     from harness.cli import main
 
     folder = tmp_path_factory.mktemp("finished")
     suite = folder / "tiny.toml"
     suite.write_text(TINY_SUITE, encoding="utf-8")
     store = folder / "runs.db"
-    with pytest.MonkeyPatch.context() as patch:  # session scope runs before one_torch_thread
-        patch.setattr(harness.pool, "available_cores", lambda: 1)
-        assert main(["run", str(suite), "--store", str(store), "--quiet"]) == 0
+    assert main(["run", str(suite), "--store", str(store), "--quiet"]) == 0
     return suite, store

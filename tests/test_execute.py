@@ -11,12 +11,15 @@ import time
 from pathlib import Path
 
 import pytest
+import torch
 
 import harness.execute
 import harness.pool
 from harness import store
 from harness.cli import main
-from harness.execute import execute, pending, threads_per_worker
+from harness.errors import InputError
+from harness.execute import execute, pending
+from harness.pool import check_threads
 from harness.suite import expand, load_suite
 from harness.train import perform
 
@@ -40,11 +43,46 @@ def stored_rows(path: Path) -> dict[str, tuple]:
     return {row[key]: row for row in rows}
 
 
-def test_threads_per_worker_keep_processes_times_threads_within_cores(monkeypatch):
+def test_more_threads_are_allowed_only_while_processes_times_threads_fit_the_cores(monkeypatch):
     monkeypatch.setattr(harness.pool, "available_cores", lambda: 8)
-    assert [threads_per_worker(jobs) for jobs in (1, 2, 3, 8, 16)] == [8, 4, 2, 1, 1]
-    for jobs in range(1, 9):
-        assert jobs * threads_per_worker(jobs) <= 8
+    for jobs, threads in [(1, 8), (2, 4), (3, 2), (8, 1), (16, 1)]:
+        check_threads(jobs, threads)  # one thread per process is always allowed
+    for jobs, threads in [(1, 9), (3, 3), (5, 2)]:
+        with pytest.raises(InputError, match=rf"{jobs} jobs x {threads} threads need"):
+            check_threads(jobs, threads)
+
+
+def test_too_many_threads_is_a_one_line_error_before_anything_runs(
+    tiny_suite, store_path, monkeypatch, capsys
+):
+    monkeypatch.setattr(harness.pool, "available_cores", lambda: 2)
+    status = main(
+        ["run", str(tiny_suite), "--store", str(store_path), "--jobs", "2", "--threads", "2"]
+    )
+    assert status == 2
+    message = capsys.readouterr().err.strip()
+    assert message == (
+        "heedful: error: --threads: 2 jobs x 2 threads need 4 cores, 2 are usable; "
+        "allowed: jobs x threads <= 2"
+    )
+    assert not store_path.exists()
+
+
+def test_each_process_trains_with_the_threads_asked_for(tiny_suite, store_path, monkeypatch):
+    seen = []
+    real_perform = harness.execute.perform
+    monkeypatch.setattr(harness.pool, "available_cores", lambda: 2)
+    monkeypatch.setattr(
+        harness.execute,
+        "perform",
+        lambda spec: seen.append(torch.get_num_threads()) or real_perform(spec),
+    )
+    specs = expand(load_suite(tiny_suite))[:1]
+    try:
+        execute(specs, store_path, jobs=1, threads=2)
+    finally:
+        torch.set_num_threads(1)
+    assert seen == [2]
 
 
 def test_execute_stores_each_run_once_and_skips_finished(tiny_suite, store_path):

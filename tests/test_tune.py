@@ -6,7 +6,6 @@ import math
 
 import optuna
 import pytest
-import torch
 
 import harness.train
 from harness import api, store
@@ -47,13 +46,6 @@ trials = {trials}
 heartbeat_seconds = 1
 {extra}
 """
-
-
-@pytest.fixture(autouse=True)
-def one_thread(monkeypatch):
-    """Tiny graphs: one thread is fastest, and the CPU is shared."""
-    monkeypatch.setattr("harness.workers.threads_per_worker", lambda jobs: 1)
-    torch.set_num_threads(1)
 
 
 def write_suite(tmp_path, name="tiny", trials=4, extra=""):
