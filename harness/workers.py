@@ -13,6 +13,7 @@ next worker that looks and is queued again with the same settings (Optuna retry 
 
 from __future__ import annotations
 
+import gc
 import logging
 import multiprocessing
 import signal
@@ -170,6 +171,7 @@ def work(suite: Suite, store_path: str | Path, storage_url: str) -> WorkOutcome:
 def _worker_setup(threads: int) -> None:
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent decides what Ctrl-C does
     torch.set_num_threads(threads)
+    gc.freeze()  # imports done: keep them out of later collections and the exit teardown
 
 
 def _worker_task(suite_path: str, store_path: str, storage_url: str) -> WorkOutcome:

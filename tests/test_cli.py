@@ -5,6 +5,9 @@ from __future__ import annotations
 import io
 import json
 import shutil
+import subprocess
+import sys
+from pathlib import Path
 
 import pandas as pd
 import pytest
@@ -137,3 +140,22 @@ def test_show_and_run_errors_are_one_line_with_exit_2(tiny_suite, tmp_path, caps
     assert stopped.value.code == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "--jobs: given 0; allowed: a whole number >= 1" in err
+
+
+def test_installed_command_prints_runs_and_fails_bad_input_with_exit_2(finished_store, tmp_path):
+    """The `heedful` console script, as a user runs it: output complete, exit statuses kept."""
+    command = Path(sys.executable).with_name("heedful")
+    suite, store_file = finished_store
+    shown = subprocess.run(
+        [command, "show", str(suite), "--store", str(store_file), "--format", "json"],
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
+    assert shown.returncode == 0, shown.stderr
+    assert len(json.loads(shown.stdout)) == 6
+    missing = tmp_path / "missing.toml"
+    failed = subprocess.run([command, "check", str(missing)], capture_output=True, text=True)
+    assert failed.returncode == 2
+    assert failed.stderr.count("\n") == 1 and str(missing) in failed.stderr
+    assert "Traceback" not in failed.stderr
