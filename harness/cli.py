@@ -65,11 +65,13 @@ def command_run(args: argparse.Namespace) -> int:
     suite = load_suite(args.suite)
     if suite.tuning is not None:
         return command_run_tuned(args, suite)
-    from harness.pool import check_threads, start_workers
+    from harness.pool import check_threads, start_method, start_workers
 
     check_threads(args.jobs, args.threads)
-    # workers start before the heavy imports below, so that theirs overlap this process's
-    workers = start_workers(args.jobs - 1, args.threads) if args.jobs > 1 else None
+    # spawned workers start before the heavy imports below, so that theirs overlap this
+    # process's; forked ones start later, when needed, and inherit them
+    early = args.jobs > 1 and start_method(args.threads) == "spawn"
+    workers = start_workers(args.jobs - 1, args.threads) if early else None
     try:
         return run_untuned(args, suite, workers)
     except BaseException:

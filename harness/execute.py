@@ -90,7 +90,7 @@ def _share_with_workers(
     pool: multiprocessing.pool.Pool,
     threads: int,
 ) -> tuple[int, bool]:
-    """This process trains too, beside jobs - 1 spawned workers, all taking runs from one queue.
+    """This process trains too, beside jobs - 1 workers, all taking runs from one queue.
 
     A spawned worker spends seconds importing torch and PyG before its first run; this process
     has them loaded already and trains meanwhile instead of waiting.
@@ -157,8 +157,8 @@ def execute(
     """Run every spec not yet stored, on `jobs` processes of `threads` torch threads each;
     Ctrl-C keeps what finished.
 
-    `workers`, if given, is a pool of jobs - 1 processes from `start_workers`, started early
-    by the caller with the same `threads`; execute owns it from here and shuts it down.
+    `workers`, if given, is a pool of jobs - 1 processes from `start_workers` with the same
+    `threads`, started early by the caller; execute owns it from here and shuts it down.
     """
     todo = pending(specs, store_path)
     finished = 0

@@ -1,5 +1,5 @@
-"""Local worker processes. Kept free of heavy imports so that the run command can start its
-workers first: their torch and PyG imports (seconds each) then overlap the parent's own."""
+"""Local worker processes, and how many torch threads each may use. Kept free of heavy imports
+so that the run command can start spawned workers before its own imports."""
 
 from __future__ import annotations
 
@@ -8,6 +8,7 @@ import multiprocessing
 import multiprocessing.pool
 import os
 import signal
+import sys
 import threading
 
 from harness.errors import InputError
@@ -27,6 +28,17 @@ def check_threads(jobs: int, threads: int) -> None:
         )
 
 
+def start_method(threads: int) -> str:
+    """'fork' for one-thread workers on Linux, else 'spawn'.
+
+    A forked worker inherits the loaded torch and PyG at once; a spawned one imports them again
+    (about 4 s, and about 1 s more for both when two processes import at the same time). GNU
+    OpenMP is not fork-safe once a parallel region has run, but a one-thread worker never
+    enters one; with more threads, workers are spawned.
+    """
+    return "fork" if threads == 1 and sys.platform.startswith("linux") else "spawn"
+
+
 def worker_setup(threads: int) -> None:
     """Runs once in each worker: Ctrl-C is the parent's, threads are capped, imports done now."""
     signal.signal(signal.SIGINT, signal.SIG_IGN)
@@ -36,15 +48,15 @@ def worker_setup(threads: int) -> None:
     import harness.execute  # noqa: F401  (loads PyG and the run code before the first run arrives)
 
     # the imported modules live as long as the worker: kept out of every later collection,
-    # which also spares the worker about a second of teardown when the pool closes
+    # which also spares a spawned worker about a second of teardown when the pool closes
     gc.freeze()
 
 
 def start_workers(count: int, threads: int) -> multiprocessing.pool.Pool:
-    """A spawned pool of `count` workers, `threads` torch threads each."""
-    context = multiprocessing.get_context("spawn")
-    # workers start with Ctrl-C ignored (kept across exec), so none prints a traceback while
-    # still importing; this process alone decides what Ctrl-C does
+    """A pool of `count` workers, `threads` torch threads each (see start_method)."""
+    context = multiprocessing.get_context(start_method(threads))
+    # workers start with Ctrl-C ignored (inherited, and kept across exec), so none prints a
+    # traceback while still starting; this process alone decides what Ctrl-C does
     main_thread = threading.current_thread() is threading.main_thread()
     default = signal.signal(signal.SIGINT, signal.SIG_IGN) if main_thread else None
     try:

@@ -10,6 +10,7 @@ import sys
 import time
 from pathlib import Path
 
+import pandas as pd
 import pytest
 import torch
 
@@ -41,6 +42,13 @@ def stored_rows(path: Path) -> dict[str, tuple]:
         connection.close()
     key = names.index("key")
     return {row[key]: row for row in rows}
+
+
+def test_one_thread_workers_are_forked_on_linux_and_others_spawned(monkeypatch):
+    monkeypatch.setattr(sys, "platform", "linux")
+    assert [harness.pool.start_method(t) for t in (1, 2)] == ["fork", "spawn"]
+    monkeypatch.setattr(sys, "platform", "darwin")
+    assert harness.pool.start_method(1) == "spawn"
 
 
 def test_more_threads_are_allowed_only_while_processes_times_threads_fit_the_cores(monkeypatch):
@@ -97,6 +105,27 @@ def test_execute_stores_each_run_once_and_skips_finished(tiny_suite, store_path)
     runs = store.load_runs(store_path)
     assert sorted(runs["key"]) == sorted(s.key for s in specs)
     assert execute(specs, store_path, jobs=2).finished == 0  # nothing left: no worker starts
+
+
+@pytest.mark.parametrize("threads", [1, 2])
+def test_two_jobs_store_every_run_once_with_the_figures_of_one_job(
+    tiny_suite, tmp_path, monkeypatch, threads
+):
+    """--jobs 2 forks its worker with one thread per process and spawns it with two; either
+    way every run is stored once, with the figures one process with as many threads gives."""
+    monkeypatch.setattr(harness.pool, "available_cores", lambda: 4)
+    specs = expand(load_suite(tiny_suite))
+    try:
+        outcome = execute(specs, tmp_path / "two.db", jobs=2, threads=threads)
+        execute(specs, tmp_path / "one.db", jobs=1, threads=threads)
+    finally:
+        torch.set_num_threads(1)
+    assert (outcome.finished, outcome.interrupted) == (len(specs), False)
+    columns = ["val_metric", "test_metric", "epochs", "best_epoch", "curve"]
+    two = store.load_runs(tmp_path / "two.db").set_index("key").sort_index()[columns]
+    one = store.load_runs(tmp_path / "one.db").set_index("key").sort_index()[columns]
+    assert len(two) == len(specs)
+    pd.testing.assert_frame_equal(two, one)
 
 
 KILL_SUITE_CHANGES = {"seeds = 2": "seeds = 6"}
@@ -162,12 +191,14 @@ def test_sigkill_then_rerun_loses_nothing_and_stores_nothing_twice(kill_suite, t
     assert stored_rows(store_file) == after
 
 
-def test_a_spawned_worker_gives_the_figures_of_this_process(tiny_suite):
-    """The worker path (spawned process, worker set-up, one torch thread) changes no figure."""
+@pytest.mark.parametrize("method", ["spawn", "fork"])
+def test_a_worker_gives_the_figures_of_this_process(tiny_suite, method):
+    """The worker path (spawned or forked process, worker set-up, one torch thread) changes no
+    figure."""
     import multiprocessing
 
     spec = next(s for s in expand(load_suite(tiny_suite)) if s.model == "gat")
-    context = multiprocessing.get_context("spawn")
+    context = multiprocessing.get_context(method)
     with context.Pool(1, initializer=harness.pool.worker_setup, initargs=(1,)) as pool:
         remote = pool.apply(perform, (spec,))
     local = perform(spec)
