@@ -65,18 +65,19 @@ def main() -> None:
         (f"--jobs 1 --threads {usable}", 1, usable),
     ]
     seconds: dict[str, list[float]] = {label: [] for label, _, _ in configurations}
+    stored: dict[str, int] = {}
     rerun: list[float] = []
     with tempfile.TemporaryDirectory(prefix="heedful-bench-") as folder:
         for round_ in range(args.repeats):
             for label, jobs, threads in configurations:
                 store = Path(folder) / f"{round_}-{jobs}-{threads}.db"
-                took, stored = timed_run(args.suite, store, jobs, threads)
+                took, stored[label] = timed_run(args.suite, store, jobs, threads)
                 seconds[label].append(took)
             rerun.append(timed_run(args.suite, store, 1)[0])
     print(f"{'command':<26}{'median s':>10}  {'each round (s)'}")
     for label, values in seconds.items():
         each = ", ".join(f"{value:.1f}" for value in values)
-        print(f"{label:<26}{statistics.median(values):>10.1f}  {each}  ({stored} runs)")
+        print(f"{label:<26}{statistics.median(values):>10.1f}  {each}  ({stored[label]} runs)")
     each = ", ".join(f"{value:.1f}" for value in rerun)
     print(f"{'rerun, all stored':<26}{statistics.median(rerun):>10.1f}  {each}")
     one, two = seconds["--jobs 1"], seconds["--jobs 2"]

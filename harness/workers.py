@@ -13,10 +13,8 @@ next worker that looks and is queued again with the same settings (Optuna retry 
 
 from __future__ import annotations
 
-import gc
 import logging
 import multiprocessing
-import signal
 import time
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -26,6 +24,7 @@ import optuna
 import torch
 from optuna.trial import FrozenTrial, Trial
 
+from harness.pool import worker_setup
 from harness.repeats import run_repeats, sync_repeats
 from harness.schema.suite import Suite
 from harness.schema.tuning import Tuning
@@ -168,12 +167,6 @@ def work(suite: Suite, store_path: str | Path, storage_url: str) -> WorkOutcome:
     return WorkOutcome({p.contender: p.study for p in plans}, repeats.study_name, keys)
 
 
-def _worker_setup(threads: int) -> None:
-    signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent decides what Ctrl-C does
-    torch.set_num_threads(threads)
-    gc.freeze()  # imports done: keep them out of later collections and the exit teardown
-
-
 def _worker_task(suite_path: str, store_path: str, storage_url: str) -> WorkOutcome:
     return work(load_suite(suite_path), store_path, storage_url)
 
@@ -190,7 +183,7 @@ def work_in_processes(
         torch.set_num_threads(threads)
         return work(suite, store_path, storage_url)
     context = multiprocessing.get_context("spawn")
-    pool = context.Pool(jobs, initializer=_worker_setup, initargs=(threads,))
+    pool = context.Pool(jobs, initializer=worker_setup, initargs=(threads,))
     try:
         pending = [
             pool.apply_async(_worker_task, (suite_path, str(store_path), storage_url))
