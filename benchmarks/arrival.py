@@ -25,11 +25,11 @@ from sklearn.neighbors import kneighbors_graph
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from harness.baseline import cpu_model  # noqa: E402
 from harness.data import load_graph  # noqa: E402
 from harness.data.assemble import assemble  # noqa: E402
 from harness.data.inductive import measure_arrival  # noqa: E402
 from harness.data.splits import make_split  # noqa: E402
+from harness.gate.baseline import cpu_model  # noqa: E402
 from harness.models import build_model  # noqa: E402
 from harness.schema.contenders import ContenderOptions  # noqa: E402
 from harness.schema.data import FractionSplit, SyntheticData  # noqa: E402

@@ -26,7 +26,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from harness.baseline import cpu_model  # noqa: E402
+from harness.gate.baseline import cpu_model  # noqa: E402
 
 
 def timed_run(suite: str, store: Path, jobs: int, threads: int = 1) -> tuple[float, int]:

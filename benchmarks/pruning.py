@@ -27,10 +27,10 @@ sys.path.insert(0, str(ROOT))
 import optuna  # noqa: E402
 import torch  # noqa: E402
 
-from harness.suite import parse_suite  # noqa: E402
-from harness.tuning_results import epochs_trained  # noqa: E402
-from harness.tuning_storage import open_storage  # noqa: E402
-from harness.workers import tuning_studies, usage, work, work_in_processes  # noqa: E402
+from harness.planning import parse_suite  # noqa: E402
+from harness.tuning.results import epochs_trained  # noqa: E402
+from harness.tuning.storage import open_storage  # noqa: E402
+from harness.tuning.workers import tuning_studies, usage, work, work_in_processes  # noqa: E402
 
 
 def toml_text(raw: dict) -> str:

@@ -27,13 +27,13 @@ import torch
 import torch_geometric
 from torch import nn
 
-from harness.baseline import cpu_model
 from harness.data import load_graph
 from harness.data.splits import make_split
+from harness.execution.pool import available_cores
+from harness.gate.baseline import cpu_model
 from harness.models import build_model
-from harness.pool import available_cores
-from harness.suite import load_suite
-from harness.train import fit
+from harness.planning import load_suite
+from harness.training.fit import fit
 
 ROOT = Path(__file__).resolve().parents[1]
 

@@ -12,169 +12,32 @@ Every function takes an optional `settings` (the suite's `[analysis]` table) and
 uses the defaults.
 """
 
-from __future__ import annotations
+from harness.analysis.suite_report import (
+    SuiteReport,
+    ablation,
+    analyse,
+    analyse_each,
+    analyse_store,
+    comparisons,
+    contenders,
+    cost,
+    graph_homophily,
+    runs,
+    settings_of,
+    stored_homophily_map,
+)
 
-from dataclasses import asdict, dataclass
-from pathlib import Path
-from typing import TYPE_CHECKING
-
-import pandas as pd
-
-from harness import store
-from harness.ablation_effects import AblationEffects, ablation_effects
-from harness.cost import cost_tradeoff
-from harness.errors import InputError
-from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
-from harness.schema.suite import Suite
-from harness.stats import describe, paired_comparisons, with_variants
-from harness.verdict import headline, judge_all
-
-if TYPE_CHECKING:
-    from harness.homophily_map import HomophilyMapSummary
-
-
-@dataclass(frozen=True)
-class SuiteReport:
-    """Every analysis of one suite; what the report writers render."""
-
-    suite: str
-    metric: str
-    settings: Analysis
-    runs: pd.DataFrame
-    contenders: pd.DataFrame
-    comparisons: pd.DataFrame
-    headline: str
-    ablation: AblationEffects
-    cost: pd.DataFrame
-    attention: pd.DataFrame  # harness.axes.attention_by_variant; empty without diagnostics
-    homophily: pd.DataFrame  # graph homophily of the stored dataset profile; may be empty
-    homophily_map: HomophilyMapSummary | None = None  # stored homophily-map runs, if any
-
-
-def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFrame:
-    """Stored runs of a suite (a suite file's current runs, or a stored suite name), or all.
-
-    For a suite file only runs whose key the file still expands to are kept, so runs of an
-    edited suite's old settings do not mix in.
-    """
-    if suite is not None and Path(suite).is_file():
-        from harness.suite import expand, load_suite
-
-        loaded = load_suite(suite)
-        frame = store.load_runs(store_path, [loaded.name])
-        if loaded.tuning is not None:  # the seeded repeats of the tuned settings
-            from harness.tune import current_tuned_runs
-
-            return current_tuned_runs(frame, loaded).reset_index(drop=True)
-        return frame[frame["key"].isin({spec.key for spec in expand(loaded)})].reset_index(
-            drop=True
-        )
-    return store.load_runs(store_path, None if suite is None else [str(suite)])
-
-
-def settings_of(suite: str | Path | None) -> Analysis:
-    """The `[analysis]` table of a suite file; defaults for a stored suite name."""
-    if suite is not None and Path(suite).is_file():
-        from harness.suite import load_suite
-
-        return load_suite(suite).analysis
-    return DEFAULT_ANALYSIS
-
-
-def contenders(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:
-    """Per suite and variant: test metric over seeds with t and bootstrap intervals, costs."""
-    return describe(runs, settings)
-
-
-def comparisons(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:
-    """Paired comparisons (attention minus baseline, metric points) with verdicts."""
-    return judge_all(paired_comparisons(runs, settings), settings)
-
-
-def ablation(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> AblationEffects:
-    """Level means, axis effects (ranked) and interactions of the varied axes."""
-    return ablation_effects(runs, settings.confidence)
-
-
-def cost(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:
-    """Metric against seconds per epoch, parameters and peak memory, with Pareto marks."""
-    return cost_tradeoff(describe(runs, settings))
-
-
-def graph_homophily(store_path: str | Path, suite: str) -> pd.DataFrame:
-    """Homophily measures of the suite's latest stored dataset profile (measure, value)."""
-    from harness.profile_store import load_profiles
-
-    profiles = load_profiles(store_path, suite)
-    if not profiles:
-        return pd.DataFrame(columns=["measure", "value"])
-    measures = asdict(profiles[-1].homophily)
-    return pd.DataFrame({"measure": list(measures), "value": list(measures.values())})
-
-
-def stored_homophily_map(store_path: str | Path, suite: Suite) -> HomophilyMapSummary | None:
-    """The suite's homophily map (harness.homophily_map) from stored runs and profile, if run."""
-    from harness.homophily_map import map_suite_name, summarise_map
-    from harness.profile_store import load_profiles
-
-    profiles = load_profiles(store_path, suite.name)
-    mapped = store.load_runs(store_path, [map_suite_name(suite)])
-    if mapped.empty or not profiles:
-        return None
-    latest = with_variants(mapped)  # a map rerun with other settings counts once per seed
-    return summarise_map(latest, profiles[-1], suite.metric)
-
-
-def analyse(
-    runs: pd.DataFrame,
-    settings: Analysis = DEFAULT_ANALYSIS,
-    homophily: pd.DataFrame | None = None,
-    homophily_map: HomophilyMapSummary | None = None,
-) -> SuiteReport:
-    """Every analysis of the runs of one suite; the graph's homophily measures and homophily
-    map come from the store (graph_homophily, stored_homophily_map) when known."""
-    from harness.axes import attention_by_variant
-
-    names = runs["suite"].unique()
-    if len(names) != 1:
-        raise InputError(
-            f"analysis: given runs of {len(names)} suites; allowed: the runs of exactly one suite"
-        )
-    table = describe(runs, settings)
-    judged = judge_all(paired_comparisons(runs, settings), settings)
-    return SuiteReport(
-        suite=str(names[0]),
-        metric=str(runs["metric"].iloc[0]),
-        settings=settings,
-        runs=with_variants(runs),
-        contenders=table,
-        comparisons=judged,
-        headline=headline(table, judged, settings),
-        ablation=ablation_effects(runs, settings.confidence),
-        cost=cost_tradeoff(table),
-        attention=attention_by_variant(runs),
-        homophily=homophily if homophily is not None else pd.DataFrame(columns=["measure"]),
-        homophily_map=homophily_map,
-    )
-
-
-def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
-    """Load a suite's stored runs and analyse them with the suite's settings.
-
-    Given a suite file, its homophily map is included when its runs are stored.
-    """
-    loaded = runs(store_path, suite)
-    if loaded.empty:
-        raise InputError(f"{store_path}: no stored runs for suite '{suite}'; run it first")
-    name = str(loaded["suite"].iloc[0])
-    mapped = None
-    if Path(suite).is_file():
-        from harness.suite import load_suite
-
-        mapped = stored_homophily_map(store_path, load_suite(suite))
-    return analyse(loaded, settings_of(suite), graph_homophily(store_path, name), mapped)
-
-
-def analyse_each(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> list[SuiteReport]:
-    """One SuiteReport per suite among the runs, in stored order."""
-    return [analyse(runs[runs["suite"] == name], settings) for name in runs["suite"].unique()]
+__all__ = [
+    "SuiteReport",
+    "runs",
+    "settings_of",
+    "contenders",
+    "comparisons",
+    "ablation",
+    "cost",
+    "graph_homophily",
+    "stored_homophily_map",
+    "analyse",
+    "analyse_store",
+    "analyse_each",
+]

@@ -22,15 +22,15 @@ def _suite_names(store_path: Path, suite_argument: str | None) -> list[str] | No
     if suite_argument is None:
         return None
     if Path(suite_argument).is_file():
-        from harness.suite import load_suite
+        from harness.planning import load_suite
 
         return [load_suite(suite_argument).name]
     return [suite_argument]
 
 
 def command_check(args: argparse.Namespace) -> int:
-    from harness.preflight import preflight
-    from harness.suite import expand, load_suite
+    from harness.execution.preflight import preflight
+    from harness.planning import expand, load_suite
 
     suite = load_suite(args.suite)
     specs = expand(suite)
@@ -52,7 +52,7 @@ def command_check(args: argparse.Namespace) -> int:
         console.print(f"  {contender}: {count} runs{points}")
     console.print(f"{len(specs)} runs in total")
     if suite.tuning is not None:
-        from harness.tune import tuning_outline
+        from harness.tuning.study import tuning_outline
 
         for line in tuning_outline(suite):
             console.print(line, markup=False)
@@ -60,12 +60,12 @@ def command_check(args: argparse.Namespace) -> int:
 
 
 def command_run(args: argparse.Namespace) -> int:
-    from harness.suite import load_suite
+    from harness.planning import load_suite
 
     suite = load_suite(args.suite)
     if suite.tuning is not None:
         return command_run_tuned(args, suite)
-    from harness.pool import check_threads, start_method, start_workers
+    from harness.execution.pool import check_threads, start_method, start_workers
 
     check_threads(args.jobs, args.threads)
     # spawned workers start before the heavy imports below, so that theirs overlap this
@@ -81,9 +81,9 @@ def command_run(args: argparse.Namespace) -> int:
 
 
 def command_run_tuned(args: argparse.Namespace, suite) -> int:
-    from harness.pool import check_threads
-    from harness.preflight import preflight
-    from harness.profile_store import record_profile
+    from harness.execution.pool import check_threads
+    from harness.execution.preflight import preflight
+    from harness.storage.profiles import record_profile
 
     check_threads(args.jobs, args.threads)
     url = checked_storage(args, suite)  # a bad storage fails before anything is written
@@ -93,15 +93,15 @@ def command_run_tuned(args: argparse.Namespace, suite) -> int:
 
 
 def run_untuned(args: argparse.Namespace, suite, workers) -> int:
-    from harness import store
-    from harness.api import analyse
-    from harness.axes import ablation_view, label_points
-    from harness.execute import execute, pending
-    from harness.preflight import preflight
-    from harness.profile_store import record_profile
+    from harness.analysis.axes import ablation_view, label_points
+    from harness.analysis.stats import summarise
+    from harness.analysis.suite_report import analyse
+    from harness.execution.local import execute, pending
+    from harness.execution.preflight import preflight
+    from harness.planning import expand
     from harness.report.terminal import print_ablation, print_summary, print_verdicts
-    from harness.stats import summarise
-    from harness.suite import expand
+    from harness.storage import store
+    from harness.storage.profiles import record_profile
 
     specs = expand(suite)
     preflight(suite, args.suite)
@@ -139,10 +139,10 @@ def run_untuned(args: argparse.Namespace, suite, workers) -> int:
 
 def run_homophily_map(args: argparse.Namespace, suite, profile) -> int:
     """The suite's contenders on synthetic graphs matched to its data, across edge homophily."""
-    from harness import store
-    from harness.execute import execute
-    from harness.homophily_map import map_specs, map_suite_name, summarise_map
+    from harness.analysis.homophily_map import map_specs, map_suite_name, summarise_map
+    from harness.execution.local import execute
     from harness.report.homophily_map import print_homophily_map
+    from harness.storage import store
 
     specs = map_specs(suite, profile)
     if not args.quiet:
@@ -159,7 +159,7 @@ def run_homophily_map(args: argparse.Namespace, suite, profile) -> int:
 
 def checked_storage(args: argparse.Namespace, suite) -> str:
     """The tuning storage URL (default: beside the result store), opened once to check it."""
-    from harness.tuning_storage import default_storage_url, open_storage
+    from harness.tuning.storage import default_storage_url, open_storage
 
     url = args.storage or default_storage_url(args.store)
     open_storage(url, suite.tuning.heartbeat_seconds, suite.tuning.grace_seconds)
@@ -168,11 +168,11 @@ def checked_storage(args: argparse.Namespace, suite) -> str:
 
 def run_tuned(args: argparse.Namespace, suite, url: str) -> int:
     """Tune every contender with one budget, then run the seeded repeats (shared storage)."""
-    from harness import store
-    from harness.api import analyse
+    from harness.analysis.stats import summarise
+    from harness.analysis.suite_report import analyse
     from harness.report.terminal import print_summary, print_verdicts
-    from harness.stats import summarise
-    from harness.workers import work_in_processes
+    from harness.storage import store
+    from harness.tuning.workers import work_in_processes
 
     if not args.quiet:
         console.print(f"{suite.name}: tuning with {args.jobs} worker(s) on storage {url}")
@@ -188,14 +188,14 @@ def run_tuned(args: argparse.Namespace, suite, url: str) -> int:
 
 def print_tuning_of(suite, storage_url: str) -> None:
     from harness.report.tuning import print_tuning
-    from harness.tuning_results import (
+    from harness.tuning.results import (
         curve_frame,
         parameter_frame,
         settings_frame,
         summary_frame,
         tuning_summary,
     )
-    from harness.tuning_storage import open_storage
+    from harness.tuning.storage import open_storage
 
     tuning = suite.tuning
     storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)
@@ -210,8 +210,8 @@ def print_tuning_of(suite, storage_url: str) -> None:
 
 
 def command_tuning(args: argparse.Namespace) -> int:
-    from harness.suite import load_suite
-    from harness.tuning_storage import default_storage_url
+    from harness.planning import load_suite
+    from harness.tuning.storage import default_storage_url
 
     suite = load_suite(args.suite)
     if suite.tuning is None:
@@ -221,9 +221,9 @@ def command_tuning(args: argparse.Namespace) -> int:
 
 
 def command_profile(args: argparse.Namespace) -> int:
-    from harness.profile_store import suite_profile
+    from harness.planning import load_suite
     from harness.report.profile import print_profile, profile_json
-    from harness.suite import load_suite
+    from harness.storage.profiles import suite_profile
 
     profile, notes = suite_profile(load_suite(args.suite), args.suite)
     if args.format == "json":
@@ -234,12 +234,12 @@ def command_profile(args: argparse.Namespace) -> int:
 
 
 def command_show(args: argparse.Namespace) -> int:
-    from harness import store
-    from harness.api import analyse_each, settings_of
-    from harness.axes import ablation_view, label_points
+    from harness.analysis.axes import ablation_view, label_points
+    from harness.analysis.stats import summarise
+    from harness.analysis.suite_report import analyse_each, settings_of
     from harness.report import records
     from harness.report.terminal import print_ablation, print_summary, print_verdicts
-    from harness.stats import summarise
+    from harness.storage import store
 
     runs = store.load_runs(args.store, _suite_names(args.store, args.suite))
     if runs.empty:
@@ -259,8 +259,8 @@ def command_show(args: argparse.Namespace) -> int:
 
 def _run_for_gate(args: argparse.Namespace, suite, specs) -> bool:
     """Run (or reuse) a suite's runs for `baseline` and `gate`; False when interrupted."""
-    from harness.execute import execute, pending
-    from harness.pool import check_threads
+    from harness.execution.local import execute, pending
+    from harness.execution.pool import check_threads
 
     check_threads(args.jobs, args.threads)
     todo = len(pending(specs, args.store))
@@ -276,15 +276,15 @@ def _run_for_gate(args: argparse.Namespace, suite, specs) -> bool:
 
 
 def command_baseline(args: argparse.Namespace) -> int:
-    from harness.baseline import (
+    from harness.execution.preflight import preflight
+    from harness.gate.baseline import (
         build_baseline,
         check_gateable,
         environment_fingerprint,
         suite_runs,
         write_baseline,
     )
-    from harness.preflight import preflight
-    from harness.suite import expand, load_suite
+    from harness.planning import expand, load_suite
 
     suite = load_suite(args.suite)
     check_gateable(suite, args.suite)
@@ -302,8 +302,9 @@ def command_baseline(args: argparse.Namespace) -> int:
 def command_gate(args: argparse.Namespace) -> int:
     import time
 
-    from harness import history
-    from harness.baseline import (
+    from harness.execution.preflight import preflight
+    from harness.gate import history
+    from harness.gate.baseline import (
         check_gateable,
         check_matches,
         contender_labels,
@@ -312,12 +313,11 @@ def command_gate(args: argparse.Namespace) -> int:
         read_baseline,
         suite_runs,
     )
-    from harness.gate import evaluate
-    from harness.preflight import preflight
+    from harness.gate.compare import evaluate
+    from harness.planning import expand, load_suite
     from harness.report.gate_markdown import gate_markdown
     from harness.report.gate_terminal import print_gate
     from harness.report.junit import write_junit
-    from harness.suite import expand, load_suite
 
     suite = load_suite(args.suite)
     check_gateable(suite, args.suite)
@@ -343,7 +343,7 @@ def command_gate(args: argparse.Namespace) -> int:
 
 
 def command_history(args: argparse.Namespace) -> int:
-    from harness.history import load_history
+    from harness.gate.history import load_history
     from harness.report.gate_terminal import history_table
 
     names = _suite_names(args.store, args.suite)
@@ -357,8 +357,8 @@ def command_history(args: argparse.Namespace) -> int:
 
 
 def command_report(args: argparse.Namespace) -> int:
-    from harness.api import analyse_store
-    from harness.history import stored_history
+    from harness.analysis.suite_report import analyse_store
+    from harness.gate.history import stored_history
     from harness.report.files import write_report
     from harness.report.terminal import print_report
     from harness.report.trend import trend_png
@@ -396,7 +396,7 @@ def output_file(text: str) -> Path:
 
 
 def parser() -> argparse.ArgumentParser:
-    from harness.store import DEFAULT_STORE
+    from harness.storage.store import DEFAULT_STORE
 
     top = OneLineParser(
         prog="heedful", description="Benchmark graph attention against simpler baselines."

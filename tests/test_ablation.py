@@ -6,7 +6,7 @@ import pytest
 
 from harness.cli import main
 from harness.errors import InputError
-from harness.suite import expand, load_suite
+from harness.planning import expand, load_suite
 
 GRID = """
 [ablation.attention]

@@ -7,7 +7,7 @@ import itertools
 import pandas as pd
 import pytest
 
-from harness.ablation_effects import ablation_effects, level_order
+from harness.analysis.ablation_effects import ablation_effects, level_order
 
 HEADS = {1: 0.00, 4: 0.02, 8: 0.03}  # metric added by each level
 HOPS = {1: 0.00, 2: -0.05}

@@ -5,9 +5,9 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 
-from harness import store
-from harness.axes import attention_by_level, attention_by_variant, label_points
+from harness.analysis.axes import attention_by_level, attention_by_variant, label_points
 from harness.cli import main
+from harness.storage import store
 
 
 def run(point: dict, seed: int, entropy: float, same: float) -> dict:

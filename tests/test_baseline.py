@@ -7,10 +7,10 @@ from pathlib import Path
 
 import pytest
 
-from harness.baseline import environment_differences, read_baseline, suite_hash
 from harness.cli import main
 from harness.errors import InputError
-from harness.suite import parse_suite
+from harness.gate.baseline import environment_differences, read_baseline, suite_hash
+from harness.planning import parse_suite
 
 # A fictional farm co-operative: members are nodes, shared machinery bookings are edges.
 SUITE = """

@@ -9,8 +9,8 @@ import torch
 
 from harness.data import load_graph
 from harness.errors import InputError
+from harness.planning import parse_suite
 from harness.schema.data import DigitsData, KarateData
-from harness.suite import parse_suite
 
 
 def pyg_section(tmp_path: Path, **data: object):

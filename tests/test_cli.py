@@ -13,12 +13,12 @@ import pandas as pd
 import pytest
 from torch_geometric.utils import homophily
 
-from harness import store
+from harness.analysis.stats import summarise
 from harness.cli import main
 from harness.data import load_graph
+from harness.planning import load_suite
 from harness.report.terminal import summary_table
-from harness.stats import summarise
-from harness.suite import load_suite
+from harness.storage import store
 
 CONTENDERS = ("attention", "convolution", "features_only")
 JSON_FIELDS = {

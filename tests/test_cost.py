@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from harness.cost import cost_tradeoff, pareto_optimal
+from harness.analysis.cost import cost_tradeoff, pareto_optimal
 
 
 def test_pareto_front_by_hand():

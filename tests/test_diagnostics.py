@@ -9,12 +9,12 @@ import torch
 
 from harness.data.splits import make_split
 from harness.data.synthetic import contextual_sbm
-from harness.diagnostics import MEASURES, attention_diagnostics, head_measures
 from harness.models import build_model
 from harness.schema.contenders import AttentionOptions
 from harness.schema.data import FractionSplit, SyntheticData
 from harness.schema.training import Training
-from harness.train import fit
+from harness.training.diagnostics import MEASURES, attention_diagnostics, head_measures
+from harness.training.fit import fit
 
 
 def test_head_measures_by_hand() -> None:

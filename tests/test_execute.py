@@ -14,15 +14,15 @@ import pandas as pd
 import pytest
 import torch
 
-import harness.execute
-import harness.pool
-from harness import store
+import harness.execution.local
+import harness.execution.pool
 from harness.cli import main
 from harness.errors import InputError
-from harness.execute import execute, pending
-from harness.pool import check_threads
-from harness.suite import expand, load_suite
-from harness.train import perform
+from harness.execution.local import execute, pending
+from harness.execution.pool import check_threads
+from harness.planning import expand, load_suite
+from harness.storage import store
+from harness.training.fit import perform
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -46,13 +46,13 @@ def stored_rows(path: Path) -> dict[str, tuple]:
 
 def test_one_thread_workers_are_forked_on_linux_and_others_spawned(monkeypatch):
     monkeypatch.setattr(sys, "platform", "linux")
-    assert [harness.pool.start_method(t) for t in (1, 2)] == ["fork", "spawn"]
+    assert [harness.execution.pool.start_method(t) for t in (1, 2)] == ["fork", "spawn"]
     monkeypatch.setattr(sys, "platform", "darwin")
-    assert harness.pool.start_method(1) == "spawn"
+    assert harness.execution.pool.start_method(1) == "spawn"
 
 
 def test_more_threads_are_allowed_only_while_processes_times_threads_fit_the_cores(monkeypatch):
-    monkeypatch.setattr(harness.pool, "available_cores", lambda: 8)
+    monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 8)
     for jobs, threads in [(1, 8), (2, 4), (3, 2), (8, 1), (16, 1)]:
         check_threads(jobs, threads)  # one thread per process is always allowed
     for jobs, threads in [(1, 9), (3, 3), (5, 2)]:
@@ -63,7 +63,7 @@ def test_more_threads_are_allowed_only_while_processes_times_threads_fit_the_cor
 def test_too_many_threads_is_a_one_line_error_before_anything_runs(
     tiny_suite, store_path, monkeypatch, capsys
 ):
-    monkeypatch.setattr(harness.pool, "available_cores", lambda: 2)
+    monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 2)
     status = main(
         ["run", str(tiny_suite), "--store", str(store_path), "--jobs", "2", "--threads", "2"]
     )
@@ -78,10 +78,10 @@ def test_too_many_threads_is_a_one_line_error_before_anything_runs(
 
 def test_each_process_trains_with_the_threads_asked_for(tiny_suite, store_path, monkeypatch):
     seen = []
-    real_perform = harness.execute.perform
-    monkeypatch.setattr(harness.pool, "available_cores", lambda: 2)
+    real_perform = harness.execution.local.perform
+    monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 2)
     monkeypatch.setattr(
-        harness.execute,
+        harness.execution.local,
         "perform",
         lambda spec: seen.append(torch.get_num_threads()) or real_perform(spec),
     )
@@ -113,7 +113,7 @@ def test_two_jobs_store_every_run_once_with_the_figures_of_one_job(
 ):
     """--jobs 2 forks its worker with one thread per process and spawns it with two; either
     way every run is stored once, with the figures one process with as many threads gives."""
-    monkeypatch.setattr(harness.pool, "available_cores", lambda: 4)
+    monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 4)
     specs = expand(load_suite(tiny_suite))
     try:
         outcome = execute(specs, tmp_path / "two.db", jobs=2, threads=threads)
@@ -199,7 +199,7 @@ def test_a_worker_gives_the_figures_of_this_process(tiny_suite, method):
 
     spec = next(s for s in expand(load_suite(tiny_suite)) if s.model == "gat")
     context = multiprocessing.get_context(method)
-    with context.Pool(1, initializer=harness.pool.worker_setup, initargs=(1,)) as pool:
+    with context.Pool(1, initializer=harness.execution.pool.worker_setup, initargs=(1,)) as pool:
         remote = pool.apply(perform, (spec,))
     local = perform(spec)
     assert (remote.val_metric, remote.test_metric) == (local.val_metric, local.test_metric)

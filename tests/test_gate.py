@@ -11,7 +11,7 @@ from pathlib import Path
 import pytest
 from torch import nn
 
-import harness.train
+import harness.training.fit
 from harness.cli import main
 
 # A fictional courier network: depots are nodes, regular routes are edges, four depot kinds.
@@ -174,13 +174,13 @@ def test_slowed_contender_fails_time_check(saved, tmp_path, monkeypatch, capsys)
     the metrics unchanged, which the reproducibility check confirms.
     """
     store = tmp_path / "fresh.db"
-    build = harness.train.build_model
+    build = harness.training.fit.build_model
 
     def slowed_build(options, *args, **kwargs):
         model = build(options, *args, **kwargs)
         return Slowed(model, 0.01) if options.model == "mlp" else model
 
-    monkeypatch.setattr(harness.train, "build_model", slowed_build)
+    monkeypatch.setattr(harness.training.fit, "build_model", slowed_build)
     strict = write_suite(tmp_path, "suite.toml", time_action="fail")
     status, root, _ = gate({**saved, "store": store}, strict, tmp_path)
     out = capsys.readouterr().out
@@ -238,7 +238,7 @@ def test_reproducibility_change_and_other_environment_are_reported(saved, tmp_pa
 
 
 def test_gate_runs_are_kept_in_history(saved, tmp_path, capsys):
-    from harness.history import load_history
+    from harness.gate.history import load_history
 
     store = tmp_path / "copy.db"
     shutil.copy(saved["store"], store)

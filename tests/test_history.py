@@ -5,15 +5,15 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 
-from harness.baseline import build_baseline, contender_labels
 from harness.cli import main
-from harness.gate import evaluate
-from harness.history import append, load_history, stored_history
+from harness.gate.baseline import build_baseline, contender_labels
+from harness.gate.compare import evaluate
+from harness.gate.history import append, load_history, stored_history
+from harness.planning import expand, parse_suite
 from harness.report.gate_terminal import sparkline
 from harness.report.html import trend_section
 from harness.report.trend import save_trend, trend_figure, trend_png
 from harness.schema.gate import BaselineFile
-from harness.suite import expand, parse_suite
 
 # A fictional bicycle-share network: docks are nodes, frequent rides between docks are edges.
 RAW = {

@@ -6,7 +6,7 @@ import xml.etree.ElementTree as ElementTree
 
 import pytest
 
-from harness.gate import Check, GateOutcome
+from harness.gate.compare import Check, GateOutcome
 from harness.report.gate_markdown import gate_markdown
 from harness.report.junit import junit_tree, write_junit
 

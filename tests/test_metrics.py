@@ -7,7 +7,7 @@ import math
 import pytest
 import torch
 
-from harness.metrics import METRICS, fast_score, score
+from harness.training.metrics import METRICS, fast_score, score
 
 
 def test_perfect_and_wrong_predictions():

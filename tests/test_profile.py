@@ -13,8 +13,8 @@ from torch_geometric.utils import to_undirected
 from harness.cli import main
 from harness.data import load_graph
 from harness.data.profile import profile_graph
-from harness.profile_store import load_profiles
-from harness.suite import load_suite
+from harness.planning import load_suite
+from harness.storage.profiles import load_profiles
 
 KARATE_SUITE = """\
 name = "clubhouse"

@@ -10,16 +10,16 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from harness import store
 from harness.api import analyse, analyse_store
 from harness.cli import main
-from harness.execute import record_of
+from harness.execution.local import record_of
+from harness.planning import expand, load_suite
 from harness.report import html, latex, markdown
 from harness.report.files import WRITERS
 from harness.report.plots import figures, homophily_plot
 from harness.report.tables import frames
-from harness.suite import expand, load_suite
-from harness.train import RunResult
+from harness.storage import store
+from harness.training.fit import RunResult
 
 HOSTILE_SUITE = """\
 # Fictional parcel lockers of an invented courier network; names chosen to break renderers.
@@ -171,10 +171,10 @@ def test_analyse_refuses_runs_of_two_suites():
 
 def test_stored_homophily_map_is_drawn_and_tabled(tmp_path: Path):
     """Map runs (stored under the map's suite name) and the data profile enter the report."""
+    from harness.analysis.homophily_map import map_suite_name
     from harness.data import load_graph
     from harness.data.profile import profile_graph
-    from harness.homophily_map import map_suite_name
-    from harness.profile_store import save_profile
+    from harness.storage.profiles import save_profile
 
     suite_path, store_path = stored_suite(tmp_path)
     text = suite_path.read_text() + "\n[homophily_map]\nlevels = [0.2, 0.8]\nseeds = 2\n"

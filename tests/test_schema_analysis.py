@@ -6,7 +6,7 @@ import pytest
 
 from harness.cli import main
 from harness.errors import InputError
-from harness.suite import load_suite
+from harness.planning import load_suite
 
 
 def test_defaults_when_the_table_is_absent(tiny_suite):

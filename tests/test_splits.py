@@ -8,8 +8,8 @@ from torch_geometric.data import Data
 
 from harness.data.splits import make_split
 from harness.errors import InputError
+from harness.planning import parse_suite
 from harness.schema.data import ColumnSplit, FractionSplit, PerClassSplit
-from harness.suite import parse_suite
 
 
 def labelled_graph(per_class: list[int]) -> Data:

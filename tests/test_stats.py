@@ -7,8 +7,7 @@ import pandas as pd
 import pytest
 from scipy import stats as scipy_stats
 
-from harness.schema.analysis import Analysis
-from harness.stats import (
+from harness.analysis.stats import (
     attention_side,
     bootstrap_interval,
     describe,
@@ -17,6 +16,7 @@ from harness.stats import (
     summarise,
     with_variants,
 )
+from harness.schema.analysis import Analysis
 
 SETTINGS = Analysis(bootstrap_resamples=500)
 

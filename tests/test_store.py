@@ -7,8 +7,8 @@ import sqlite3
 
 import pytest
 
-from harness import store
 from harness.errors import InputError
+from harness.storage import store
 
 
 def record(key: str, seed: int = 0, contender: str = "convolution", **changes) -> dict:

@@ -11,7 +11,7 @@ import pytest
 
 from harness.cli import main
 from harness.errors import InputError
-from harness.suite import expand, load_suite, parse_suite, read_suite_file
+from harness.planning import expand, load_suite, parse_suite, read_suite_file
 
 # (id, text to replace in the tiny suite, replacement, fragments the message must contain)
 MALFORMED = [

@@ -15,7 +15,7 @@ import pytest
 from harness.cli import main
 from harness.data.tables import load_tables
 from harness.errors import InputError
-from harness.suite import parse_suite
+from harness.planning import parse_suite
 
 NODES = """\
 id,label,split,f_parcels,f_vans

@@ -10,13 +10,13 @@ from torch_geometric.nn import GCNConv
 
 from harness.data import load_graph
 from harness.data.splits import make_split
-from harness.metrics import score
 from harness.models import build_model
+from harness.planning import expand, load_suite
 from harness.schema.contenders import ConvolutionOptions, MLPOptions
 from harness.schema.data import FractionSplit, SyntheticData
 from harness.schema.training import Training
-from harness.suite import expand, load_suite
-from harness.train import MEBIBYTE, fit, perform
+from harness.training.fit import MEBIBYTE, fit, perform
+from harness.training.metrics import score
 
 
 @pytest.fixture(scope="module")

@@ -7,8 +7,8 @@ import copy
 import pytest
 
 from harness.errors import InputError
+from harness.planning import parse_suite
 from harness.schema.tuning import Range, default_space, spaces
-from harness.suite import parse_suite
 
 SOURCE = "suites/x.toml"
 BASE = {

@@ -9,9 +9,7 @@ import pandas as pd
 import pytest
 from scipy import stats as scipy_stats
 
-from harness.api import analyse, comparisons
-from harness.schema.analysis import Analysis
-from harness.verdict import (
+from harness.analysis.verdict import (
     BETTER,
     INCONCLUSIVE,
     NO_DIFFERENCE,
@@ -19,6 +17,8 @@ from harness.verdict import (
     judge_all,
     seeds_to_settle,
 )
+from harness.api import analyse, comparisons
+from harness.schema.analysis import Analysis
 
 SETTINGS = Analysis(minimum_gain=1.0, bootstrap_resamples=200)
 

@@ -20,11 +20,11 @@ import optuna
 import pytest
 from optuna.trial import TrialState
 
-from harness import store
-from harness.suite import load_suite
-from harness.tune import repeats_study_name, tuning_plan
-from harness.tuning_storage import open_storage, parse_url
-from harness.workers import usage
+from harness.planning import load_suite
+from harness.storage import store
+from harness.tuning.storage import open_storage, parse_url
+from harness.tuning.study import repeats_study_name, tuning_plan
+from harness.tuning.workers import usage
 
 TRIALS = 10
 SUITE = """
@@ -68,17 +68,19 @@ def start_worker(suite: Path, store_path: Path, url: str, core: int) -> subproce
     """One `heedful run` process pinned to one core (so it uses one torch thread)."""
     cores = sorted(os.sched_getaffinity(0))
     log = open(store_path.with_suffix(f".{core}.{time.monotonic_ns()}.log"), "w")  # noqa: SIM115
-    return subprocess.Popen(
+    worker = subprocess.Popen(
         [sys.executable, "-m", "harness.cli", "run", str(suite), "--quiet"]
         + ["--store", str(store_path), "--storage", url],
         stdout=log,
         stderr=subprocess.STDOUT,
         preexec_fn=lambda: os.sched_setaffinity(0, {cores[core % len(cores)]}),
     )
+    worker.log_path = Path(log.name)  # Popen keeps no file object when given one
+    return worker
 
 
 def finish(worker: subprocess.Popen, timeout: float = 240) -> None:
-    assert worker.wait(timeout) == 0, Path(worker.stdout.name).read_text()[-3000:]
+    assert worker.wait(timeout) == 0, worker.log_path.read_text()[-3000:]
 
 
 def check_complete(suite_path: Path, url: str, stores: list[Path]) -> list[optuna.Study]:

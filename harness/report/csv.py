@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from harness.api import SuiteReport
+from harness.analysis.suite_report import SuiteReport
 from harness.report.tables import frames
 
 

@@ -11,7 +11,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from pathlib import Path
 
-from harness.api import SuiteReport
+from harness.analysis.suite_report import SuiteReport
 from harness.errors import InputError
 from harness.report import csv, html, latex, markdown
 from harness.report.plots import figures

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from harness.gate import PASS, GateOutcome
+from harness.gate.compare import PASS, GateOutcome
 from harness.report.terminal import METRIC_LABELS
 
 MARKS = {"pass": "pass", "warn": "⚠️ warn", "fail": "❌ fail", "skip": "skipped"}

@@ -7,7 +7,7 @@ from rich import box
 from rich.console import Console
 from rich.table import Table
 
-from harness.gate import PASS, SKIP, GateOutcome
+from harness.gate.compare import PASS, SKIP, GateOutcome
 from harness.report.terminal import METRIC_LABELS, number
 
 STYLES = {"pass": "green", "warn": "yellow", "fail": "bold red", "skip": "dim"}

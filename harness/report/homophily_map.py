@@ -5,7 +5,7 @@ from __future__ import annotations
 from rich.console import Console
 from rich.table import Table
 
-from harness.homophily_map import HomophilyMapSummary
+from harness.analysis.homophily_map import HomophilyMapSummary
 
 
 def print_homophily_map(summary: HomophilyMapSummary, console: Console) -> None:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import base64
 from html import escape
 
-from harness.api import SuiteReport
+from harness.analysis.suite_report import SuiteReport
 from harness.report.plots import PLOT_TITLES
 from harness.report.tables import TextTable, all_tables, facts, reasons
 from harness.report.trend import TREND_TITLE

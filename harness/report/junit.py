@@ -11,7 +11,7 @@ import time
 import xml.etree.ElementTree as ElementTree
 from pathlib import Path
 
-from harness.gate import FAIL, SKIP, WARN, GateOutcome
+from harness.gate.compare import FAIL, SKIP, WARN, GateOutcome
 
 
 def junit_tree(outcome: GateOutcome) -> ElementTree.ElementTree:

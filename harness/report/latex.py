@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from harness.api import SuiteReport
+from harness.analysis.suite_report import SuiteReport
 from harness.report.tables import TextTable, all_tables
 
 _SPECIAL = {

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import re
 
-from harness.api import SuiteReport
+from harness.analysis.suite_report import SuiteReport
 from harness.report.plots import PLOT_TITLES
 from harness.report.tables import TextTable, all_tables, facts, reasons
 

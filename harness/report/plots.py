@@ -13,9 +13,9 @@ import matplotlib
 import numpy as np
 from matplotlib.figure import Figure
 
-from harness.api import SuiteReport
+from harness.analysis.suite_report import SuiteReport
+from harness.analysis.verdict import BETTER, INCONCLUSIVE, NO_DIFFERENCE, WORSE
 from harness.report.tables import metric_label
-from harness.verdict import BETTER, INCONCLUSIVE, NO_DIFFERENCE, WORSE
 
 SIDE_COLOURS = {"attention": "#c2571a", "baseline": "#2f6f9f"}
 VERDICT_COLOURS = {

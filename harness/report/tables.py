@@ -1,5 +1,6 @@
 """The report's tables as rows of text, shared by the Markdown, LaTeX, HTML and terminal
-renderers. Formatting only: every figure comes from a SuiteReport (harness.api)."""
+renderers. Formatting only: every figure comes from a SuiteReport
+(harness.analysis.suite_report)."""
 
 from __future__ import annotations
 
@@ -8,8 +9,8 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from harness.api import SuiteReport
-from harness.verdict import METRIC_LABELS, p_text, signed
+from harness.analysis.suite_report import SuiteReport
+from harness.analysis.verdict import METRIC_LABELS, p_text, signed
 
 
 @dataclass(frozen=True)
@@ -242,7 +243,7 @@ def attention_table(report: SuiteReport) -> TextTable | None:
     header = ["contender", "runs", "entropy / uniform", "self share (uniform)"]
     header.append("same label share (chance)")
     note = (
-        "Means over layers, heads and seeds (harness.diagnostics). Entropy 1 is uniform "
+        "Means over layers, heads and seeds (harness.training.diagnostics). Entropy 1 is uniform "
         "attention; in brackets what uniform attention over the same neighbours would give."
     )
     return _table("attention", "Attention diagnostics", header, rows, note)

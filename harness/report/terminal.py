@@ -10,8 +10,8 @@ from rich.console import Console
 from rich.markup import escape
 from rich.table import Table
 
-from harness.api import SuiteReport
-from harness.axes import AblationView
+from harness.analysis.axes import AblationView
+from harness.analysis.suite_report import SuiteReport
 from harness.report.tables import TextTable, all_tables, comparison_table, reasons
 
 METRIC_LABELS = {"accuracy": "accuracy", "macro_f1": "macro-F1", "roc_auc": "ROC-AUC"}

@@ -1,4 +1,4 @@
-"""Rich rendering of what tuning did; every figure comes from harness.tuning_results."""
+"""Rich rendering of what tuning did; every figure comes from harness.tuning.results."""
 
 from __future__ import annotations
 

@@ -21,9 +21,9 @@ import pytest
 import torch
 
 from harness.data.hops import build_hop_edges
-from harness.diagnostics import node_entropy
 from harness.models.attention import build
 from harness.schema.contenders import AttentionOptions
+from harness.training.diagnostics import node_entropy
 
 NODES, FEATURES, WIDTH, HEADS, SLOPE = 9, 5, 3, 4, 0.15
 

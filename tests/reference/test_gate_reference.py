@@ -19,7 +19,7 @@ import numpy as np
 import pytest
 from statsmodels.stats.weightstats import CompareMeans, DescrStatsW
 
-from harness.gate import Check, GateOutcome, compare_metric
+from harness.gate.compare import Check, GateOutcome, compare_metric
 from harness.report.junit import write_junit
 
 BEFORE = {0: 0.81, 1: 0.79, 2: 0.84, 3: 0.80, 4: 0.83}

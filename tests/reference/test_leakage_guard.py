@@ -34,7 +34,7 @@ from harness.schema.contenders import (
 )
 from harness.schema.data import FractionSplit
 from harness.schema.training import Training
-from harness.train import fit
+from harness.training.fit import fit
 
 DISTANCE = 1.5
 NODES = 600

@@ -12,7 +12,7 @@ import pytest
 import torch
 from sklearn.metrics import accuracy_score, f1_score, roc_auc_score
 
-from harness.metrics import fast_score, score
+from harness.training.metrics import fast_score, score
 
 
 def random_case(seed: int, nodes: int, classes: int, skew: float) -> tuple[torch.Tensor, ...]:

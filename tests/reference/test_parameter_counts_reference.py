@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from harness.schema.contenders import AttentionOptions, ConvolutionOptions, MLPOptions
-from harness.sizing import parameter_count
+from harness.tuning.sizing import parameter_count
 
 
 def test_parameter_counts_follow_the_layer_formulas():

@@ -7,7 +7,7 @@
   -0.7001142, mean difference -1.58 (values from memory of R's documented output; this test
   measures t = -4.0621, df = 9, p = 0.0028329 and -2.45989 to -0.70011, which agree).
 - scipy.stats.ttest_rel and scipy.stats.wilcoxon: the paired tests of
-  harness.stats.paired_comparisons must equal them on the same data.
+  harness.analysis.stats.paired_comparisons must equal them on the same data.
 - statsmodels.stats.multitest.multipletests(method="holm"): Holm (1979) step-down adjustment.
 - Cohen (1988), Statistical Power Analysis, d_z = mean(d) / sd(d) for paired data.
 """
@@ -20,8 +20,8 @@ import pytest
 from scipy import stats as scipy_stats
 from statsmodels.stats.multitest import multipletests
 
+from harness.analysis.stats import holm, paired_comparisons, paired_test
 from harness.schema.analysis import Analysis
-from harness.stats import holm, paired_comparisons, paired_test
 
 DRUG_1 = [0.7, -1.6, -0.2, -1.2, -0.1, 3.4, 3.7, 0.8, 0.0, 2.0]
 DRUG_2 = [1.9, 0.8, 1.1, 0.1, -0.1, 4.4, 5.5, 1.6, 4.6, 3.4]

@@ -45,7 +45,7 @@ def worker_setup(threads: int) -> None:
     import torch
 
     torch.set_num_threads(threads)
-    import harness.execute  # noqa: F401  (loads PyG and the run code before the first run arrives)
+    import harness.execution.local  # noqa: F401  (loads PyG and the run code before the first run arrives)
 
     # the imported modules live as long as the worker: kept out of every later collection,
     # which also spares a spawned worker about a second of teardown when the pool closes

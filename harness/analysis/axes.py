@@ -1,7 +1,8 @@
 """Attention diagnostics of stored runs, per ablation variant and per axis level.
 
-Reads the per-run diagnostics of `extras["attention"]["mean"]` (see harness.diagnostics) and
-averages them over runs. Per axis level, runs are pooled as in harness.ablation_effects: every
+Reads the per-run diagnostics of `extras["attention"]["mean"]` (see
+harness.training.diagnostics) and averages them over runs. Per axis level, runs are pooled as
+in harness.analysis.ablation_effects: every
 run on a full grid; otherwise (one axis at a time) the runs whose other axes hold their most
 common level, which is the base point's.
 """
@@ -13,9 +14,9 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from harness.ablation_effects import ablation_effects
-from harness.diagnostics import MEASURES
+from harness.analysis.ablation_effects import ablation_effects
 from harness.schema.ablation import point_label
+from harness.training.diagnostics import MEASURES
 
 
 def label_points(runs: pd.DataFrame) -> pd.DataFrame:
@@ -81,13 +82,13 @@ class AblationView:
     """What the terminal shows about ablations and attention, computed once."""
 
     metric: str
-    levels: pd.DataFrame  # harness.ablation_effects level rows
+    levels: pd.DataFrame  # harness.analysis.ablation_effects level rows
     attention_levels: pd.DataFrame  # attention_by_level
     attention_variants: pd.DataFrame  # attention_by_variant
 
 
 def ablation_view(runs: pd.DataFrame) -> AblationView:
-    """Per-axis effects (harness.ablation_effects) and attention diagnostics of stored runs."""
+    """Per-axis effects (analysis.ablation_effects) and attention diagnostics of stored runs."""
     metric = str(runs["metric"].iloc[0]) if not runs.empty else "accuracy"
     levels = ablation_effects(runs).levels if not runs.empty else pd.DataFrame()
     return AblationView(metric, levels, attention_by_level(runs), attention_by_variant(runs))

@@ -13,7 +13,7 @@ from pydantic import BaseModel
 from harness.data import load_graph
 from harness.data.assemble import cleaning_notes
 from harness.data.profile import DatasetProfile, profile_graph
-from harness.store import connect
+from harness.storage.store import connect
 
 SCHEMA = """
 CREATE TABLE IF NOT EXISTS profiles (

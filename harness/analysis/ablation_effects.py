@@ -25,7 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from harness.stats import POINTS, t_interval
+from harness.analysis.stats import POINTS, t_interval
 
 
 @dataclass(frozen=True)

@@ -16,14 +16,14 @@ from pathlib import Path
 import optuna
 from optuna.trial import FrozenTrial, Trial, TrialState
 
-from harness import store
-from harness.execute import record_of
+from harness.execution.local import record_of
+from harness.planning import expand
 from harness.schema.suite import Suite
-from harness.suite import expand
-from harness.train import perform
-from harness.trial_states import LIVE, POLL_SECONDS, SurplusTrial, trial_id, usage
-from harness.tune import with_settings
-from harness.tuning_storage import fail_stale_trials
+from harness.storage import store
+from harness.training.fit import perform
+from harness.tuning.storage import fail_stale_trials
+from harness.tuning.study import with_settings
+from harness.tuning.trial_states import LIVE, POLL_SECONDS, SurplusTrial, trial_id, usage
 
 
 def enqueue_missing(study: optuna.Study, wanted: list[tuple[str, int]]) -> None:

@@ -15,12 +15,12 @@ from harness.data import load_graph
 from harness.data.feature_starts import contender_graph
 from harness.data.inductive import measure_arrival, training_subgraph
 from harness.data.splits import Split, make_split
-from harness.diagnostics import attention_diagnostics
-from harness.metrics import METRICS, fast_score, score
 from harness.models import build_model
+from harness.planning import RunSpec
 from harness.schema.contenders import ATTENTION_KINDS
 from harness.schema.training import Training
-from harness.suite import RunSpec
+from harness.training.diagnostics import attention_diagnostics
+from harness.training.metrics import METRICS, fast_score, score
 
 MEBIBYTE = 2**20
 ADAM_STATES = 2  # first and second moment per parameter

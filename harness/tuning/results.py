@@ -15,9 +15,9 @@ from optuna.trial import TrialState
 
 from harness.errors import InputError
 from harness.schema.suite import Suite
-from harness.sizing import parameter_table, size_hidden, target_count
-from harness.trial_states import FINISHED, usage
-from harness.tune import best_settings, tuning_plan, with_settings
+from harness.tuning.sizing import parameter_table, size_hidden, target_count
+from harness.tuning.study import best_settings, tuning_plan, with_settings
+from harness.tuning.trial_states import FINISHED, usage
 
 
 @dataclass(frozen=True)

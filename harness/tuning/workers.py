@@ -24,13 +24,23 @@ import optuna
 import torch
 from optuna.trial import FrozenTrial, Trial
 
-from harness.pool import worker_setup
-from harness.repeats import run_repeats, sync_repeats
+from harness.execution.pool import worker_setup
+from harness.planning import load_suite
 from harness.schema.suite import Suite
 from harness.schema.tuning import Tuning
-from harness.sizing import sizer, target_count
-from harness.suite import load_suite
-from harness.trial_states import (
+from harness.tuning.repeats import run_repeats, sync_repeats
+from harness.tuning.sizing import sizer, target_count
+from harness.tuning.storage import fail_stale_trials, open_storage
+from harness.tuning.study import (
+    Plan,
+    best_settings,
+    make_pruner,
+    make_sampler,
+    objective_for,
+    repeats_study_name,
+    tuning_plan,
+)
+from harness.tuning.trial_states import (
     FINISHED,
     LIVE,
     POLL_SECONDS,
@@ -40,16 +50,6 @@ from harness.trial_states import (
     trial_seconds,
     usage,
 )
-from harness.tune import (
-    Plan,
-    best_settings,
-    make_pruner,
-    make_sampler,
-    objective_for,
-    repeats_study_name,
-    tuning_plan,
-)
-from harness.tuning_storage import fail_stale_trials, open_storage
 
 
 def budget_spent(used: Usage, tuning: Tuning) -> bool:

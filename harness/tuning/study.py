@@ -24,6 +24,7 @@ import pandas as pd
 from optuna.samplers import BaseSampler, TPESampler
 from optuna.trial import FrozenTrial, Trial
 
+from harness.planning import RunSpec, expand
 from harness.schema.suite import Suite
 from harness.schema.training import Training
 from harness.schema.tuning import (
@@ -34,8 +35,7 @@ from harness.schema.tuning import (
     is_integer_option,
     spaces,
 )
-from harness.suite import RunSpec, expand
-from harness.train import perform
+from harness.training.fit import perform
 
 Settings = dict[str, Any]
 WORKER = f"{socket.gethostname()}:{os.getpid()}"  # which process ran a trial, for diagnosis

@@ -21,12 +21,12 @@ import pandas as pd
 from pydantic import ValidationError
 
 import harness
-from harness import store
 from harness.errors import InputError
+from harness.planning import RunSpec
 from harness.schema.base import format_validation_error
 from harness.schema.gate import BASELINE_FORMAT, BASELINE_FORMAT_VERSION, BaselineFile
 from harness.schema.suite import Suite
-from harness.suite import RunSpec
+from harness.storage import store
 
 RUN_FIELDS = (
     "test_metric",

@@ -16,7 +16,7 @@ from harness.data import load_graph
 from harness.data.feature_starts import start_features
 from harness.errors import InputError
 from harness.models import build_model
-from harness.suite import RunSpec
+from harness.planning import RunSpec
 
 TOLERANCE = 0.10
 WIDEST = 4096

@@ -14,10 +14,10 @@ from typing import Any
 
 import torch
 
-from harness import store
-from harness.pool import start_workers
-from harness.suite import RunSpec
-from harness.train import RunResult, perform
+from harness.execution.pool import start_workers
+from harness.planning import RunSpec
+from harness.storage import store
+from harness.training.fit import RunResult, perform
 
 
 @dataclass(frozen=True)

@@ -13,8 +13,8 @@ from pathlib import Path
 
 import pandas as pd
 
-from harness import store
-from harness.gate import GateOutcome
+from harness.gate.compare import GateOutcome
+from harness.storage import store
 
 SCHEMA = """
 CREATE TABLE IF NOT EXISTS gate_history (

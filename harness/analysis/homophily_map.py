@@ -13,11 +13,11 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from harness.analysis.stats import t_interval
 from harness.data.profile import DatasetProfile
+from harness.planning import RunSpec
 from harness.schema.data import FractionSplit, SyntheticData
 from harness.schema.suite import Suite
-from harness.stats import t_interval
-from harness.suite import RunSpec
 
 
 def map_suite_name(suite: Suite) -> str:

@@ -1,0 +1,1 @@
+"""Takes stored runs; gives statistics, verdicts, effects, costs and summaries as values."""

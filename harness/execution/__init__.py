@@ -1,0 +1,1 @@
+"""Takes run specs; gives finished runs, trained on local processes and stored as each ends."""

@@ -1,0 +1,1 @@
+"""Takes a suite's current runs and a baseline; gives baseline files, outcomes and history."""
