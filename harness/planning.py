@@ -19,7 +19,7 @@ from harness.schema.ablation import (
     hop_cache_directory,
     point_label,
 )
-from harness.schema.base import format_validation_error
+from harness.schema.base import format_validation_error, key_dump
 from harness.schema.suite import Suite
 from harness.schema.training import Training
 from harness.schema.tuning import check_tuning
@@ -54,10 +54,10 @@ class RunSpec:
     def key(self) -> str:
         """Hash of what determines the result; the suite and contender names are labels only."""
         determining = {
-            "data": self.data.model_dump(mode="json"),
-            "split": self.split.model_dump(mode="json"),
-            "options": self.options.model_dump(mode="json", exclude={"training"}),
-            "training": self.training.model_dump(mode="json"),
+            "data": key_dump(self.data),
+            "split": key_dump(self.split),
+            "options": key_dump(self.options, exclude={"training"}),
+            "training": key_dump(self.training),
             "metric": self.metric,
             "setting": self.setting,
             "seed": self.seed,

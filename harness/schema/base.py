@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import difflib
-from typing import Any, get_args
+from typing import Any, ClassVar, get_args
 
 from pydantic import BaseModel, ConfigDict, ValidationError, model_validator
 
@@ -15,6 +15,9 @@ class StrictModel(BaseModel):
     """Frozen, and unknown keys are errors with a did-you-mean hint."""
 
     model_config = ConfigDict(frozen=True, protected_namespaces=())
+    # Options added after run keys were first stored: they enter a run key only when they
+    # differ from their default, so runs and baselines stored before them keep their keys.
+    keyed_when_set: ClassVar[frozenset[str]] = frozenset()
 
     @model_validator(mode="before")
     @classmethod
@@ -86,3 +89,27 @@ def show(value: Any) -> str:
     """A short repr of a given value for error messages."""
     text = repr(value)
     return text if len(text) <= 60 else text[:57] + "..."
+
+
+def key_dump(model: BaseModel, exclude: set[str] | None = None) -> Any:
+    """JSON form of a model for run keys: every field, except `keyed_when_set` fields that
+    hold their default (recursively, through nested models and lists)."""
+    return _key_value(model, exclude or set())
+
+
+def _key_value(value: Any, exclude: set[str]) -> Any:
+    if isinstance(value, BaseModel):
+        late = getattr(value, "keyed_when_set", frozenset())
+        dumped = value.model_dump(mode="json", exclude=exclude or None)
+        for name, field in type(value).model_fields.items():
+            if name in exclude:
+                continue
+            item = getattr(value, name)
+            if name in late and item == field.get_default(call_default_factory=True):
+                dumped.pop(name, None)
+            elif isinstance(item, (BaseModel, list, tuple)):
+                dumped[name] = _key_value(item, set())
+        return dumped
+    if isinstance(value, (list, tuple)) and any(isinstance(v, BaseModel) for v in value):
+        return [_key_value(v, set()) for v in value]
+    return value
