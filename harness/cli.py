@@ -14,7 +14,7 @@ from harness.errors import InputError
 
 # piped output (logs, CI) is not cut to 80 columns: long contender names would be cut short
 console = Console(width=None if sys.stdout.isatty() else 200)
-errors = Console(stderr=True, highlight=False)
+errors = Console(stderr=True, highlight=False, markup=False)  # messages hold user text
 
 
 def _suite_names(store_path: Path, suite_argument: str | None) -> list[str] | None:
@@ -37,19 +37,20 @@ def command_check(args: argparse.Namespace) -> int:
     facts = preflight(suite, args.suite)
     console.print(
         f"{args.suite}: suite '{suite.name}' is valid: {facts.nodes} nodes, {facts.edges} edges, "
-        f"{facts.classes} classes, {facts.features} features"
+        f"{facts.classes} classes, {facts.features} features",
+        markup=False,
     )
     console.print(
         f"measured homophily: edge {facts.edge_homophily:.3f}, node {facts.node_homophily:.3f}"
     )
     for note in facts.notes:
-        console.print(f"note: {note}")
+        console.print(f"note: {note}", markup=False)
     for contender in suite.contenders:
         count = sum(1 for s in specs if s.contender == contender)
         ablation = suite.ablation.get(contender)
         mode = ablation.mode.replace("_", "-") if ablation else ""
         points = f" ({count // len(suite.seed_list)} {mode} points)" if ablation else ""
-        console.print(f"  {contender}: {count} runs{points}")
+        console.print(f"  {contender}: {count} runs{points}", markup=False)
     console.print(f"{len(specs)} runs in total")
     if suite.tuning is not None:
         from harness.tuning.study import tuning_outline
@@ -128,7 +129,9 @@ def run_untuned(args: argparse.Namespace, suite, workers) -> int:
         return 130
     runs = store.load_runs(args.store, [suite.name])
     runs = runs[runs["key"].isin({s.key for s in specs})]
-    console.print(f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}")
+    console.print(
+        f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}", markup=False
+    )
     print_summary(summarise(label_points(runs)), console)
     print_ablation(ablation_view(runs), console)
     print_verdicts(analyse(runs, suite.analysis), console)
@@ -146,7 +149,7 @@ def run_homophily_map(args: argparse.Namespace, suite, profile) -> int:
 
     specs = map_specs(suite, profile)
     if not args.quiet:
-        console.print(f"homophily map: {len(specs)} runs on matched synthetic graphs")
+        console.print(f"homophily map: {len(specs)} runs on matched synthetic graphs", markup=False)
     outcome = execute(specs, args.store, args.jobs, threads=args.threads)
     if outcome.interrupted:
         errors.print(f"interrupted: homophily map runs so far are stored in {args.store}")
@@ -175,7 +178,9 @@ def run_tuned(args: argparse.Namespace, suite, url: str) -> int:
     from harness.tuning.workers import work_in_processes
 
     if not args.quiet:
-        console.print(f"{suite.name}: tuning with {args.jobs} worker(s) on storage {url}")
+        console.print(
+            f"{suite.name}: tuning with {args.jobs} worker(s) on storage {url}", markup=False
+        )
     outcome = work_in_processes(args.suite, args.store, url, args.jobs, args.threads)
     print_tuning_of(suite, url)
     runs = store.load_runs(args.store, [suite.name])
@@ -265,7 +270,9 @@ def _run_for_gate(args: argparse.Namespace, suite, specs) -> bool:
     check_threads(args.jobs, args.threads)
     todo = len(pending(specs, args.store))
     if todo:
-        console.print(f"{suite.name}: training {todo} runs, reusing {len(specs) - todo}")
+        console.print(
+            f"{suite.name}: training {todo} runs, reusing {len(specs) - todo}", markup=False
+        )
     outcome = execute(specs, args.store, args.jobs, threads=args.threads)
     if outcome.interrupted:
         errors.print(
@@ -295,7 +302,9 @@ def command_baseline(args: argparse.Namespace) -> int:
     environment = environment_fingerprint(args.threads)
     runs = suite_runs(args.store, specs)
     write_baseline(args.save, build_baseline(suite, specs, runs, environment))
-    console.print(f"baseline of suite '{suite.name}' ({len(specs)} runs) saved to {args.save}")
+    console.print(
+        f"baseline of suite '{suite.name}' ({len(specs)} runs) saved to {args.save}", markup=False
+    )
     return 0
 
 
@@ -367,7 +376,7 @@ def command_report(args: argparse.Namespace) -> int:
     trend = trend_png(stored_history(args.store, report.suite))
     written = write_report(report, args.out, trend)
     print_report(report, console)
-    console.print(f"{len(written)} files written to {args.out}", highlight=False)
+    console.print(f"{len(written)} files written to {args.out}", highlight=False, markup=False)
     return 0
 
 

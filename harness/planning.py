@@ -71,7 +71,8 @@ def read_suite_file(path: str | Path) -> dict:
     """Raw TOML of a suite file, with syntax errors reported by line and column."""
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
+        # a byte-order mark (some Windows editors write one) is not part of the TOML
+        text = path.read_text(encoding="utf-8-sig")
     except FileNotFoundError:
         raise InputError(f"{path}: suite file not found") from None
     except (IsADirectoryError, PermissionError, UnicodeDecodeError) as error:

@@ -53,11 +53,15 @@ def test_one_thread_workers_are_forked_on_linux_and_others_spawned(monkeypatch):
 
 def test_more_threads_are_allowed_only_while_processes_times_threads_fit_the_cores(monkeypatch):
     monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 8)
-    for jobs, threads in [(1, 8), (2, 4), (3, 2), (8, 1), (16, 1)]:
-        check_threads(jobs, threads)  # one thread per process is always allowed
+    for jobs, threads in [(1, 8), (2, 4), (3, 2), (8, 1)]:
+        check_threads(jobs, threads)
     for jobs, threads in [(1, 9), (3, 3), (5, 2)]:
         with pytest.raises(InputError, match=rf"{jobs} jobs x {threads} threads need"):
             check_threads(jobs, threads)
+    # more processes than cores only compete for them, each with its own copy of torch
+    for jobs in (9, 1000):
+        with pytest.raises(InputError, match=rf"--jobs: {jobs} jobs need {jobs} cores, 8 are"):
+            check_threads(jobs, 1)
 
 
 def test_too_many_threads_is_a_one_line_error_before_anything_runs(

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import base64
+import dataclasses
 import re
 from pathlib import Path
 
@@ -22,8 +23,9 @@ from harness.storage import store
 from harness.training.fit import RunResult
 
 HOSTILE_SUITE = """\
-# Fictional parcel lockers of an invented courier network; names chosen to break renderers.
-name = "50%_&_$x$"
+# Fictional parcel lockers of an invented courier network; names chosen to break renderers
+# (suite files allow plain names only, so the hostile ones enter as an older store held them).
+name = "lockers"
 seeds = 4
 metric = "accuracy"
 
@@ -33,16 +35,16 @@ nodes = 60
 classes = 2
 graph_seed = 1
 
-[contenders."<script>alert(1)</script>"]
+[contenders.attention]
 model = "gat"
 heads = 2
 hidden = 4
 
-[contenders."conv_{a}^b\\\\c"]
+[contenders.convolution]
 model = "gcn"
 hidden = 8
 
-[contenders."plain|mlp"]
+[contenders.plain]
 model = "mlp"
 hidden = 8
 
@@ -51,16 +53,24 @@ minimum_gain = 2.0
 bootstrap_resamples = 200
 """
 SCRIPT = "<script>alert(1)</script>"
+HOSTILE_NAME = "50%_&_$x$"
+HOSTILE_CONTENDERS = {"attention": SCRIPT, "convolution": "conv_{a}^b\\c", "plain": "plain|mlp"}
 
 
-def stored_suite(tmp_path: Path, attention_extras: bool = False) -> tuple[Path, Path]:
-    """The hostile suite with crafted stored runs under its real keys (no training)."""
+def stored_suite(
+    tmp_path: Path, attention_extras: bool = False, suite_name: str | None = HOSTILE_NAME
+) -> tuple[str, Path]:
+    """Crafted stored runs under the suite's real keys (no training), with hostile contender
+    names, and stored under `suite_name`; gives the suite argument (that name, or the suite
+    file when `suite_name` is None) and the store."""
     suite_path = tmp_path / "hostile.toml"
     suite_path.write_text(HOSTILE_SUITE, encoding="utf-8")
     store_path = tmp_path / "runs.db"
     level = {"gat": 0.80, "gcn": 0.74, "mlp": 0.60}
     rng = np.random.default_rng(0)
     for spec in expand(load_suite(suite_path)):
+        renamed = {"contender": HOSTILE_CONTENDERS[spec.contender]}
+        spec = dataclasses.replace(spec, suite=suite_name or spec.suite, **renamed)
         value = level[spec.model] + 0.01 * spec.seed + rng.normal(0, 0.002)
         extras = {}
         if attention_extras and spec.model == "gat":
@@ -81,13 +91,13 @@ def stored_suite(tmp_path: Path, attention_extras: bool = False) -> tuple[Path, 
             extras=extras,
         )
         store.save_run(store_path, record_of(spec, result))
-    return suite_path, store_path
+    return suite_name or str(suite_path), store_path
 
 
 def test_report_command_writes_every_format_and_prints_the_verdict(tmp_path: Path, capsys):
     suite_path, store_path = stored_suite(tmp_path, attention_extras=True)
     out = tmp_path / "report"
-    code = main(["report", str(suite_path), "--out", str(out), "--store", str(store_path)])
+    code = main(["report", suite_path, "--out", str(out), "--store", str(store_path)])
     printed = capsys.readouterr().out
     assert code == 0
     assert "Verdict:" in printed and "beats the best baseline" in printed
@@ -176,7 +186,8 @@ def test_stored_homophily_map_is_drawn_and_tabled(tmp_path: Path):
     from harness.data.profile import profile_graph
     from harness.storage.profiles import save_profile
 
-    suite_path, store_path = stored_suite(tmp_path)
+    suite_path, store_path = stored_suite(tmp_path, suite_name=None)
+    suite_path = Path(suite_path)
     text = suite_path.read_text() + "\n[homophily_map]\nlevels = [0.2, 0.8]\nseeds = 2\n"
     suite_path.write_text(text, encoding="utf-8")
     suite = load_suite(suite_path)

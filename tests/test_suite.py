@@ -5,6 +5,7 @@ from __future__ import annotations
 import hashlib
 import shutil
 import sqlite3
+import tomllib
 from pathlib import Path
 
 import pytest
@@ -312,3 +313,39 @@ def test_roc_auc_when_a_test_split_holds_one_class(tmp_path, capsys):
     )
     path.write_text(path.read_text().replace('"roc_auc"', '"macro_f1"'))
     assert main(["check", str(path)]) == 0  # the same data is fine for another metric
+
+
+def test_a_byte_order_mark_before_the_suite_is_accepted(tiny_suite_text, tmp_path):
+    """Some Windows editors save UTF-8 with a byte-order mark; it is not part of the TOML."""
+    path = tmp_path / "bom.toml"
+    path.write_bytes(b"\xef\xbb\xbf" + tiny_suite_text.encode("utf-8"))
+    assert load_suite(path) == parse_suite(read_suite_file(path), str(path))
+    assert load_suite(path).name == "tiny_couriers"
+
+
+@pytest.mark.parametrize("name", ["", "a b", "a.b", "a\nb", "x" * 65, "[bold]x", "né"])
+def test_names_outside_plain_ascii_are_refused(tiny_suite_text, name):
+    """Names become table cells and JUnit class names (split at a dot): plain names only."""
+    quoted = name.replace("\n", "\\n")
+    for old, new in [
+        ('name = "tiny_couriers"', f'name = "{quoted}"'),
+        ("[contenders.attention]", f'[contenders."{quoted}"]'),
+    ]:
+        raw = tomllib.loads(tiny_suite_text.replace(old, new))
+        with pytest.raises(InputError, match="allowed: ASCII letters, digits, _ and -, 1 to 64"):
+            parse_suite(raw, "suite.toml")
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "where"),
+    [
+        ("heads = 2", 'heads = "4"', "contenders.attention.heads: given '4' (text)"),
+        ("seeds = 2", 'seeds = ["0", "1"]', "seeds: given ['0', '1'] (text)"),
+        ("train = 0.4", 'train = "0.4"', "split.train: given '0.4' (text)"),
+    ],
+)
+def test_numbers_given_as_text_are_refused(tiny_suite_text, old, new, where):
+    raw = tomllib.loads(tiny_suite_text.replace(old, new))
+    with pytest.raises(InputError) as caught:
+        parse_suite(raw, "suite.toml")
+    assert str(caught.value) == f"suite.toml: {where}; allowed: a number, without quotes"

@@ -19,8 +19,13 @@ def available_cores() -> int:
 
 
 def check_threads(jobs: int, threads: int) -> None:
-    """More than one torch thread per process is allowed only while jobs x threads <= cores."""
+    """Jobs and torch threads per job are allowed only while jobs x threads <= cores: more
+    processes than cores only compete for them (and each holds its own copy of torch)."""
     cores = available_cores()
+    if jobs > cores:
+        raise InputError(
+            f"--jobs: {jobs} jobs need {jobs} cores, {cores} are usable; allowed: jobs <= {cores}"
+        )
     if threads > 1 and jobs * threads > cores:
         raise InputError(
             f"--threads: {jobs} jobs x {threads} threads need {jobs * threads} cores, "

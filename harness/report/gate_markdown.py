@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from harness.gate.compare import PASS, GateOutcome
+from harness.report.markdown_text import escape
 from harness.report.terminal import METRIC_LABELS
 
 MARKS = {"pass": "pass", "warn": "⚠️ warn", "fail": "❌ fail", "skip": "skipped"}
@@ -28,7 +29,7 @@ def gate_markdown(outcome: GateOutcome) -> str:
         worst = [c.status for c in checks.values() if c.status not in (PASS, "skip")]
         verdict = MARKS["fail"] if "fail" in worst else MARKS["warn"] if worst else MARKS["pass"]
         lines.append(
-            f"| {contender} | {figures['baseline']:.4f} → {figures['current']:.4f} "
+            f"| {escape(contender)} | {figures['baseline']:.4f} → {figures['current']:.4f} "
             f"| {_points(figures['difference'])} "
             f"| [{_points(figures['low'])}, {_points(figures['high'])}] "
             f"| ×{checks['time'].figures['ratio']:.2f} | ×{checks['memory'].figures['ratio']:.2f} "
@@ -37,12 +38,12 @@ def gate_markdown(outcome: GateOutcome) -> str:
     findings = [c for c in outcome.checks if c.status not in (PASS, "skip")]
     if findings:
         lines += ["", "**Findings**", ""]
-        lines += [f"- {MARKS[c.status]} `{c.check}`: {c.message}" for c in findings]
+        lines += [f"- {MARKS[c.status]} `{c.check}`: {escape(c.message)}" for c in findings]
     if outcome.environment_differences:
         lines += [
             "",
             "⚠️ Measured in a different environment than the baseline: "
-            + "; ".join(outcome.environment_differences),
+            + escape("; ".join(outcome.environment_differences)),
         ]
     lines += [
         "",

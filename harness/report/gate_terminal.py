@@ -5,6 +5,7 @@ from __future__ import annotations
 import pandas as pd
 from rich import box
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 from harness.gate.compare import PASS, SKIP, GateOutcome
@@ -24,7 +25,7 @@ def print_gate(outcome: GateOutcome, console: Console) -> None:
     metric = METRIC_LABELS.get(outcome.metric, outcome.metric)
     level = round(100 * outcome.confidence)
     table = Table(
-        title=f"Gate: {outcome.suite} (test {metric})",
+        title=f"Gate: {escape(outcome.suite)} (test {metric})",
         title_justify="left",
         box=box.SIMPLE_HEAD,
         pad_edge=False,
@@ -42,7 +43,7 @@ def print_gate(outcome: GateOutcome, console: Console) -> None:
         figures = checks["metric"].figures
         marks = "".join(f"[{STYLES[c.status]}]{MARKS[c.status]}[/]" for c in checks.values())
         table.add_row(
-            contender,
+            escape(contender),
             f"{figures['baseline']:.3f}",
             f"{figures['current']:.3f}",
             f"{_points(figures['difference'])} "
@@ -60,14 +61,14 @@ def print_gate(outcome: GateOutcome, console: Console) -> None:
     for check in outcome.checks:
         if check.status not in (PASS, SKIP):
             console.print(
-                f"[{STYLES[check.status]}]{check.status}[/] {check.check}: {check.message}",
+                f"[{STYLES[check.status]}]{check.status}[/] {check.check}: {escape(check.message)}",
                 highlight=False,
                 soft_wrap=True,
             )
     if outcome.environment_differences:
         console.print(
             "[yellow]environment differs from the baseline's:[/] "
-            + "; ".join(outcome.environment_differences),
+            + escape("; ".join(outcome.environment_differences)),
             highlight=False,
             soft_wrap=True,
         )
@@ -100,7 +101,7 @@ def history_table(history: pd.DataFrame, suite: str, last: int = 20) -> Table:
     final = pd.Timestamp(history["gated_at"].max(), unit="s").strftime("%Y-%m-%d %H:%M")
     gates = history["gate_id"].nunique()
     table = Table(
-        title=f"Gate history: {suite}, {gates} gate run{'s' if gates != 1 else ''}, "
+        title=f"Gate history: {escape(suite)}, {gates} gate run{'s' if gates != 1 else ''}, "
         f"{first} to {final} UTC",
         title_justify="left",
         box=box.SIMPLE_HEAD,
@@ -120,7 +121,7 @@ def history_table(history: pd.DataFrame, suite: str, last: int = 20) -> Table:
         seconds = rows["seconds_per_epoch"].tolist()
         memory = rows["peak_mb"].tolist()
         table.add_row(
-            str(contender),
+            escape(str(contender)),
             str(len(rows)),
             f"{number(float(latest['metric_mean']), 3)} {sparkline(metric_values, 0.02)}",
             f"{number(float(latest['seconds_per_epoch']), 4)} "

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 from harness.analysis.homophily_map import HomophilyMapSummary
@@ -14,7 +15,7 @@ def print_homophily_map(summary: HomophilyMapSummary, console: Console) -> None:
     table = Table(title=f"homophily map: test {summary.metric} on matched synthetic graphs")
     table.add_column("edge homophily", justify="right")
     for contender in contenders:
-        table.add_column(contender, justify="right")
+        table.add_column(escape(contender), justify="right")
     marked = False
     for level, rows in frame.groupby("level", sort=True):
         if not marked and summary.data_edge_homophily < level:
@@ -33,6 +34,6 @@ def print_homophily_map(summary: HomophilyMapSummary, console: Console) -> None:
     console.print(table)
     console.print(
         f"Your data's edge homophily is {summary.data_edge_homophily:.3f}; at the nearest level "
-        f"({summary.nearest_level:g}) the best contender is {summary.best_at_nearest}. "
+        f"({summary.nearest_level:g}) the best contender is {escape(summary.best_at_nearest)}. "
         "Bold: best mean per level."
     )

@@ -2,20 +2,10 @@
 
 from __future__ import annotations
 
-import re
-
 from harness.analysis.suite_report import SuiteReport
+from harness.report.markdown_text import escape
 from harness.report.plots import PLOT_TITLES
 from harness.report.tables import TextTable, all_tables, facts, reasons
-
-# Markdown punctuation a name could use to start emphasis, links, math or code.
-_PUNCTUATION = re.compile(r"([\\`*_{}\[\]#!|$~])")
-
-
-def escape(text: str) -> str:
-    """Plain text for Markdown: entities for HTML, backslashes for Markdown punctuation."""
-    text = str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-    return _PUNCTUATION.sub(r"\\\1", text).replace("\n", " ")
 
 
 def table(part: TextTable) -> str:

@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 from harness.data.profile import DatasetProfile
@@ -28,7 +29,7 @@ def print_profile(profile: DatasetProfile, console: Console, notes: tuple[str, .
     table.add_row("removed on load", "{} self-loops, {} repeated edges".format(*removed))
     labelled = sum(profile.class_counts)
     balance = ", ".join(
-        f"{name} {count} ({count / labelled:.0%})"
+        f"{escape(str(name))} {count} ({count / labelled:.0%})"
         for name, count in zip(profile.class_names, profile.class_counts, strict=True)
     )
     table.add_row("classes", f"{len(profile.class_counts)}: {balance}")
@@ -46,7 +47,7 @@ def print_profile(profile: DatasetProfile, console: Console, notes: tuple[str, .
     )
     console.print(table)
     for note in notes:
-        console.print(f"note: {note}")
+        console.print(f"note: {note}", markup=False, highlight=False)
 
 
 def profile_json(profile: DatasetProfile) -> str:

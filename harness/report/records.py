@@ -7,6 +7,8 @@ import math
 
 import pandas as pd
 
+from harness.report.markdown_text import escape
+
 RECORD_FIELDS = (
     "suite",
     "contender",
@@ -64,10 +66,9 @@ def as_csv(runs: pd.DataFrame) -> str:
 
 def as_markdown(runs: pd.DataFrame) -> str:
     frame = flat(runs).drop(columns=["options"])
-    header = "| " + " | ".join(frame.columns) + " |"
+    header = "| " + " | ".join(escape(c) for c in frame.columns) + " |"
     rule = "| " + " | ".join("---" for _ in frame.columns) + " |"
     body = [
-        "| " + " | ".join(str(v).replace("|", "\\|") for v in row) + " |"
-        for row in frame.itertuples(index=False)
+        "| " + " | ".join(escape(v) for v in row) + " |" for row in frame.itertuples(index=False)
     ]
     return "\n".join([header, rule, *body])

@@ -60,7 +60,7 @@ def summary_table(summary: pd.DataFrame, title: str) -> Table:
 def print_summary(summary: pd.DataFrame, console: Console | None = None) -> None:
     console = console or Console()
     for suite, group in summary.groupby("suite", sort=False):
-        console.print(summary_table(group.reset_index(drop=True), f"Suite: {suite}"))
+        console.print(summary_table(group.reset_index(drop=True), f"Suite: {escape(str(suite))}"))
 
 
 def _share(value: float, chance: float) -> str:
@@ -172,7 +172,11 @@ def narrow(part: TextTable, headers: tuple[str, ...]) -> TextTable:
 
 def text_table(part: TextTable) -> Table:
     """A report table (harness.report.tables) as a rich Table; names are not read as markup."""
-    table = Table(title=part.title, title_justify="left", caption=part.note or None)
+    table = Table(
+        title=escape(part.title),
+        title_justify="left",
+        caption=escape(part.note) if part.note else None,
+    )
     for header, right in zip(part.header, part.right, strict=True):
         table.add_column(escape(header), justify="right" if right else "left")
     for row in part.rows:

@@ -6,6 +6,7 @@ import math
 
 import pandas as pd
 from rich.console import Console, Group
+from rich.markup import escape
 from rich.table import Table
 
 from harness.report.terminal import number
@@ -54,14 +55,14 @@ def tuning_tables(
         curve = curves[curves["contender"] == row["contender"]]["validation"].tolist()
         if curve:
             curve_table.add_row(
-                str(row["contender"]),
+                escape(str(row["contender"])),
                 str(len(curve)),
                 number(curve[0]),
                 number(max(curve)),
                 sparkline(curve),
             )
         used.add_row(
-            str(row["contender"]),
+            escape(str(row["contender"])),
             str(row["model"]),
             budget_text(row),
             str(row["completed"]),
@@ -77,7 +78,9 @@ def tuning_tables(
     for _, row in settings.iterrows():
         value = row["value"]
         shown = f"{value:.4g}" if isinstance(value, float) else str(value)
-        chosen.add_row(row["contender"], row["setting"], shown, number(row["importance"], 2))
+        chosen.add_row(
+            escape(row["contender"]), row["setting"], escape(shown), number(row["importance"], 2)
+        )
     parts = [used, chosen, curve_table]
     if parameters is not None and not parameters.empty:
         sized = Table(
@@ -87,7 +90,7 @@ def tuning_tables(
             sized.add_column(header, justify="left" if header == "contender" else "right")
         for _, row in parameters.iterrows():
             sized.add_row(
-                row["contender"],
+                escape(row["contender"]),
                 str(row["hidden"]),
                 f"{row['params']:,}",
                 f"{row['target']:,}",

@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 import difflib
-from typing import Any, ClassVar, get_args
+from pathlib import PurePath
+from typing import Annotated, Any, ClassVar, Literal, get_args, get_origin
 
 from pydantic import BaseModel, ConfigDict, ValidationError, model_validator
 
 UNKNOWN_KEY = "unknown key"
 STRAY_BOOLEAN = "true/false given for"
+QUOTED_NUMBER = "a number given as text for"
 
 
 class StrictModel(BaseModel):
@@ -35,6 +37,9 @@ class StrictModel(BaseModel):
                 value, field = data[key], cls.model_fields[key]
                 if isinstance(value, bool) and not takes_bool(field.annotation):
                     raise ValueError(f"{STRAY_BOOLEAN} {key} {str(value).lower()}")
+                # pydantic would read "4" as 4: a hand-edited file must say what it means
+                if quoted_number(value, field.annotation):
+                    raise ValueError(f"{QUOTED_NUMBER} {key}")
         return data
 
 
@@ -43,6 +48,35 @@ def takes_bool(annotation: Any) -> bool:
     if annotation is bool or annotation is Any or isinstance(annotation, bool):
         return True
     return any(takes_bool(argument) for argument in get_args(annotation))
+
+
+def _branches(annotation: Any) -> tuple[Any, ...]:
+    """The alternatives of a union (Annotated unwrapped), or the annotation alone."""
+    if get_origin(annotation) is Annotated:
+        return _branches(get_args(annotation)[0])
+    if get_origin(annotation) is None or get_origin(annotation) is Literal:
+        return (annotation,)
+    if get_origin(annotation) in (list, tuple, set, frozenset, dict):
+        return (annotation,)
+    return tuple(b for argument in get_args(annotation) for b in _branches(argument))
+
+
+def _takes_text(branch: Any) -> bool:
+    if get_origin(branch) is Literal:
+        return any(isinstance(value, str) for value in get_args(branch))
+    return branch in (str, Any) or (isinstance(branch, type) and issubclass(branch, PurePath))
+
+
+def quoted_number(value: Any, annotation: Any) -> bool:
+    """Whether `value` is text (or a list holding text) where only numbers are allowed."""
+    branches = _branches(annotation)
+    if isinstance(value, str):
+        numeric = any(b in (int, float) for b in branches)
+        return numeric and not any(_takes_text(b) for b in branches)
+    if isinstance(value, list):
+        items = [get_args(b)[0] for b in branches if get_origin(b) is list and get_args(b)]
+        return any(quoted_number(item, kind) for item in value for kind in items[:1])
+    return False
 
 
 def key_path(loc: tuple, raw: Any, missing: bool = False) -> str:
@@ -75,6 +109,11 @@ def format_validation_error(error: ValidationError, raw: Any, source: str) -> st
         key, value = message.split()[-2:]
         where = key if where == "(top level)" else f"{where}.{key}"
         return f"{source}: {where}: given {value}; allowed: a number or text, not true or false"
+    if message.startswith(QUOTED_NUMBER):
+        key = message.split()[-1]
+        where = key if where == "(top level)" else f"{where}.{key}"
+        value = raw_value(raw, where)
+        return f"{source}: {where}: given {show(value)} (text); allowed: a number, without quotes"
     if first["type"] == "union_tag_not_found":
         tag = first.get("ctx", {}).get("discriminator", "the kind")
         return f"{source}: {where}: required key {tag} is missing"
@@ -83,6 +122,18 @@ def format_validation_error(error: ValidationError, raw: Any, source: str) -> st
     if first["type"] == "value_error" and isinstance(first.get("input"), dict):
         return f"{source}: {where}: {message}"  # a check across keys; the message names them
     return f"{source}: {where}: given {show(first.get('input'))}; {message}"
+
+
+def raw_value(raw: Any, dotted: str) -> Any:
+    """The value at a dotted key path of raw input (None where the path ends early)."""
+    for part in dotted.split("."):
+        if isinstance(raw, dict) and part in raw:
+            raw = raw[part]
+        elif isinstance(raw, list) and part.isdigit() and int(part) < len(raw):
+            raw = raw[int(part)]
+        else:
+            return None
+    return raw
 
 
 def show(value: Any) -> str:

@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
+import re
 from typing import Literal
 
-from pydantic import Field, ValidationInfo, field_validator
+from pydantic import ValidationInfo, field_validator
 
 from harness.schema.ablation import Ablation, HopSettings
 from harness.schema.analysis import Analysis, unknown_contenders
@@ -17,12 +18,22 @@ from harness.schema.tuning import Tuning
 
 Metric = Literal["accuracy", "macro_f1", "roc_auc"]
 Setting = Literal["transductive", "inductive"]
+# names become table cells, JUnit class names (where a dot splits) and file-name parts
+NAME_PATTERN = re.compile(r"[A-Za-z0-9_-]{1,64}")
+NAMES_ALLOWED = "allowed: ASCII letters, digits, _ and -, 1 to 64 characters"
+
+
+def check_name(name: str) -> str:
+    """A suite or contender name, or ValueError saying what is allowed."""
+    if not NAME_PATTERN.fullmatch(name):
+        raise ValueError(NAMES_ALLOWED)
+    return name
 
 
 class Suite(StrictModel):
     """A declarative benchmark: data, contenders, training defaults and seeds."""
 
-    name: str = Field(min_length=1, max_length=200)
+    name: str
     description: str = ""
     seeds: int | list[int] = 5
     metric: Metric = "accuracy"
@@ -37,6 +48,11 @@ class Suite(StrictModel):
     analysis: Analysis = Analysis()
     tuning: Tuning | None = None
     homophily_map: HomophilyMap | None = None
+
+    @field_validator("name")
+    @classmethod
+    def _plain_name(cls, name: str) -> str:
+        return check_name(name)
 
     @field_validator("seeds")
     @classmethod
@@ -56,6 +72,9 @@ class Suite(StrictModel):
     def _some_contenders(cls, contenders: dict) -> dict:
         if not contenders:
             raise ValueError("allowed: at least one [contenders.NAME] table")
+        for name in contenders:
+            if not NAME_PATTERN.fullmatch(name):
+                raise ValueError(f"contender name {name!r} is not allowed; {NAMES_ALLOWED}")
         return contenders
 
     @field_validator("analysis")
