@@ -54,16 +54,39 @@ def test_pyg_class_outside_the_allow_list(tmp_path: Path) -> None:
 
 
 def test_pyg_name_must_fit_the_class(tmp_path: Path) -> None:
-    with pytest.raises(InputError, match=r"name 'Karate' is not one of Planetoid's; allowed: Cora"):
-        pyg_section(tmp_path, dataset="Planetoid", name="Karate")
+    with pytest.raises(
+        InputError, match=r"name 'Books' is not one of Amazon's; allowed: Computers"
+    ):
+        pyg_section(tmp_path, dataset="Amazon", name="Books")
+
+
+def test_planetoid_needs_a_name_that_can_be_a_folder(tmp_path: Path) -> None:
+    with pytest.raises(InputError, match=r"data: name None for Planetoid; allowed: a dataset"):
+        pyg_section(tmp_path, dataset="Planetoid")
+    with pytest.raises(InputError, match=r"name '\.\./up' for Planetoid; allowed: .*\(letters"):
+        pyg_section(tmp_path, dataset="Planetoid", name="../up")
 
 
 def test_missing_pyg_files_with_download_off_lists_them(tmp_path: Path) -> None:
-    section = pyg_section(tmp_path, dataset="Planetoid", name="Cora", root="store")
+    section = pyg_section(
+        tmp_path, dataset="HeterophilousGraphDataset", name="Minesweeper", root="store"
+    )
     with pytest.raises(InputError) as caught:
         load_graph(section)
     message = str(caught.value)
     assert "download is off" in message
-    assert "ind.cora.x" in message and "ind.cora.graph" in message
-    assert str(tmp_path / "store" / "Cora" / "raw") in message
+    assert "expected minesweeper.npz in " in message
+    assert str(tmp_path / "store" / "minesweeper" / "raw") in message
     assert "data.download = true" in message
+    assert "\n" not in message
+
+
+def test_planetoid_name_goes_to_pyg_and_its_failure_is_one_line(tmp_path: Path) -> None:
+    # an invented name: PyG's class takes it and looks for its files, which are not there
+    section = pyg_section(tmp_path, dataset="Planetoid", name="Larkspur", root="store")
+    with pytest.raises(InputError) as caught:
+        load_graph(section)
+    message = str(caught.value)
+    assert message.startswith("data: Planetoid 'Larkspur' files missing and download is off")
+    assert "ind.larkspur.x" in message and "ind.larkspur.graph" in message
+    assert str(tmp_path / "store" / "Larkspur" / "raw") in message

@@ -1,7 +1,8 @@
 """PyG datasets named in a suite: only classes on the schema's allow-list, under a local root.
 
 With `download = false` a dataset whose files are missing is an error that lists the files
-PyG expects and the folder it expects them in; nothing is fetched.
+PyG expects and the folder it expects them in; nothing is fetched. A `name` that PyG checks
+itself (schema.data.NAME_CHECKED_BY_PYG) is passed through, and PyG's failure is one line too.
 """
 
 from __future__ import annotations
@@ -50,7 +51,7 @@ def open_dataset(spec: PygData) -> torch_geometric.data.Dataset:
             f"download is off; expected {', '.join(missing.files)} in {missing.folder}; allowed: "
             "place the files there or set data.download = true"
         ) from None
-    except (OSError, RuntimeError, ValueError) as error:
+    except (AssertionError, OSError, RuntimeError, ValueError) as error:
         first_line = str(error).splitlines()[0] if str(error) else error.__class__.__name__
         raise InputError(
             f"data: cannot load {spec.dataset} from {spec.root}: {first_line}"

@@ -6,6 +6,7 @@ Data sources are chosen by `source`, split methods by `method` (default "fractio
 from __future__ import annotations
 
 import hashlib
+import re
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
@@ -23,11 +24,13 @@ from harness.schema.base import StrictModel
 
 TABLE_SUFFIXES = (".csv", ".parquet", ".pq")
 
+# A `name` that PyG itself checks: passed through, and a failure becomes our one-line error.
+NAME_CHECKED_BY_PYG = "a dataset name PyG's class knows"
 # PyG dataset classes a suite may name, with the `name` values each accepts (None: no name).
 # Only these are ever looked up in torch_geometric.datasets: a suite cannot import anything else.
-PYG_DATASETS: dict[str, tuple[str, ...] | None] = {
+PYG_DATASETS: dict[str, tuple[str, ...] | str | None] = {
     "KarateClub": None,
-    "Planetoid": ("Cora", "CiteSeer", "PubMed"),
+    "Planetoid": NAME_CHECKED_BY_PYG,
     "Amazon": ("Computers", "Photo"),
     "Coauthor": ("CS", "Physics"),
     "WikipediaNetwork": ("chameleon", "squirrel"),
@@ -195,7 +198,14 @@ class PygData(StrictModel):
         names = PYG_DATASETS[self.dataset]
         if names is None and self.name is not None:
             raise ValueError(f"{self.dataset} takes no name; allowed: leave 'name' out")
-        if names is not None and self.name not in names:
+        if names == NAME_CHECKED_BY_PYG:
+            # the name becomes a folder under root: letters, digits, '-' and '_' only
+            if self.name is None or not re.fullmatch(r"[A-Za-z0-9_-]{1,64}", self.name):
+                raise ValueError(
+                    f"name {self.name!r} for {self.dataset}; allowed: {names} (letters, "
+                    "digits, '-' and '_', at most 64)"
+                )
+        elif names is not None and self.name not in names:
             raise ValueError(
                 f"name {self.name!r} is not one of {self.dataset}'s; allowed: {', '.join(names)}"
             )
