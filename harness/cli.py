@@ -225,7 +225,7 @@ def command_tuning(args: argparse.Namespace) -> int:
     return 0
 
 
-def command_profile(args: argparse.Namespace) -> int:
+def command_describe(args: argparse.Namespace) -> int:
     from harness.planning import load_suite
     from harness.report.profile import print_profile, profile_json
     from harness.storage.profiles import suite_profile
@@ -455,10 +455,12 @@ def parser() -> argparse.ArgumentParser:
     with_storage(tuned)
     tuned.set_defaults(handler=command_tuning)
 
-    profile = commands.add_parser("profile", help="describe a suite's data and its homophily")
-    profile.add_argument("suite")
-    profile.add_argument("--format", choices=("table", "json"), default="table")
-    profile.set_defaults(handler=command_profile)
+    describe = commands.add_parser(
+        "describe", help="describe a suite's data: size, degrees, classes, features, homophily"
+    )
+    describe.add_argument("suite")
+    describe.add_argument("--format", choices=("table", "json"), default="table")
+    describe.set_defaults(handler=command_describe)
 
     show = commands.add_parser("show", help="print stored runs")
     show.add_argument("suite", nargs="?", help="suite file or suite name (default: all)")

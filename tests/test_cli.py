@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import io
 import json
+import re
 import shutil
 import subprocess
 import sys
@@ -159,3 +160,15 @@ def test_installed_command_prints_runs_and_fails_bad_input_with_exit_2(finished_
     assert failed.returncode == 2
     assert failed.stderr.count("\n") == 1 and str(missing) in failed.stderr
     assert "Traceback" not in failed.stderr
+
+
+def test_help_and_readme_list_the_same_commands(capsys):
+    with pytest.raises(SystemExit):
+        main(["--help"])
+    listed = set(re.findall(r"^    (\w+)\s", capsys.readouterr().out, flags=re.MULTILINE))
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    table = readme.split("## Commands", 1)[1].split("\n## ", 1)[0]
+    documented = set(re.findall(r"^\| `heedful (\w+)", table, flags=re.MULTILINE))
+    assert "describe" in listed and "profile" not in listed
+    assert listed == documented
+    assert "heedful profile" not in readme

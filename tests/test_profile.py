@@ -1,4 +1,4 @@
-"""Dataset profile: figures on a small hand-built graph, the `profile` command, and storage."""
+"""Dataset profile: figures on a small hand-built graph, the `describe` command, and storage."""
 
 from __future__ import annotations
 
@@ -50,13 +50,13 @@ def test_profile_of_a_hand_built_graph() -> None:
     assert profile.homophily.edge == pytest.approx(2 / 3)  # 0-1 and 2-3 of the three edges
 
 
-def test_profile_command_prints_every_part(write_suite, capsys) -> None:
+def test_describe_command_prints_every_part(write_suite, capsys) -> None:
     suite = write_suite(KARATE_SUITE)
-    assert main(["profile", str(suite)]) == 0
+    assert main(["describe", str(suite)]) == 0
     out = capsys.readouterr().out
     for part in ("nodes", "34", "78 (undirected)", "isolated", "Mr. Hi 17 (50%)", "adjusted"):
         assert part in out
-    assert main(["profile", str(suite), "--format", "json"]) == 0
+    assert main(["describe", str(suite), "--format", "json"]) == 0
     values = json.loads(capsys.readouterr().out)
     assert values["edges"] == 78 and values["class_counts"] == [17, 17]
     assert values["homophily"]["edge"] == pytest.approx(0.859, abs=1e-3)

@@ -1,4 +1,4 @@
-"""Ablation effects: what each varied design axis of a contender does to the test metric.
+"""Ablation effects: what each varied option of a contender does to the test metric.
 
 For a contender run over a full grid of points, an axis's *marginal mean* at a level is the
 mean test metric over every run at that level, averaging over the other axes. When the points

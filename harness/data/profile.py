@@ -62,7 +62,7 @@ class DatasetProfile:
 
 
 def profile_graph(data: Data) -> DatasetProfile:
-    """Everything `heedful profile` prints about a loaded graph."""
+    """Everything `heedful describe` prints about a loaded graph."""
     nodes = data.num_nodes
     directed = not data.is_undirected()
     # in-degree: the neighbours whose messages a node receives
