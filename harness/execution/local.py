@@ -9,7 +9,6 @@ import time
 from collections import deque
 from collections.abc import Callable
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Any
 
 import torch
@@ -57,17 +56,17 @@ def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
     }
 
 
-def run_and_store(spec: RunSpec, store_path: str) -> str:
+def run_and_store(spec: RunSpec, store_path: store.Store) -> str:
     """One run, committed to the store as soon as it ends."""
     store.save_run(store_path, record_of(spec, perform(spec)))
     return spec.contender
 
 
-def _worker_task(args: tuple[RunSpec, str]) -> str:
+def _worker_task(args: tuple[RunSpec, store.Store]) -> str:
     return run_and_store(*args)
 
 
-def pending(specs: list[RunSpec], store_path: str | Path) -> list[RunSpec]:
+def pending(specs: list[RunSpec], store_path: store.Store) -> list[RunSpec]:
     """Specs whose result is not stored yet (for their suite and contender)."""
     suites = {spec.suite for spec in specs}
     done = set()
@@ -84,7 +83,7 @@ def _all_ready(results: list[multiprocessing.pool.AsyncResult]) -> bool:
 
 def _share_with_workers(
     todo: list[RunSpec],
-    store_path: str,
+    store_path: store.Store,
     jobs: int,
     on_finished: Callable[[str], None] | None,
     pool: multiprocessing.pool.Pool,
@@ -148,7 +147,7 @@ def _share_with_workers(
 
 def execute(
     specs: list[RunSpec],
-    store_path: str | Path,
+    store_path: store.Store,
     jobs: int = 1,
     on_finished: Callable[[str], None] | None = None,
     workers: multiprocessing.pool.Pool | None = None,
@@ -170,7 +169,7 @@ def execute(
         torch.set_num_threads(threads)
         try:
             for spec in todo:
-                on = run_and_store(spec, str(store_path))
+                on = run_and_store(spec, store_path)
                 finished += 1
                 if on_finished:
                     on_finished(on)
@@ -180,6 +179,6 @@ def execute(
         if workers is None:
             workers = start_workers(jobs - 1, threads)
         finished, interrupted = _share_with_workers(
-            todo, str(store_path), jobs, on_finished, workers, threads
+            todo, store_path, jobs, on_finished, workers, threads
         )
     return Outcome(len(specs), len(specs) - len(todo), finished, interrupted)

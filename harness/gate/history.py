@@ -1,6 +1,6 @@
 """Gate history: every gate run appended to the result store, one row per contender.
 
-Kept in its own table of the same SQLite file, so `heedful history` and the HTML report can
+Kept in its own table of the same store, so `heedful history` and the HTML report can
 show how each contender's metric and costs moved from night to night.
 """
 
@@ -8,68 +8,41 @@ from __future__ import annotations
 
 import json
 import uuid
-from contextlib import closing
-from pathlib import Path
 
 import pandas as pd
+from sqlalchemy import Column, Double, Integer, Table, Text
 
 from harness.gate.compare import GateOutcome
-from harness.storage import store
+from harness.storage.database import has_table, opened, prepare, read_rows
+from harness.storage.store import METADATA, Store
 
-SCHEMA = """
-CREATE TABLE IF NOT EXISTS gate_history (
-    gate_id TEXT NOT NULL,
-    suite TEXT NOT NULL,
-    contender TEXT NOT NULL,
-    gated_at REAL NOT NULL,
-    metric TEXT NOT NULL,
-    metric_mean REAL,
-    baseline_mean REAL,
-    difference REAL,
-    difference_low REAL,
-    difference_high REAL,
-    p_value REAL,
-    seconds_per_epoch REAL,
-    peak_mb REAL,
-    verdicts TEXT NOT NULL,
-    contender_status TEXT NOT NULL,
-    gate_status TEXT NOT NULL,
-    environment TEXT NOT NULL,
-    environment_differs INTEGER NOT NULL,
-    PRIMARY KEY (gate_id, contender)
+GATE_HISTORY = Table(
+    "gate_history",
+    METADATA,
+    Column("gate_id", Text, primary_key=True),
+    Column("suite", Text, nullable=False),
+    Column("contender", Text, primary_key=True),
+    Column("gated_at", Double, nullable=False),
+    Column("metric", Text, nullable=False),
+    Column("metric_mean", Double),
+    Column("baseline_mean", Double),
+    Column("difference", Double),
+    Column("difference_low", Double),
+    Column("difference_high", Double),
+    Column("p_value", Double),
+    Column("seconds_per_epoch", Double),
+    Column("peak_mb", Double),
+    Column("verdicts", Text, nullable=False),
+    Column("contender_status", Text, nullable=False),
+    Column("gate_status", Text, nullable=False),
+    Column("environment", Text, nullable=False),
+    Column("environment_differs", Integer, nullable=False),
 )
-"""
-COLUMNS = (
-    "gate_id",
-    "suite",
-    "contender",
-    "gated_at",
-    "metric",
-    "metric_mean",
-    "baseline_mean",
-    "difference",
-    "difference_low",
-    "difference_high",
-    "p_value",
-    "seconds_per_epoch",
-    "peak_mb",
-    "verdicts",
-    "contender_status",
-    "gate_status",
-    "environment",
-    "environment_differs",
-)
+COLUMNS = tuple(column.name for column in GATE_HISTORY.columns)
 STATUS_ORDER = ("fail", "warn", "pass", "skip")
 
 
-def _connect(path: str | Path, create: bool = True):
-    connection = store.connect(path, create=create)
-    connection.execute(SCHEMA)
-    connection.commit()
-    return connection
-
-
-def append(path: str | Path, outcome: GateOutcome) -> str:
+def append(store: Store, outcome: GateOutcome) -> str:
     """Store one gate run (all its contenders in one transaction); returns its id."""
     gate_id = uuid.uuid4().hex[:16]
     rows = []
@@ -100,34 +73,29 @@ def append(path: str | Path, outcome: GateOutcome) -> str:
                 int(bool(outcome.environment_differences)),
             )
         )
-    marks = ", ".join("?" for _ in COLUMNS)
-    with closing(_connect(path)) as connection:
-        connection.executemany(
-            f"INSERT INTO gate_history ({', '.join(COLUMNS)}) VALUES ({marks})", rows
+    with opened(store, write=True) as connection:
+        prepare(connection, GATE_HISTORY)
+        connection.execute(
+            GATE_HISTORY.insert(), [dict(zip(COLUMNS, row, strict=True)) for row in rows]
         )
-        connection.commit()
     return gate_id
 
 
-def load_history(path: str | Path, suite: str | None = None) -> pd.DataFrame:
-    """Gate history as a DataFrame, oldest first (`verdicts`, `environment` decoded)."""
-    with closing(_connect(path, create=False)) as connection:
-        query, params = "SELECT * FROM gate_history", []
-        if suite is not None:
-            query, params = query + " WHERE suite = ?", [suite]
-        frame = pd.read_sql_query(query + " ORDER BY gated_at, rowid", connection, params=params)
+def load_history(store: Store, suite: str | None = None) -> pd.DataFrame:
+    """Gate history as a DataFrame, oldest first (`verdicts`, `environment` decoded); empty
+    when the store holds no gate runs."""
+    where = None if suite is None else {"suite": [suite]}
+    with opened(store, write=False) as connection:
+        rows = read_rows(connection, GATE_HISTORY, where, order=("gated_at",))
+    frame = pd.DataFrame(rows, columns=list(COLUMNS))
     for column in ("verdicts", "environment"):
         frame[column] = frame[column].map(json.loads)
     frame["environment_differs"] = frame["environment_differs"].astype(bool)
     return frame
 
 
-def stored_history(path: str | Path, suite: str) -> pd.DataFrame:
+def stored_history(store: Store, suite: str) -> pd.DataFrame:
     """A suite's gate history, or an empty frame when the store or its history is missing."""
-    if not Path(path).is_file():
+    if not has_table(store, GATE_HISTORY.name):
         return pd.DataFrame()
-    with closing(store.connect(path, create=False)) as connection:
-        found = connection.execute(
-            "SELECT name FROM sqlite_master WHERE type = 'table' AND name = 'gate_history'"
-        ).fetchone()
-    return load_history(path, suite) if found else pd.DataFrame()
+    return load_history(store, suite)

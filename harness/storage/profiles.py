@@ -5,26 +5,26 @@ from __future__ import annotations
 import hashlib
 import json
 import time
-from contextlib import closing
 from pathlib import Path
 
 from pydantic import BaseModel
+from sqlalchemy import Column, Double, Table, Text
 
 from harness.data import load_graph
 from harness.data.assemble import cleaning_notes
 from harness.data.profile import DatasetProfile, profile_graph
-from harness.storage.store import connect
+from harness.storage.database import insert, opened, prepare, read_rows
+from harness.storage.store import METADATA, Store
 
-SCHEMA = """
-CREATE TABLE IF NOT EXISTS profiles (
-    suite TEXT NOT NULL,
-    data_key TEXT NOT NULL,
-    data TEXT NOT NULL,
-    profile TEXT NOT NULL,
-    stored_at REAL NOT NULL,
-    PRIMARY KEY (suite, data_key)
+PROFILES = Table(
+    "profiles",
+    METADATA,
+    Column("suite", Text, primary_key=True),
+    Column("data_key", Text, primary_key=True),
+    Column("data", Text, nullable=False),
+    Column("profile", Text, nullable=False),
+    Column("stored_at", Double, nullable=False),
 )
-"""
 
 
 def data_key(section: BaseModel) -> str:
@@ -33,31 +33,25 @@ def data_key(section: BaseModel) -> str:
     return hashlib.sha256(text.encode()).hexdigest()[:24]
 
 
-def save_profile(path: str | Path, suite: str, section: BaseModel, profile: DatasetProfile) -> None:
+def save_profile(store: Store, suite: str, section: BaseModel, profile: DatasetProfile) -> None:
     """Store (or refresh) the profile of a suite's data next to its runs."""
-    with closing(connect(path)) as connection:
-        connection.execute(SCHEMA)
-        connection.execute(
-            "INSERT OR REPLACE INTO profiles VALUES (?, ?, ?, ?, ?)",
-            (
-                suite,
-                data_key(section),
-                section.model_dump_json(),
-                json.dumps(profile.as_dict(), sort_keys=True),
-                time.time(),
-            ),
-        )
-        connection.commit()
+    row = {
+        "suite": suite,
+        "data_key": data_key(section),
+        "data": section.model_dump_json(),
+        "profile": json.dumps(profile.as_dict(), sort_keys=True),
+        "stored_at": time.time(),
+    }
+    with opened(store, write=True) as connection:
+        prepare(connection, PROFILES)
+        insert(connection, PROFILES, row, replace=True)
 
 
-def load_profiles(path: str | Path, suite: str) -> list[DatasetProfile]:
+def load_profiles(store: Store, suite: str) -> list[DatasetProfile]:
     """Stored profiles of a suite, oldest first."""
-    with closing(connect(path, create=False)) as connection:
-        connection.execute(SCHEMA)
-        rows = connection.execute(
-            "SELECT profile FROM profiles WHERE suite = ? ORDER BY stored_at", (suite,)
-        ).fetchall()
-    return [DatasetProfile.from_dict(json.loads(text)) for (text,) in rows]
+    with opened(store, write=False) as connection:
+        rows = read_rows(connection, PROFILES, {"suite": [suite]}, order=("stored_at",))
+    return [DatasetProfile.from_dict(json.loads(row["profile"])) for row in rows]
 
 
 def suite_profile(suite: BaseModel, source: str) -> tuple[DatasetProfile, list[str]]:

@@ -17,6 +17,7 @@ import sqlalchemy
 from sqlalchemy.engine import URL, make_url
 
 from harness.errors import InputError
+from harness.storage.database import Location, locate
 
 DEFAULT_PORTS = {"postgresql": 5432, "mysql": 3306, "mariadb": 3306}
 RETRIES = 3
@@ -28,11 +29,15 @@ RETRY = getattr(
 )
 
 
-def default_storage_url(store_path: str | Path) -> str:
-    """SQLite file beside the result store: runs/heedful.db -> runs/heedful-tuning.db."""
-    store = Path(store_path)
-    store.parent.mkdir(parents=True, exist_ok=True)  # as the result store itself would
-    return f"sqlite:///{store.with_name(store.stem + '-tuning.db').resolve()}"
+def default_storage_url(store: str | Path | Location) -> str:
+    """The result store's own database when it is a server; else an SQLite file beside the
+    result store file: runs/heedful.db -> runs/heedful-tuning.db."""
+    location = locate(store)
+    if location.path is None:  # Optuna's tables do not share a name with ours
+        return location.url.render_as_string(hide_password=False)
+    location.path.parent.mkdir(parents=True, exist_ok=True)  # as the result store itself would
+    path = location.path
+    return f"sqlite:///{path.with_name(path.stem + '-tuning.db').resolve()}"
 
 
 def parse_url(url: str) -> URL:

@@ -186,7 +186,7 @@ def work_in_processes(
     pool = context.Pool(jobs, initializer=worker_setup, initargs=(threads,))
     try:
         pending = [
-            pool.apply_async(_worker_task, (suite_path, str(store_path), storage_url))
+            pool.apply_async(_worker_task, (suite_path, store_path, storage_url))
             for _ in range(jobs)
         ]
         outcomes = [result.get() for result in pending]
