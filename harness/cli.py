@@ -128,7 +128,7 @@ def run_untuned(args: argparse.Namespace, suite, workers) -> int:
         )
         return 130
     runs = store.load_runs(args.store, [suite.name])
-    runs = runs[runs["key"].isin({s.key for s in specs})]
+    runs = runs[runs["key"].isin({k for s in specs for k in s.stored_keys})]
     console.print(
         f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}", markup=False
     )
@@ -155,7 +155,7 @@ def run_homophily_map(args: argparse.Namespace, suite, profile) -> int:
         errors.print(f"interrupted: homophily map runs so far are stored in {args.store}")
         return 130
     runs = store.load_runs(args.store, [map_suite_name(suite)])
-    runs = runs[runs["key"].isin({s.key for s in specs})]
+    runs = runs[runs["key"].isin({k for s in specs for k in s.stored_keys})]
     print_homophily_map(summarise_map(runs, profile, suite.metric), console)
     return 0
 

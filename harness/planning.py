@@ -5,7 +5,7 @@ from __future__ import annotations
 import hashlib
 import json
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -66,6 +66,76 @@ class RunSpec:
         text = json.dumps(determining, sort_keys=True, separators=(",", ":"))
         return hashlib.sha256(text.encode()).hexdigest()[:24]
 
+    @property
+    def stored_keys(self) -> frozenset[str]:
+        """Keys under which this run may be stored: its own, and for a compiled run also the
+        eager one, since a run whose compiling failed is stored as eager (see README)."""
+        if self.training.compile is not True:
+            return frozenset({self.key})
+        eager = replace(self, training=self.training.model_copy(update={"compile": False}))
+        return frozenset({self.key, eager.key})
+
+
+# Automatic compiling pays back when the epochs times the per-epoch saving exceed the one-off
+# compile time; the saving grows with the edges, so the rule is a count of edge-epochs per model
+# kind (directed edges x maximum epochs), measured by benchmarks/large_graphs.py (README,
+# Performance). Kinds that are not listed never compile automatically.
+COMPILE_PAYBACK_EDGE_EPOCHS: dict[str, float] = {
+    "gat": 10e6,
+    "gatv2": 10e6,
+    "dot_product": 10e6,
+}
+COMPILE_MIN_EDGES = 200_000  # below this, even a long run's saving is lost in noise
+
+
+def declared_edges(data: BaseModel) -> int | None:
+    """Directed edges the data section will give, known before loading it; None if unknown.
+
+    Synthetic graphs: nodes x average degree; tables: edge rows (twice if undirected); bundled
+    graphs are small. PyG datasets are not counted without loading them.
+    """
+    if data.source == "synthetic":
+        return round(data.nodes * data.average_degree)
+    if data.source == "tables":
+        return table_rows(data.edges) * (1 if data.directed else 2)
+    if data.source in ("karate", "digits"):
+        return 0
+    return None
+
+
+_ROWS: dict[tuple[str, int, int], int] = {}
+
+
+def table_rows(path: str) -> int:
+    """Data rows of a CSV (lines after the header) or Parquet file (from its footer)."""
+    stat = Path(path).stat()
+    cache_key = (path, stat.st_size, stat.st_mtime_ns)
+    if cache_key not in _ROWS:
+        if Path(path).suffix.lower() == ".csv":
+            with open(path, "rb") as handle:
+                lines = sum(block.count(b"\n") for block in iter(lambda: handle.read(1 << 20), b""))
+            _ROWS[cache_key] = max(lines - 1, 0)
+        else:
+            import pyarrow.parquet  # only suites with Parquet tables need it
+
+            _ROWS[cache_key] = pyarrow.parquet.ParquetFile(path).metadata.num_rows
+    return _ROWS[cache_key]
+
+
+def resolve_compile(training: Training, model: str, data: BaseModel) -> Training:
+    """Training with `compile = "auto"` decided: true or false, before any key is taken."""
+    if training.compile != "auto":
+        return training
+    edges = declared_edges(data)
+    payback = COMPILE_PAYBACK_EDGE_EPOCHS.get(model)
+    wanted = (
+        edges is not None
+        and payback is not None
+        and edges >= COMPILE_MIN_EDGES
+        and edges * training.epochs >= payback
+    )
+    return training.model_copy(update={"compile": wanted})
+
 
 def read_suite_file(path: str | Path) -> dict:
     """Raw TOML of a suite file, with syntax errors reported by line and column."""
@@ -105,7 +175,9 @@ def expand(suite: Suite) -> list[RunSpec]:
     runs = []
     for design in design_points(suite):
         options = design.options
-        training = options.training.apply(suite.training)
+        training = resolve_compile(
+            options.training.apply(suite.training), options.model, suite.data
+        )
         for seed in suite.seed_list:
             runs.append(
                 RunSpec(

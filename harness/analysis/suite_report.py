@@ -55,9 +55,8 @@ def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFram
             from harness.tuning.study import current_tuned_runs
 
             return current_tuned_runs(frame, loaded).reset_index(drop=True)
-        return frame[frame["key"].isin({spec.key for spec in expand(loaded)})].reset_index(
-            drop=True
-        )
+        keys = {key for spec in expand(loaded) for key in spec.stored_keys}
+        return frame[frame["key"].isin(keys)].reset_index(drop=True)
     return store.load_runs(store_path, None if suite is None else [str(suite)])
 
 

@@ -16,7 +16,7 @@ import torch
 from harness.execution.pool import start_workers
 from harness.planning import RunSpec
 from harness.storage import store
-from harness.training.fit import RunResult, perform
+from harness.training.fit import RunResult, as_trained, perform
 
 
 @dataclass(frozen=True)
@@ -30,7 +30,8 @@ class Outcome:
 
 
 def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
-    """The store row of a finished run."""
+    """The store row of a finished run, keyed by the compile mode it actually used."""
+    spec = as_trained(spec, result)
     return {
         "suite": spec.suite,
         "contender": spec.contender,
@@ -67,12 +68,17 @@ def _worker_task(args: tuple[RunSpec, store.Store]) -> str:
 
 
 def pending(specs: list[RunSpec], store_path: store.Store) -> list[RunSpec]:
-    """Specs whose result is not stored yet (for their suite and contender)."""
+    """Specs whose result is not stored yet (for their suite and contender).
+
+    A compiled spec counts as stored when its eager twin is: a compile that failed once on this
+    machine is not retried on every invocation, and eager and compiled runs compute the same
+    thing (they differ in speed and in the last float bits).
+    """
     suites = {spec.suite for spec in specs}
     done = set()
     for suite in suites:
         done |= {(suite, c, k) for c, k in store.finished_keys(store_path, suite)}
-    return [s for s in specs if (s.suite, s.contender, s.key) not in done]
+    return [s for s in specs if not any((s.suite, s.contender, k) in done for k in s.stored_keys)]
 
 
 def _all_ready(results: list[multiprocessing.pool.AsyncResult]) -> bool:

@@ -107,7 +107,7 @@ def suite_runs(store_path: str | Path, specs: list[RunSpec]) -> pd.DataFrame:
     if not specs:
         return pd.DataFrame()
     runs = store.load_runs(store_path, sorted({spec.suite for spec in specs}))
-    wanted = {(spec.contender, spec.key) for spec in specs}
+    wanted = {(spec.contender, key) for spec in specs for key in spec.stored_keys}
     keep = [(c, k) in wanted for c, k in zip(runs["contender"], runs["key"], strict=True)]
     return runs[keep].reset_index(drop=True)
 

@@ -20,6 +20,8 @@ class StrictModel(BaseModel):
     # Options added after run keys were first stored: they enter a run key only when they
     # differ from their default, so runs and baselines stored before them keep their keys.
     keyed_when_set: ClassVar[frozenset[str]] = frozenset()
+    # values of such options that also stay out of a key, besides the default
+    unkeyed_values: ClassVar[dict[str, tuple]] = {}
 
     @model_validator(mode="before")
     @classmethod
@@ -151,12 +153,14 @@ def key_dump(model: BaseModel, exclude: set[str] | None = None) -> Any:
 def _key_value(value: Any, exclude: set[str]) -> Any:
     if isinstance(value, BaseModel):
         late = getattr(value, "keyed_when_set", frozenset())
+        unkeyed = getattr(value, "unkeyed_values", {})
         dumped = value.model_dump(mode="json", exclude=exclude or None)
         for name, field in type(value).model_fields.items():
             if name in exclude:
                 continue
             item = getattr(value, name)
-            if name in late and item == field.get_default(call_default_factory=True):
+            default = field.get_default(call_default_factory=True)
+            if name in late and (item == default or _among(item, unkeyed.get(name, ()))):
                 dumped.pop(name, None)
             elif isinstance(item, (BaseModel, list, tuple)):
                 dumped[name] = _key_value(item, set())
@@ -164,3 +168,8 @@ def _key_value(value: Any, exclude: set[str]) -> Any:
     if isinstance(value, (list, tuple)) and any(isinstance(v, BaseModel) for v in value):
         return [_key_value(v, set()) for v in value]
     return value
+
+
+def _among(item: Any, values: tuple) -> bool:
+    """Membership that tells true from 1 and false from 0."""
+    return any(type(item) is type(value) and item == value for value in values)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import statistics
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
@@ -19,8 +20,10 @@ from harness.models import build_model
 from harness.planning import RunSpec
 from harness.schema.contenders import ATTENTION_KINDS
 from harness.schema.training import Training
+from harness.training.compiled import Forward, use_compile_cache
 from harness.training.diagnostics import attention_diagnostics
 from harness.training.metrics import METRICS, fast_score, score
+from harness.training.resources import peak_resident_mb, reset_peak_resident
 
 MEBIBYTE = 2**20
 ADAM_STATES = 2  # first and second moment per parameter
@@ -41,6 +44,7 @@ class RunResult:
     peak_mb: float
     curve: list[float] = field(default_factory=list)
     extras: dict[str, Any] = field(default_factory=dict)
+    compiled: bool = False  # whether training ran compiled to the end (no fall-back)
 
 
 class ActivationMeter:
@@ -87,36 +91,55 @@ def fit(
 
     `on_epoch(epoch, validation_score)` may raise to stop the run early (used by pruning).
     Peak memory is the tensor memory of a training step: parameters, gradients, Adam state,
-    inputs, and the activations autograd keeps for backward (measured, not sampled).
+    inputs, and the activations autograd keeps for backward (measured, not sampled, on the
+    first epoch, which is always eager).
+
+    With `training.compile` true, epochs from the second on run the compiled model (see
+    harness.training.compiled); `compile_seconds` is what the second epoch took beyond a
+    typical epoch, and is left out of `seconds_per_epoch`.
     """
     classes = int(data.y.max()) + 1
     optimizer = torch.optim.Adam(
         model.parameters(), lr=training.learning_rate, weight_decay=training.weight_decay
     )
+    forward = Forward(model, training.compile is True)
     x, edge_index, y = data.x, data.edge_index, data.y
     train_y, val_y = y[split.train], y[split.validation]
     seen = data if training_graph is None else training_graph
     seen_rows = split.train if training_graph is None else training_graph.train_rows
+
+    def training_loss(network: nn.Module) -> torch.Tensor:
+        # the one place training data is fed: the whole (training) graph, in one batch
+        logits = network(seen.x, seen.edge_index)
+        return nn.functional.cross_entropy(logits[seen_rows], train_y)
+
+    def descend(loss: torch.Tensor) -> None:
+        optimizer.zero_grad()
+        loss.backward()
+        optimizer.step()
+
+    def validate(network: nn.Module) -> float:
+        with torch.no_grad():
+            return fast_score(metric, network(x, edge_index)[split.validation], val_y, classes)
+
     best_score, best_epoch, best_state = -float("inf"), 0, snapshot(model)
     curve: list[float] = []
+    epoch_seconds: list[float] = []
     meter = ActivationMeter()
     started = time.perf_counter()
     epoch = 0
     for epoch in range(1, training.epochs + 1):
+        epoch_started = time.perf_counter()
         model.train()
-        optimizer.zero_grad()
         if epoch == 1:
             with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
-                logits = model(seen.x, seen.edge_index)
-                loss = nn.functional.cross_entropy(logits[seen_rows], train_y)
+                loss = training_loss(model)
+            descend(loss)
         else:
-            logits = model(seen.x, seen.edge_index)
-            loss = nn.functional.cross_entropy(logits[seen_rows], train_y)
-        loss.backward()
-        optimizer.step()
+            forward.guarded(lambda network: descend(training_loss(network)))
         model.eval()
-        with torch.no_grad():
-            validation = fast_score(metric, model(x, edge_index)[split.validation], val_y, classes)
+        validation = validate(model) if epoch == 1 else forward.guarded(validate)
+        epoch_seconds.append(time.perf_counter() - epoch_started)
         curve.append(validation)
         if validation > best_score:
             best_score, best_epoch = validation, epoch
@@ -126,10 +149,11 @@ def fit(
         if epoch - best_epoch >= training.patience:
             break
     train_seconds = time.perf_counter() - started
+    compile_seconds = compile_share(epoch_seconds) if training.compile is True else 0.0
     model.load_state_dict(best_state)
     model.eval()
     with torch.no_grad():
-        logits = model(x, edge_index)
+        logits = forward.guarded(lambda network: network(x, edge_index))
     test_logits, test_y = logits[split.test], y[split.test]
     test_scores = {
         name: score(name, test_logits, test_y, classes) if len(test_y) else float("nan")
@@ -138,6 +162,7 @@ def fit(
     params = sum(p.numel() for p in model.parameters())
     parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
     peak = parameter_bytes * (2 + ADAM_STATES) + tensor_bytes(x, edge_index, y) + meter.bytes
+    compiled = forward.mode == "compiled"
     return RunResult(
         val_metric=score(metric, logits[split.validation], val_y, classes),
         test_metric=test_scores[metric],
@@ -145,11 +170,37 @@ def fit(
         epochs=epoch,
         best_epoch=best_epoch,
         seconds=time.perf_counter() - started,
-        seconds_per_epoch=train_seconds / epoch,
+        seconds_per_epoch=(train_seconds - compile_seconds) / epoch,
         params=params,
         peak_mb=peak / MEBIBYTE,
         curve=curve,
+        extras={"compile": compile_record(compiled, compile_seconds, forward.warning)},
+        compiled=compiled,
     )
+
+
+def compile_share(epoch_seconds: list[float]) -> float:
+    """Seconds the first compiled epoch (the second) took beyond a typical epoch: the median of
+    the later ones, or the eager first epoch when there are none."""
+    if len(epoch_seconds) < 2:
+        return 0.0
+    later = epoch_seconds[2:] or epoch_seconds[:1]
+    return max(0.0, epoch_seconds[1] - statistics.median(later))
+
+
+def compile_record(compiled: bool, seconds: float, warning: str | None) -> dict[str, Any]:
+    """extras.compile of a run: the mode used, the compile seconds, and the fall-back warning."""
+    record: dict[str, Any] = {"mode": "compiled" if compiled else "eager", "seconds": seconds}
+    if warning is not None:
+        record["warning"] = warning
+    return record
+
+
+def as_trained(spec: RunSpec, result: RunResult) -> RunSpec:
+    """The spec with the compile mode the run used: a run that fell back is stored as eager."""
+    if spec.training.compile is True and not result.compiled:
+        return replace(spec, training=spec.training.model_copy(update={"compile": False}))
+    return spec
 
 
 def perform(
@@ -161,7 +212,14 @@ def perform(
 
     `validation_only` (tuning) drops the test nodes from the split before training: the test
     indices are never read, and the test scores are NaN.
+
+    extras also get `threads` (torch threads of this run) and `peak_resident_mb` (the process's
+    peak resident memory during the run, see harness.training.resources).
     """
+    measured = reset_peak_resident()
+    threads = torch.get_num_threads()
+    if spec.training.compile is True:
+        use_compile_cache(spec.hop_cache)
     data = load_graph(spec.data)
     split = make_split(data, spec.split, spec.seed)
     if validation_only:
@@ -184,4 +242,7 @@ def perform(
         graph = started.data
         diagnostics = attention_diagnostics(model, graph.x, graph.edge_index, graph.y)
         result = replace(result, extras={**result.extras, "attention": diagnostics})
-    return result
+    resident = peak_resident_mb() if measured else None
+    return replace(
+        result, extras={**result.extras, "threads": threads, "peak_resident_mb": resident}
+    )

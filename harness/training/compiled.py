@@ -1,0 +1,73 @@
+"""torch.compile for one run: the on-disk cache, and the fall-back to eager when it fails."""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable
+from pathlib import Path
+from typing import TypeVar
+
+import torch
+from torch import nn
+
+# inductor is torch's default compiler; tests swap in a backend that raises
+BACKEND: str | Callable = "inductor"
+CACHE_VARIABLE = "TORCHINDUCTOR_CACHE_DIR"
+
+Result = TypeVar("Result")
+
+
+def use_compile_cache(cache_folder: str) -> None:
+    """Compiled kernels go under Heedful's cache folder (`compile/`), shared by every process and
+    night that uses the folder; a TORCHINDUCTOR_CACHE_DIR set by the user wins."""
+    os.environ.setdefault(CACHE_VARIABLE, str(Path(cache_folder).resolve() / "compile"))
+
+
+class Forward:
+    """The model as the training loop calls it: eager, or compiled with a fall-back to eager.
+
+    `guarded(action)` runs `action(model)` on the compiled model; if compiling (or the compiled
+    code) raises, the random state is put back, the run switches to eager for good, and the
+    action runs once more eagerly. The first compiled call happens before any weight changes
+    (the action's optimizer step comes last), so a run that falls back at once trains exactly
+    as an eager run would.
+    """
+
+    def __init__(self, model: nn.Module, compile_model: bool):
+        self.model = model
+        self.compiled: nn.Module | None = None
+        self.warning: str | None = None
+        if compile_model:
+            # dropout draws from torch's own generator, as eager does: a seed gives the same
+            # masks in both modes, so compiled and eager runs differ only in float rounding
+            torch._inductor.config.fallback_random = True
+            # static shapes: one graph per run, recompiled only for a graph of another size
+            self.compiled = torch.compile(model, backend=BACKEND, dynamic=False)
+
+    @property
+    def mode(self) -> str:
+        return "compiled" if self.compiled is not None else "eager"
+
+    def guarded(self, action: Callable[[nn.Module], Result]) -> Result:
+        if self.compiled is None:
+            return action(self.model)
+        state = torch.get_rng_state()
+        try:
+            return action(self.compiled)
+        except Exception as error:  # any failure of the compiled path: no crash, eager instead
+            torch.set_rng_state(state)
+            self.fall_back(error)
+            return action(self.model)
+
+    def fall_back(self, error: Exception) -> None:
+        cause: BaseException = error
+        # dynamo wraps the compiler's own error (as inner_exception or as the cause)
+        while (inner := getattr(cause, "inner_exception", None) or cause.__cause__) is not None:
+            cause = inner
+        first_line = (str(cause).strip().splitlines() or [""])[0][:200]
+        self.warning = (
+            f"compiling failed ({type(error).__name__}), trained eagerly instead: "
+            f"{type(cause).__name__}: {first_line}"
+        )
+        self.compiled = None
+        torch._dynamo.reset()  # drop half-built graphs and guards of the failed attempt
