@@ -21,6 +21,7 @@ from torch import nn
 from torch_geometric.nn import GATConv, GATv2Conv, MessagePassing, TransformerConv
 from torch_geometric.utils import add_self_loops, remove_self_loops
 
+from harness.models.graph_cache import EdgeCache
 from harness.models.stack import ACTIVATIONS
 from harness.schema.contenders import AttentionOptions
 
@@ -85,6 +86,7 @@ class AttentionStack(nn.Module):
         self.dropout = nn.Dropout(dropout)
         self.attend_to_self = attend_to_self
         self.projection = projection
+        self.edge_cache = EdgeCache()
 
     def reset_parameters(self) -> None:
         for layer in self.layers:
@@ -93,11 +95,15 @@ class AttentionStack(nn.Module):
             self.projection.reset_parameters()
 
     def attention_edges(self, edge_index: torch.Tensor, nodes: int) -> torch.Tensor:
-        """The edges attention runs on: the given ones, with exactly one self-loop if asked."""
+        """The edges attention runs on: the given ones, with exactly one self-loop if asked;
+        built once per graph (harness.models.graph_cache), in the given order, loops last."""
+        return self.edge_cache.get(edge_index, nodes, torch.float32, self.build_edges)[0]
+
+    def build_edges(self, edge_index: torch.Tensor, nodes: int, dtype: torch.dtype) -> tuple:
         edge_index, _ = remove_self_loops(edge_index)
         if self.attend_to_self:
             edge_index, _ = add_self_loops(edge_index, num_nodes=nodes)
-        return edge_index
+        return (edge_index,)
 
     def run(
         self, x: torch.Tensor, edge_index: torch.Tensor, keep_attention: bool = False

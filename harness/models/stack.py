@@ -2,8 +2,12 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import torch
 from torch import nn
+
+from harness.models.graph_cache import EdgeCache
 
 ACTIVATIONS = {
     "relu": nn.ReLU,
@@ -14,24 +18,45 @@ ACTIVATIONS = {
 }
 
 
-class LayerStack(nn.Module):
-    """h^{l+1} = act(layer_l(dropout(h^l), edges)); the last layer's output are class logits."""
+# what a stack hands its layers after the features: () for no edges, (edge_index,), or tensors
+# derived from the edges once per graph, such as graph convolution's normalised weights
+GraphInputs = Callable[[torch.Tensor, int, torch.dtype], tuple[torch.Tensor, ...]]
 
-    def __init__(self, layers: list[nn.Module], activation: str, dropout: float, uses_edges: bool):
+
+def no_edges(edge_index: torch.Tensor, nodes: int, dtype: torch.dtype) -> tuple:
+    return ()
+
+
+def given_edges(edge_index: torch.Tensor, nodes: int, dtype: torch.dtype) -> tuple:
+    return (edge_index,)
+
+
+class LayerStack(nn.Module):
+    """h^{l+1} = act(layer_l(dropout(h^l), edges)); the last layer's output are class logits.
+
+    `graph_inputs(edge_index, nodes, dtype)` gives what each layer takes after the features;
+    it runs once per graph (harness.models.graph_cache), not once per forward pass.
+    """
+
+    def __init__(
+        self, layers: list[nn.Module], activation: str, dropout: float, graph_inputs: GraphInputs
+    ):
         super().__init__()
         self.layers = nn.ModuleList(layers)
         self.activation = ACTIVATIONS[activation]()
         self.dropout = nn.Dropout(dropout)
-        self.uses_edges = uses_edges
+        self.graph_inputs = graph_inputs
+        self.edge_cache = EdgeCache()
 
     def reset_parameters(self) -> None:
         for layer in self.layers:
             layer.reset_parameters()
 
     def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
+        graph = self.edge_cache.get(edge_index, x.size(0), x.dtype, self.graph_inputs)
         for index, layer in enumerate(self.layers):
             x = self.dropout(x)
-            x = layer(x, edge_index) if self.uses_edges else layer(x)
+            x = layer(x, *graph)
             if index < len(self.layers) - 1:
                 x = self.activation(x)
         return x
