@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import os
 import signal
 import sqlite3
@@ -213,3 +214,23 @@ def test_a_worker_gives_the_figures_of_this_process(tiny_suite, method):
         local.params,
     )
     assert remote.curve == local.curve and remote.test_scores == local.test_scores
+
+
+def test_a_lone_last_run_on_a_large_graph_gets_every_core_it_was_given(
+    tiny_suite, store_path, monkeypatch
+):
+    monkeypatch.setattr(harness.execution.local, "available_cores", lambda: 2)
+    spec = expand(load_suite(tiny_suite))[0]
+    large = spec.data.model_copy(update={"nodes": 100_000, "average_degree": 20})
+    large_spec = dataclasses.replace(spec, data=large)
+    assert harness.execution.local.last_run_threads(large_spec, jobs=2, threads=1) == 2
+    assert harness.execution.local.last_run_threads(large_spec, jobs=1, threads=1) == 1
+    assert harness.execution.local.last_run_threads(spec, jobs=2, threads=1) == 1  # small graph
+    # one run left with two jobs: it trains with both cores, and its record says so
+    monkeypatch.setattr(harness.execution.local, "LARGE_GRAPH_EDGES", 0)
+    try:
+        execute([spec], store_path, jobs=2, threads=1)
+    finally:
+        torch.set_num_threads(1)
+    extras = store.load_runs(store_path)["extras"].iloc[0]
+    assert extras["threads"] == 2 and torch.get_num_threads() == 1

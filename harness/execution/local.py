@@ -2,21 +2,25 @@
 
 from __future__ import annotations
 
+import contextlib
 import multiprocessing
 import multiprocessing.pool
 import threading
 import time
 from collections import deque
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from typing import Any
 
 import torch
 
-from harness.execution.pool import start_workers
-from harness.planning import RunSpec
+from harness.execution.pool import available_cores, start_workers
+from harness.planning import COMPILE_MIN_EDGES, RunSpec, declared_edges
 from harness.storage import store
 from harness.training.fit import RunResult, as_trained, perform
+
+# a graph this large gives a lone last run every core (README, Processes and threads)
+LARGE_GRAPH_EDGES = COMPILE_MIN_EDGES
 
 
 @dataclass(frozen=True)
@@ -61,6 +65,30 @@ def run_and_store(spec: RunSpec, store_path: store.Store) -> str:
     """One run, committed to the store as soon as it ends."""
     store.save_run(store_path, record_of(spec, perform(spec)))
     return spec.contender
+
+
+def last_run_threads(spec: RunSpec, jobs: int, threads: int) -> int:
+    """Torch threads of a run that trains alone, with no other run left to start.
+
+    On a large graph (declared directed edges >= LARGE_GRAPH_EDGES) it gets every core the
+    command was given, jobs x threads within the usable cores, since the other processes would
+    sit idle; on a small graph more threads gain little, so it keeps `threads`.
+    """
+    edges = declared_edges(spec.data)
+    if jobs > 1 and edges is not None and edges >= LARGE_GRAPH_EDGES:
+        return max(threads, min(jobs * threads, available_cores()))
+    return threads
+
+
+@contextlib.contextmanager
+def torch_threads(count: int) -> Iterator[None]:
+    """This process trains on `count` torch threads inside the block."""
+    before = torch.get_num_threads()
+    torch.set_num_threads(count)
+    try:
+        yield
+    finally:
+        torch.set_num_threads(before)
 
 
 def _worker_task(args: tuple[RunSpec, store.Store]) -> str:
@@ -134,7 +162,9 @@ def _share_with_workers(
         for _ in range(jobs - 1):
             submit()
         while (spec := take()) is not None:
-            count(run_and_store(spec, store_path))
+            alone = not queue and _all_ready(pending_results)
+            with torch_threads(last_run_threads(spec, jobs, threads) if alone else threads):
+                count(run_and_store(spec, store_path))
         while not _all_ready(pending_results):
             time.sleep(0.02)
         if failures:
@@ -174,8 +204,9 @@ def execute(
             workers.join()
         torch.set_num_threads(threads)
         try:
-            for spec in todo:
-                on = run_and_store(spec, store_path)
+            for spec in todo:  # with jobs > 1, a single run left
+                with torch_threads(last_run_threads(spec, jobs, threads)):
+                    on = run_and_store(spec, store_path)
                 finished += 1
                 if on_finished:
                     on_finished(on)
