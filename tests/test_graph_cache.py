@@ -5,13 +5,19 @@ from __future__ import annotations
 
 import copy
 
+import pytest
 import torch
 from torch_geometric.nn import GCNConv
 from torch_geometric.utils import add_self_loops, remove_self_loops
 
 from harness.data import load_graph
 from harness.models import build_model
-from harness.schema.contenders import AttentionOptions, ConvolutionOptions
+from harness.schema.contenders import (
+    AttentionOptions,
+    ConvolutionOptions,
+    MLPOptions,
+    NeighbourMeanOptions,
+)
 from harness.schema.data import SyntheticData
 
 GRAPH = SyntheticData(source="synthetic", nodes=60, classes=3, average_degree=4, graph_seed=5)
@@ -69,5 +75,28 @@ def test_a_copied_model_derives_its_edges_afresh():
     stack = build_model(AttentionOptions(model="gat", heads=2, hidden=4), 8, 3)
     built = stack.attention_edges(data.edge_index, data.num_nodes)
     twin = copy.deepcopy(stack)
-    assert twin.edge_cache.source is None
+    assert twin.edge_cache.sources == ()
     assert torch.equal(twin.attention_edges(data.edge_index, data.num_nodes), built)
+
+
+@pytest.mark.parametrize(
+    "options",
+    [
+        AttentionOptions(model="gat", heads=2, hidden=4),
+        AttentionOptions(model="gatv2", heads=[2, 3], hidden=4, head_merge="concatenate"),
+        AttentionOptions(model="dot_product", heads=2, hidden=4, layers=3, residual=True),
+        ConvolutionOptions(model="gcn", hidden=16),
+        NeighbourMeanOptions(model="sage", hidden=16),
+        MLPOptions(model="mlp", hidden=16),
+    ],
+    ids=lambda options: options.model,
+)
+def test_validation_rows_alone_get_the_logits_of_a_full_pass_bit_for_bit(options):
+    data = load_graph(GRAPH)
+    torch.manual_seed(0)
+    model = build_model(options, data.num_features, 3).eval()
+    rows = torch.tensor([5, 1, 40, 17, 33])
+    with torch.no_grad():
+        full = model(data.x, data.edge_index)
+        alone, again = (model(data.x, data.edge_index, rows) for _ in range(2))
+    assert torch.equal(alone, full[rows]) and torch.equal(again, full[rows])

@@ -28,8 +28,10 @@ class EmbeddingStart(nn.Module):
         self.embedding = nn.Embedding(rows, width)
         self.inner = inner
 
-    def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
-        return self.inner(self.embedding(x), edge_index)
+    def forward(
+        self, x: torch.Tensor, edge_index: torch.Tensor, rows: torch.Tensor | None = None
+    ) -> torch.Tensor:
+        return self.inner(self.embedding(x), edge_index, rows)
 
 
 def build_model(

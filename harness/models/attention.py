@@ -21,7 +21,7 @@ from torch import nn
 from torch_geometric.nn import GATConv, GATv2Conv, MessagePassing, TransformerConv
 from torch_geometric.utils import add_self_loops, remove_self_loops
 
-from harness.models.graph_cache import EdgeCache
+from harness.models.graph_cache import EdgeCache, graph_inputs_of, into_rows
 from harness.models.stack import ACTIVATIONS
 from harness.schema.contenders import AttentionOptions
 
@@ -87,6 +87,7 @@ class AttentionStack(nn.Module):
         self.attend_to_self = attend_to_self
         self.projection = projection
         self.edge_cache = EdgeCache()
+        self.row_cache = EdgeCache()
 
     def reset_parameters(self) -> None:
         for layer in self.layers:
@@ -97,7 +98,11 @@ class AttentionStack(nn.Module):
     def attention_edges(self, edge_index: torch.Tensor, nodes: int) -> torch.Tensor:
         """The edges attention runs on: the given ones, with exactly one self-loop if asked;
         built once per graph (harness.models.graph_cache), in the given order, loops last."""
-        return self.edge_cache.get(edge_index, nodes, torch.float32, self.build_edges)[0]
+        return self.attention_graph(edge_index, nodes)[0]
+
+    def attention_graph(self, edge_index: torch.Tensor, nodes: int) -> tuple[torch.Tensor, ...]:
+        build = self.build_edges
+        return graph_inputs_of(self.edge_cache, edge_index, nodes, torch.float32, build)
 
     def build_edges(self, edge_index: torch.Tensor, nodes: int, dtype: torch.dtype) -> tuple:
         edge_index, _ = remove_self_loops(edge_index)
@@ -124,8 +129,20 @@ class AttentionStack(nn.Module):
             x = self.projection(x)
         return x, edges, weights
 
-    def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
-        return self.run(x, edge_index)[0]
+    def forward(
+        self, x: torch.Tensor, edge_index: torch.Tensor, rows: torch.Tensor | None = None
+    ) -> torch.Tensor:
+        """Logits; with `rows`, of those rows only, the last layer attending for them alone."""
+        if rows is None:
+            return self.run(x, edge_index)[0]
+        nodes = x.size(0)
+        graph = self.attention_graph(edge_index, nodes)
+        for layer in self.layers[:-1]:
+            x = self.activation(layer(self.dropout(x), graph[0]))
+        (into,) = into_rows(self.row_cache, graph, rows, nodes)
+        x = self.layers[-1](self.dropout(x), into)
+        # the projection over every row, as in a full pass: the same matrix product, bit for bit
+        return (x if self.projection is None else self.projection(x))[rows]
 
 
 def build(options: AttentionOptions, in_dim: int, out_dim: int) -> nn.Module:

@@ -1,9 +1,10 @@
 """What a model derives from a graph's edges once and reuses on every forward pass.
 
 Attention edge sets and graph-convolution weights depend on the graph only, not on the
-weights, yet PyG layers rebuild them on every call. A model keeps one `EdgeCache`: while the
+weights, yet PyG layers rebuild them on every call. A model keeps an `EdgeCache`: while the
 same edge tensor comes back (training and validation epochs of one run), the derived tensors
-are reused; any other edge tensor (another graph, a subgraph) is derived afresh.
+are reused; any other edge tensor (another graph, a subgraph) is derived afresh. A second
+cache keeps the last layer's edges into the validation rows (see `into_rows`).
 """
 
 from __future__ import annotations
@@ -14,26 +15,24 @@ import torch
 
 
 class EdgeCache:
-    """One entry, keyed by the edge tensor itself (held, so its address cannot be reused by
-    another tensor), its in-place version counter, the node count and the feature dtype."""
+    """One entry, keyed by the source objects themselves (held, so that no other tensor can
+    take their address) and by plain values such as in-place version counters and sizes."""
 
     def __init__(self) -> None:
-        self.source: torch.Tensor | None = None
+        self.sources: tuple = ()
         self.key: tuple = ()
         self.value: tuple[torch.Tensor, ...] = ()
 
     @torch.compiler.disable  # a lookup, not math: compiled code calls it as plain Python
     def get(
-        self,
-        edge_index: torch.Tensor,
-        nodes: int,
-        dtype: torch.dtype,
-        build: Callable[[torch.Tensor, int, torch.dtype], tuple[torch.Tensor, ...]],
+        self, sources: tuple, key: tuple, build: Callable[[], tuple[torch.Tensor, ...]]
     ) -> tuple[torch.Tensor, ...]:
-        key = (edge_index._version, nodes, dtype)
-        if edge_index is not self.source or key != self.key:
-            self.value = build(edge_index, nodes, dtype)
-            self.source, self.key = edge_index, key
+        same = len(sources) == len(self.sources) and all(
+            new is old for new, old in zip(sources, self.sources, strict=True)
+        )
+        if not same or key != self.key:
+            self.value = build()
+            self.sources, self.key = sources, key
         return self.value
 
     def __getstate__(self) -> dict:
@@ -41,3 +40,33 @@ class EdgeCache:
 
     def __setstate__(self, state: dict) -> None:
         self.__init__()
+
+
+def graph_inputs_of(
+    cache: EdgeCache,
+    edge_index: torch.Tensor,
+    nodes: int,
+    dtype: torch.dtype,
+    build: Callable[[torch.Tensor, int, torch.dtype], tuple[torch.Tensor, ...]],
+) -> tuple[torch.Tensor, ...]:
+    """`build(edge_index, nodes, dtype)`, computed once per edge tensor and reused."""
+    key = (edge_index._version, nodes, dtype)
+    return cache.get((edge_index,), key, lambda: build(edge_index, nodes, dtype))
+
+
+def into_rows(
+    cache: EdgeCache, graph: tuple[torch.Tensor, ...], rows: torch.Tensor, nodes: int
+) -> tuple[torch.Tensor, ...]:
+    """The graph inputs (edge_index, then per-edge tensors) kept only for edges whose target is
+    one of `rows`, in their order: a last layer on them gives the same outputs at those rows
+    (each row sums the same terms in the same order) without computing the other rows."""
+
+    def build() -> tuple[torch.Tensor, ...]:
+        if not graph:
+            return graph
+        wanted = torch.zeros(nodes, dtype=torch.bool)
+        wanted[rows] = True
+        keep = wanted[graph[0][1]]
+        return (graph[0][:, keep], *(tensor[keep] for tensor in graph[1:]))
+
+    return cache.get((graph, rows), (rows._version, nodes), build)

@@ -7,7 +7,7 @@ from collections.abc import Callable
 import torch
 from torch import nn
 
-from harness.models.graph_cache import EdgeCache
+from harness.models.graph_cache import EdgeCache, graph_inputs_of, into_rows
 
 ACTIVATIONS = {
     "relu": nn.ReLU,
@@ -35,7 +35,8 @@ class LayerStack(nn.Module):
     """h^{l+1} = act(layer_l(dropout(h^l), edges)); the last layer's output are class logits.
 
     `graph_inputs(edge_index, nodes, dtype)` gives what each layer takes after the features;
-    it runs once per graph (harness.models.graph_cache), not once per forward pass.
+    it runs once per graph (harness.models.graph_cache), not once per forward pass. With
+    `rows`, the output is the logits of those rows only, the last layer computed for them alone.
     """
 
     def __init__(
@@ -47,17 +48,24 @@ class LayerStack(nn.Module):
         self.dropout = nn.Dropout(dropout)
         self.graph_inputs = graph_inputs
         self.edge_cache = EdgeCache()
+        self.row_cache = EdgeCache()
 
     def reset_parameters(self) -> None:
         for layer in self.layers:
             layer.reset_parameters()
 
-    def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
-        graph = self.edge_cache.get(edge_index, x.size(0), x.dtype, self.graph_inputs)
+    def forward(
+        self, x: torch.Tensor, edge_index: torch.Tensor, rows: torch.Tensor | None = None
+    ) -> torch.Tensor:
+        nodes = x.size(0)
+        graph = graph_inputs_of(self.edge_cache, edge_index, nodes, x.dtype, self.graph_inputs)
+        last = len(self.layers) - 1
         for index, layer in enumerate(self.layers):
             x = self.dropout(x)
+            if index == last and rows is not None:
+                return layer(x, *into_rows(self.row_cache, graph, rows, nodes))[rows]
             x = layer(x, *graph)
-            if index < len(self.layers) - 1:
+            if index < last:
                 x = self.activation(x)
         return x
 

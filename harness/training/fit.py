@@ -119,8 +119,9 @@ def fit(
         optimizer.step()
 
     def validate(network: nn.Module) -> float:
+        # the last layer only for the validation rows; the same logits there as a full pass
         with torch.no_grad():
-            return fast_score(metric, network(x, edge_index)[split.validation], val_y, classes)
+            return fast_score(metric, network(x, edge_index, split.validation), val_y, classes)
 
     best_score, best_epoch, best_state = -float("inf"), 0, snapshot(model)
     curve: list[float] = []
