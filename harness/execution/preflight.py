@@ -7,7 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from harness.data import load_graph
-from harness.data.assemble import cleaning_notes
+from harness.data.assemble import cleaning_notes, edge_count
 from harness.data.feature_starts import check_contender_graphs
 from harness.data.homophily import measure_homophily
 from harness.data.splits import make_split
@@ -50,7 +50,7 @@ def preflight(suite: Suite, source: str) -> DataFacts:
     measured = measure_homophily(data.edge_index, data.y)
     return DataFacts(
         data.num_nodes,
-        data.edge_index.size(1) // 2,
+        edge_count(data),
         classes,
         data.num_features,
         measured.edge,
