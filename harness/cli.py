@@ -132,8 +132,9 @@ def run_untuned(args: argparse.Namespace, suite, workers) -> int:
     console.print(
         f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}", markup=False
     )
-    print_summary(summarise(label_points(runs)), console)
-    print_ablation(ablation_view(runs), console)
+    confidence = suite.analysis.confidence
+    print_summary(summarise(label_points(runs), confidence), console)
+    print_ablation(ablation_view(runs, confidence), console)
     print_verdicts(analyse(runs, suite.analysis), console)
     if suite.homophily_map is not None:
         return run_homophily_map(args, suite, profile)
@@ -188,7 +189,7 @@ def run_tuned(args: argparse.Namespace, suite, url: str) -> int:
     print_tuning_of(suite, url)
     runs = store.load_runs(args.store, [suite.name])
     runs = runs[runs["key"].isin(outcome.keys)]
-    print_summary(summarise(runs), console)
+    print_summary(summarise(runs, suite.analysis.confidence), console)
     if not runs.empty:
         print_verdicts(analyse(runs, suite.analysis), console)
     return 0
@@ -255,9 +256,10 @@ def command_show(args: argparse.Namespace) -> int:
             f"{args.store}: no stored runs" + (f" for suite '{args.suite}'" if args.suite else "")
         )
     if args.format == "table":
-        print_summary(summarise(label_points(runs)), console)
-        print_ablation(ablation_view(runs), console)
-        for report in analyse_each(runs, settings_of(args.suite)):
+        settings = settings_of(args.suite)
+        print_summary(summarise(label_points(runs), settings.confidence), console)
+        print_ablation(ablation_view(runs, settings.confidence), console)
+        for report in analyse_each(runs, settings):
             print_verdicts(report, console)
     else:
         writer = {"json": records.as_json, "csv": records.as_csv, "md": records.as_markdown}

@@ -14,7 +14,7 @@ import pandas as pd
 import pytest
 from torch_geometric.utils import homophily
 
-from harness.analysis.stats import summarise
+from harness.analysis.stats import summarise, t_interval
 from harness.cli import main
 from harness.data import load_graph
 from harness.planning import load_suite
@@ -87,6 +87,22 @@ def test_run_prints_the_table_and_a_rerun_reuses_everything(finished_store, tmp_
         assert cells[:2] == [model, "2"]  # model kind, seeds
         assert cells[2] == f"{expected['mean']:.3f} ± {expected['std']:.3f}"
         assert cells[5] == f"{expected['params']:,}"
+
+
+def test_terminal_intervals_follow_the_suites_confidence(finished_store, tmp_path, capsys):
+    suite, original = finished_store
+    copy = tmp_path / "runs.db"
+    shutil.copy(original, copy)
+    ninety = tmp_path / "tiny.toml"  # [analysis] is not part of the run key: all 6 runs reused
+    ninety.write_text(suite.read_text() + "\n[analysis]\nconfidence = 0.9\n", encoding="utf-8")
+    assert main(["run", str(ninety), "--store", str(copy), "--quiet"]) == 0
+    raw = capsys.readouterr().out
+    assert "90% t-interval" in flat(raw) and "95%" not in raw
+    runs = store.load_runs(copy)
+    values = runs[runs["contender"] == "attention"]["test_metric"].to_numpy(dtype=float)
+    low, high = t_interval(values, 0.9)
+    rows = {cells[1]: cells[2:] for cells in reversed(table_rows(raw))}
+    assert rows["attention"][3] == f"[{low:.3f}, {high:.3f}]"
 
 
 def test_best_contender_is_highlighted(finished_store):
