@@ -128,6 +128,8 @@ def test_show_json_has_one_record_per_run_with_documented_fields(finished_store,
     runs = store.load_runs(store_file).set_index("key")
     for record in records:
         assert record["test"] == runs.loc[record["key"], "test_metric"]
+        assert record["extras"] == runs.loc[record["key"], "extras"]
+    assert {head["layer"] for head in attention["extras"]["attention"]["heads"]} == {1, 2}
 
 
 def test_show_csv_markdown_and_table_agree(finished_store, capsys):
