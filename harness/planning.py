@@ -20,9 +20,14 @@ from harness.schema.ablation import (
     point_label,
 )
 from harness.schema.base import format_validation_error, key_dump
+from harness.schema.batching import check_batching
 from harness.schema.suite import Suite
 from harness.schema.training import Training
 from harness.schema.tuning import check_tuning
+
+
+TORCH_SAMPLER = "heedful_uniform"
+PYG_SAMPLER = "pyg_neighbor"
 
 
 @dataclass(frozen=True)
@@ -63,8 +68,19 @@ class RunSpec:
             "seed": self.seed,
             "version": harness.__version__,
         }
+        if self.training.sampled:  # the two samplers draw different batches from one seed
+            determining["sampler"] = sampler_in_use()
         text = json.dumps(determining, sort_keys=True, separators=(",", ":"))
         return hashlib.sha256(text.encode()).hexdigest()[:24]
+
+
+def sampler_in_use() -> str:
+    """The neighbour sampler of this installation: PyG's own needs pyg-lib or torch-sparse."""
+    import torch_geometric.typing  # only sampled runs pay for importing torch here
+
+    if torch_geometric.typing.WITH_PYG_LIB or torch_geometric.typing.WITH_TORCH_SPARSE:
+        return PYG_SAMPLER
+    return TORCH_SAMPLER
 
 
 def read_suite_file(path: str | Path) -> dict:
@@ -92,6 +108,7 @@ def parse_suite(raw: dict, source: str) -> Suite:
         raise InputError(format_validation_error(error, raw, source)) from None
     design_points(suite, source)  # ablation axes and levels, checked once here
     check_tuning(suite, source)  # search spaces against the contenders' options
+    check_batching(suite, source)  # fan-out lengths against each contender's layers
     return suite
 
 

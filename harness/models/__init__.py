@@ -28,8 +28,17 @@ class EmbeddingStart(nn.Module):
         self.embedding = nn.Embedding(rows, width)
         self.inner = inner
 
-    def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
-        return self.inner(self.embedding(x), edge_index)
+    def forward(
+        self, x: torch.Tensor, edge_index: torch.Tensor, edge_weight: torch.Tensor | None = None
+    ) -> torch.Tensor:
+        return self.inner(self.embedding(x), edge_index, edge_weight)
+
+
+def unwrap(model: nn.Module, x: torch.Tensor) -> tuple[nn.Module, torch.Tensor]:
+    """The layer stack and its input features (node ids looked up when the start embeds)."""
+    if isinstance(model, EmbeddingStart):
+        return model.inner, model.embedding(x)
+    return model, x
 
 
 def build_model(

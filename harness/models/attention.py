@@ -99,26 +99,42 @@ class AttentionStack(nn.Module):
             edge_index, _ = add_self_loops(edge_index, num_nodes=nodes)
         return edge_index
 
+    def message_edges(self, edge_index: torch.Tensor, nodes: int) -> tuple[torch.Tensor, None]:
+        return self.attention_edges(edge_index, nodes), None
+
+    def attention_step(
+        self, index: int, x: torch.Tensor, edges: torch.Tensor
+    ) -> tuple[torch.Tensor, torch.Tensor]:
+        """Layer `index` like `layer_step`, also returning its weights [edges, heads]."""
+        x, (_, alpha) = self.layers[index](self.dropout(x), edges, return_attention_weights=True)
+        return (self.activation(x) if index < len(self.layers) - 1 else x), alpha
+
+    def layer_step(
+        self, index: int, x: torch.Tensor, edges: torch.Tensor, weights: None = None
+    ) -> torch.Tensor:
+        x = self.layers[index](self.dropout(x), edges)
+        return self.activation(x) if index < len(self.layers) - 1 else x
+
+    def finish(self, x: torch.Tensor) -> torch.Tensor:
+        return x if self.projection is None else self.projection(x)
+
     def run(
         self, x: torch.Tensor, edge_index: torch.Tensor, keep_attention: bool = False
     ) -> tuple[torch.Tensor, torch.Tensor, list[torch.Tensor]]:
         """Logits, the attention edge set and (if kept) each layer's weights [edges, heads]."""
         edges = self.attention_edges(edge_index, x.size(0))
         weights: list[torch.Tensor] = []
-        for index, layer in enumerate(self.layers):
-            x = self.dropout(x)
+        for index in range(len(self.layers)):
             if keep_attention:
-                x, (_, alpha) = layer(x, edges, return_attention_weights=True)
+                x, alpha = self.attention_step(index, x, edges)
                 weights.append(alpha)
             else:
-                x = layer(x, edges)
-            if index < len(self.layers) - 1:
-                x = self.activation(x)
-        if self.projection is not None:
-            x = self.projection(x)
-        return x, edges, weights
+                x = self.layer_step(index, x, edges)
+        return self.finish(x), edges, weights
 
-    def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
+    def forward(
+        self, x: torch.Tensor, edge_index: torch.Tensor, edge_weight: None = None
+    ) -> torch.Tensor:
         return self.run(x, edge_index)[0]
 
 

@@ -15,7 +15,11 @@ ACTIVATIONS = {
 
 
 class LayerStack(nn.Module):
-    """h^{l+1} = act(layer_l(dropout(h^l), edges)); the last layer's output are class logits."""
+    """h^{l+1} = act(layer_l(dropout(h^l), edges)); the last layer's output are class logits.
+
+    The forward pass is also open layer by layer (`message_edges`, `layer_step`, `finish`), so
+    that inference can run each layer over chunks of target nodes (harness.training.inference).
+    """
 
     def __init__(self, layers: list[nn.Module], activation: str, dropout: float, uses_edges: bool):
         super().__init__()
@@ -28,13 +32,41 @@ class LayerStack(nn.Module):
         for layer in self.layers:
             layer.reset_parameters()
 
-    def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
-        for index, layer in enumerate(self.layers):
-            x = self.dropout(x)
-            x = layer(x, edge_index) if self.uses_edges else layer(x)
-            if index < len(self.layers) - 1:
-                x = self.activation(x)
+    def message_edges(
+        self, edge_index: torch.Tensor, nodes: int
+    ) -> tuple[torch.Tensor, torch.Tensor | None]:
+        """The edges (and edge weights, if any) every layer passes messages along."""
+        return edge_index, None
+
+    def layer_step(
+        self,
+        index: int,
+        x: torch.Tensor,
+        edges: torch.Tensor,
+        weights: torch.Tensor | None = None,
+    ) -> torch.Tensor:
+        """Layer `index` with its dropout before and activation after (none after the last)."""
+        layer = self.layers[index]
+        x = self.dropout(x)
+        if not self.uses_edges:
+            x = layer(x)
+        else:
+            x = layer(x, edges) if weights is None else layer(x, edges, weights)
+        return self.activation(x) if index < len(self.layers) - 1 else x
+
+    def finish(self, x: torch.Tensor) -> torch.Tensor:
+        """Logits from the last layer's output."""
         return x
+
+    def forward(
+        self, x: torch.Tensor, edge_index: torch.Tensor, edge_weight: torch.Tensor | None = None
+    ) -> torch.Tensor:
+        """`edge_weight`, when given, goes with `edge_index` as the finished message edges."""
+        if edge_weight is None:
+            edge_index, edge_weight = self.message_edges(edge_index, x.size(0))
+        for index in range(len(self.layers)):
+            x = self.layer_step(index, x, edge_index, edge_weight)
+        return self.finish(x)
 
 
 def widths(in_dim: int, hidden: int, out_dim: int, layers: int) -> list[tuple[int, int]]:

@@ -2,18 +2,35 @@
 
 from __future__ import annotations
 
+from typing import Annotated, ClassVar, Literal
+
 from pydantic import Field
 
 from harness.schema.base import StrictModel
 
+Batching = Literal["full", "sampled"]
+# neighbours drawn per layer, first layer first; "all" keeps every neighbour
+Fanout = list[Annotated[int, Field(ge=1, le=100_000)]] | Literal["all"]
+
 
 class Training(StrictModel):
-    """Full-batch training with Adam and early stopping on the validation metric."""
+    """Adam with early stopping on the validation metric, on the full graph at every step
+    (`batching = "full"`) or on neighbour-sampled batches of `batch_size` target nodes
+    (`batching = "sampled"`, `fanout` neighbours per layer)."""
+
+    keyed_when_set: ClassVar[frozenset[str]] = frozenset({"batching", "batch_size", "fanout"})
 
     epochs: int = Field(200, ge=1, le=100_000)
     patience: int = Field(50, ge=1, le=100_000)
     learning_rate: float = Field(0.01, gt=0, le=1)
     weight_decay: float = Field(5e-4, ge=0, le=1)
+    batching: Batching = "full"
+    batch_size: int = Field(1024, ge=1, le=10_000_000)
+    fanout: Fanout | None = Field(None, min_length=1)
+
+    @property
+    def sampled(self) -> bool:
+        return self.batching == "sampled"
 
 
 class TrainingOverride(StrictModel):
@@ -23,6 +40,9 @@ class TrainingOverride(StrictModel):
     patience: int | None = Field(None, ge=1, le=100_000)
     learning_rate: float | None = Field(None, gt=0, le=1)
     weight_decay: float | None = Field(None, ge=0, le=1)
+    batching: Batching | None = None
+    batch_size: int | None = Field(None, ge=1, le=10_000_000)
+    fanout: Fanout | None = Field(None, min_length=1)
 
     def apply(self, defaults: Training) -> Training:
         changes = {k: v for k, v in self.model_dump().items() if v is not None}
