@@ -25,7 +25,6 @@ from harness.schema.suite import Suite
 from harness.schema.training import Training
 from harness.schema.tuning import check_tuning
 
-
 TORCH_SAMPLER = "heedful_uniform"
 PYG_SAMPLER = "pyg_neighbor"
 

@@ -71,6 +71,8 @@ def attention_layer(
 class AttentionStack(nn.Module):
     """h^{l+1} = act(attention_l(dropout(h^l), N)); the last output (projected) are logits."""
 
+    uses_edges = True
+
     def __init__(
         self,
         layers: list[nn.Module],
@@ -101,6 +103,12 @@ class AttentionStack(nn.Module):
 
     def message_edges(self, edge_index: torch.Tensor, nodes: int) -> tuple[torch.Tensor, None]:
         return self.attention_edges(edge_index, nodes), None
+
+    def batch_edges(
+        self, edge_index: torch.Tensor, degree: torch.Tensor
+    ) -> tuple[torch.Tensor, None]:
+        """A sampled batch attends over its own edges (self-loops are added in `run`)."""
+        return edge_index, None
 
     def attention_step(
         self, index: int, x: torch.Tensor, edges: torch.Tensor

@@ -27,6 +27,11 @@ class ConvolutionStack(LayerStack):
     ) -> tuple[torch.Tensor, torch.Tensor | None]:
         return gcn_norm(edge_index, None, nodes, False, True, "source_to_target", torch.float32)
 
+    def batch_edges(
+        self, edge_index: torch.Tensor, degree: torch.Tensor
+    ) -> tuple[torch.Tensor, torch.Tensor | None]:
+        return sampled_weights(edge_index, degree)
+
 
 def sampled_weights(
     edge_index: torch.Tensor, degree: torch.Tensor

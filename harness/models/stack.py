@@ -38,6 +38,12 @@ class LayerStack(nn.Module):
         """The edges (and edge weights, if any) every layer passes messages along."""
         return edge_index, None
 
+    def batch_edges(
+        self, edge_index: torch.Tensor, degree: torch.Tensor
+    ) -> tuple[torch.Tensor, torch.Tensor | None]:
+        """Message edges of a sampled batch, given each batch node's full-graph in-degree."""
+        return edge_index, None
+
     def layer_step(
         self,
         index: int,

@@ -39,7 +39,7 @@ def check_batching(suite: Suite, source: str) -> None:
         if len(training.fanout) != layers:
             raise InputError(
                 f"{where}: given {training.fanout} ({len(training.fanout)} entries) for "
-                f"{design.label} with {layers} layers; allowed: one count per layer, or \"all\""
+                f'{design.label} with {layers} layers; allowed: one count per layer, or "all"'
             )
         if "layers" in tuned.get(design.contender, {}):
             raise InputError(

@@ -78,15 +78,13 @@ def chunked_logits(
     model.eval()
     stack, h = unwrap(model, x)
     nodes = h.size(0)
-    if not getattr(stack, "uses_edges", True):  # MLP: rows are independent
+    if not stack.uses_edges:  # MLP: rows are independent
         edge_index = edge_index[:, :0]
     edges, weights = stack.message_edges(edge_index, nodes)
     graph = ChunkedGraph(edges, weights, nodes, chunk_nodes)
     for index in range(len(stack.layers)):
         parts = [
-            stack.layer_step(index, h[c.local], c.edge_index, graph.chunk_weights(c))[
-                c.target_rows
-            ]
+            stack.layer_step(index, h[c.local], c.edge_index, graph.chunk_weights(c))[c.target_rows]
             for c in graph.chunks()
         ]
         h = torch.cat(parts)
