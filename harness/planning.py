@@ -25,6 +25,7 @@ from harness.schema.suite import Suite
 from harness.schema.training import Training
 from harness.schema.tuning import check_tuning
 
+UNSAMPLED = {"batch_size", "fanout"}
 TORCH_SAMPLER = "heedful_uniform"
 PYG_SAMPLER = "pyg_neighbor"
 
@@ -57,17 +58,19 @@ class RunSpec:
     @property
     def key(self) -> str:
         """Hash of what determines the result; the suite and contender names are labels only."""
+        sampled = self.training.sampled
         determining = {
             "data": key_dump(self.data),
             "split": key_dump(self.split),
             "options": key_dump(self.options, exclude={"training"}),
-            "training": key_dump(self.training),
+            # batch size and fan-out mean nothing to a full-batch run
+            "training": key_dump(self.training, exclude=set() if sampled else UNSAMPLED),
             "metric": self.metric,
             "setting": self.setting,
             "seed": self.seed,
             "version": harness.__version__,
         }
-        if self.training.sampled:  # the two samplers draw different batches from one seed
+        if sampled:  # the two samplers draw different batches from one seed
             determining["sampler"] = sampler_in_use()
         text = json.dumps(determining, sort_keys=True, separators=(",", ":"))
         return hashlib.sha256(text.encode()).hexdigest()[:24]

@@ -81,7 +81,7 @@ def test_every_shipped_suite_keeps_its_run_keys(name):
 class LaterTraining(Training):
     """Training with one option added after keys were stored."""
 
-    keyed_when_set: ClassVar[frozenset[str]] = frozenset({"smoothing"})
+    keyed_when_set: ClassVar[frozenset[str]] = Training.keyed_when_set | {"smoothing"}
     smoothing: float = 0.0
 
 

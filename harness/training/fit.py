@@ -1,4 +1,5 @@
-"""One run: full-batch node classification with Adam and early stopping on validation."""
+"""One run: node classification with Adam and early stopping on validation, fed the whole
+graph or neighbour-sampled batches at each step (harness.training.feeding)."""
 
 from __future__ import annotations
 
@@ -19,7 +20,9 @@ from harness.models import build_model
 from harness.planning import RunSpec
 from harness.schema.contenders import ATTENTION_KINDS
 from harness.schema.training import Training
-from harness.training.diagnostics import attention_diagnostics
+from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
+from harness.training.feeding import Step, make_feed
+from harness.training.inference import chunked_logits
 from harness.training.metrics import METRICS, fast_score, score
 
 MEBIBYTE = 2**20
@@ -71,6 +74,11 @@ def snapshot(model: nn.Module) -> dict[str, torch.Tensor]:
     return {name: tensor.detach().clone() for name, tensor in model.state_dict().items()}
 
 
+def step_loss(model: nn.Module, step: Step) -> torch.Tensor:
+    logits = model(step.x, step.edge_index, step.edge_weight)
+    return nn.functional.cross_entropy(logits[step.rows], step.labels)
+
+
 def fit(
     model: nn.Module,
     data: Data,
@@ -79,15 +87,19 @@ def fit(
     metric: str,
     on_epoch: Callable[[int, float], None] | None = None,
     training_graph: Data | None = None,
+    seed: int = 0,
 ) -> RunResult:
     """Train until `epochs` or `patience` epochs without validation gain; restore best weights.
 
     `training_graph` (inductive runs): the training forward pass sees only this graph, and the
     loss is taken at its `train_rows`; validation and test still use `data`, the full graph.
+    Sampled batching draws batches from that graph with `seed` and scores validation and test
+    by exact chunked inference (harness.training.inference).
 
     `on_epoch(epoch, validation_score)` may raise to stop the run early (used by pruning).
     Peak memory is the tensor memory of a training step: parameters, gradients, Adam state,
-    inputs, and the activations autograd keeps for backward (measured, not sampled).
+    inputs (the graph, or the first sampled batch), and the activations autograd keeps for
+    backward (measured, not sampled).
     """
     classes = int(data.y.max()) + 1
     optimizer = torch.optim.Adam(
@@ -97,26 +109,34 @@ def fit(
     train_y, val_y = y[split.train], y[split.validation]
     seen = data if training_graph is None else training_graph
     seen_rows = split.train if training_graph is None else training_graph.train_rows
+    feed = make_feed(model, seen, seen_rows, train_y, training, seed)
+
+    def logits_of_all() -> torch.Tensor:
+        if training.sampled:
+            return chunked_logits(model, x, edge_index)
+        with torch.no_grad():
+            return model(x, edge_index)
+
     best_score, best_epoch, best_state = -float("inf"), 0, snapshot(model)
     curve: list[float] = []
     meter = ActivationMeter()
+    inputs = tensor_bytes(x, edge_index, y)
     started = time.perf_counter()
     epoch = 0
     for epoch in range(1, training.epochs + 1):
         model.train()
-        optimizer.zero_grad()
-        if epoch == 1:
-            with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
-                logits = model(seen.x, seen.edge_index)
-                loss = nn.functional.cross_entropy(logits[seen_rows], train_y)
-        else:
-            logits = model(seen.x, seen.edge_index)
-            loss = nn.functional.cross_entropy(logits[seen_rows], train_y)
-        loss.backward()
-        optimizer.step()
+        for number, step in enumerate(feed.steps()):
+            optimizer.zero_grad()
+            if epoch == 1 and number == 0:
+                with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
+                    loss = step_loss(model, step)
+                inputs = tensor_bytes(*step.tensors()) if training.sampled else inputs
+            else:
+                loss = step_loss(model, step)
+            loss.backward()
+            optimizer.step()
         model.eval()
-        with torch.no_grad():
-            validation = fast_score(metric, model(x, edge_index)[split.validation], val_y, classes)
+        validation = fast_score(metric, logits_of_all()[split.validation], val_y, classes)
         curve.append(validation)
         if validation > best_score:
             best_score, best_epoch = validation, epoch
@@ -127,9 +147,7 @@ def fit(
             break
     train_seconds = time.perf_counter() - started
     model.load_state_dict(best_state)
-    model.eval()
-    with torch.no_grad():
-        logits = model(x, edge_index)
+    logits = logits_of_all()
     test_logits, test_y = logits[split.test], y[split.test]
     test_scores = {
         name: score(name, test_logits, test_y, classes) if len(test_y) else float("nan")
@@ -137,7 +155,7 @@ def fit(
     }  # no test nodes while tuning
     params = sum(p.numel() for p in model.parameters())
     parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
-    peak = parameter_bytes * (2 + ADAM_STATES) + tensor_bytes(x, edge_index, y) + meter.bytes
+    peak = parameter_bytes * (2 + ADAM_STATES) + inputs + meter.bytes
     return RunResult(
         val_metric=score(metric, logits[split.validation], val_y, classes),
         test_metric=test_scores[metric],
@@ -149,6 +167,7 @@ def fit(
         params=params,
         peak_mb=peak / MEBIBYTE,
         curve=curve,
+        extras={"batching": feed.extras()} if training.sampled else {},
     )
 
 
@@ -174,7 +193,9 @@ def perform(
     if spec.setting == "inductive":  # held-out nodes and their edges never reach training
         train_graph = training_subgraph(data, split)
         inductive = contender_graph(train_graph, spec.options, spec.seed, spec.hop_cache).data
-    result = fit(model, started.data, split, spec.training, spec.metric, on_epoch, inductive)
+    result = fit(
+        model, started.data, split, spec.training, spec.metric, on_epoch, inductive, spec.seed
+    )
     if inductive is not None and not validation_only:
         radius = spec.options.layers * getattr(spec.options, "hop_radius", 1)
         radius += spec.model == "gcn"  # degree weights reach 1 hop more
@@ -182,6 +203,7 @@ def perform(
         result = replace(result, extras={**result.extras, "arrival": arrival.as_dict()})
     if spec.model in ATTENTION_KINDS:
         graph = started.data
-        diagnostics = attention_diagnostics(model, graph.x, graph.edge_index, graph.y)
+        diagnose = chunked_attention_diagnostics if spec.training.sampled else attention_diagnostics
+        diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y)
         result = replace(result, extras={**result.extras, "attention": diagnostics})
     return result
