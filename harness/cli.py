@@ -29,12 +29,15 @@ def _suite_names(store_path: Path, suite_argument: str | None) -> list[str] | No
 
 
 def command_check(args: argparse.Namespace) -> int:
+    from harness.execution.memory import check_suite_memory, memory_outline
     from harness.execution.preflight import preflight
     from harness.planning import expand, load_suite
 
     suite = load_suite(args.suite)
     specs = expand(suite)
+    memory = check_suite_memory(suite, args.suite, 1, args.memory_limit)
     facts = preflight(suite, args.suite)
+    memory = memory or check_suite_memory(suite, args.suite, 1, args.memory_limit, facts.size)
     console.print(
         f"{args.suite}: suite '{suite.name}' is valid: {facts.nodes} nodes, {facts.edges} edges, "
         f"{facts.classes} classes, {facts.features} features",
@@ -52,6 +55,9 @@ def command_check(args: argparse.Namespace) -> int:
         points = f" ({count // len(suite.seed_list)} {mode} points)" if ablation else ""
         console.print(f"  {contender}: {count} runs{points}", markup=False)
     console.print(f"{len(specs)} runs in total")
+    console.print("estimated peak memory:")
+    for line in memory_outline(memory):
+        console.print(line, markup=False)
     if suite.tuning is not None:
         from harness.tuning.study import tuning_outline
 
@@ -66,9 +72,11 @@ def command_run(args: argparse.Namespace) -> int:
     suite = load_suite(args.suite)
     if suite.tuning is not None:
         return command_run_tuned(args, suite)
+    from harness.execution.memory import check_suite_memory
     from harness.execution.pool import check_threads, start_method, start_workers
 
     check_threads(args.jobs, args.threads)
+    check_suite_memory(suite, args.suite, args.jobs, args.memory_limit)  # synthetic: before data
     # spawned workers start before the heavy imports below, so that theirs overlap this
     # process's; forked ones start later, when needed, and inherit them
     early = args.jobs > 1 and start_method(args.threads) == "spawn"
@@ -82,13 +90,16 @@ def command_run(args: argparse.Namespace) -> int:
 
 
 def command_run_tuned(args: argparse.Namespace, suite) -> int:
+    from harness.execution.memory import check_suite_memory
     from harness.execution.pool import check_threads
     from harness.execution.preflight import preflight
     from harness.storage.profiles import record_profile
 
     check_threads(args.jobs, args.threads)
     url = checked_storage(args, suite)  # a bad storage fails before anything is written
-    preflight(suite, args.suite)
+    check_suite_memory(suite, args.suite, args.jobs, args.memory_limit)
+    facts = preflight(suite, args.suite)
+    check_suite_memory(suite, args.suite, args.jobs, args.memory_limit, facts.size)
     record_profile(suite, args.store)
     return run_tuned(args, suite, url)
 
@@ -98,6 +109,7 @@ def run_untuned(args: argparse.Namespace, suite, workers) -> int:
     from harness.analysis.stats import summarise
     from harness.analysis.suite_report import analyse
     from harness.execution.local import execute, pending
+    from harness.execution.memory import check_suite_memory
     from harness.execution.preflight import preflight
     from harness.planning import expand
     from harness.report.terminal import print_ablation, print_summary, print_verdicts
@@ -105,7 +117,8 @@ def run_untuned(args: argparse.Namespace, suite, workers) -> int:
     from harness.storage.profiles import record_profile
 
     specs = expand(suite)
-    preflight(suite, args.suite)
+    facts = preflight(suite, args.suite)
+    check_suite_memory(suite, args.suite, args.jobs, args.memory_limit, facts.size)
     profile = record_profile(suite, args.store)
     todo = len(pending(specs, args.store))
     with Progress(
@@ -132,8 +145,9 @@ def run_untuned(args: argparse.Namespace, suite, workers) -> int:
     console.print(
         f"{outcome.finished} runs trained, {outcome.skipped} reused from {args.store}", markup=False
     )
-    print_summary(summarise(label_points(runs)), console)
-    print_ablation(ablation_view(runs), console)
+    confidence = suite.analysis.confidence
+    print_summary(summarise(label_points(runs), confidence), console)
+    print_ablation(ablation_view(runs, confidence), console)
     print_verdicts(analyse(runs, suite.analysis), console)
     if suite.homophily_map is not None:
         return run_homophily_map(args, suite, profile)
@@ -188,7 +202,7 @@ def run_tuned(args: argparse.Namespace, suite, url: str) -> int:
     print_tuning_of(suite, url)
     runs = store.load_runs(args.store, [suite.name])
     runs = runs[runs["key"].isin(outcome.keys)]
-    print_summary(summarise(runs), console)
+    print_summary(summarise(runs, suite.analysis.confidence), console)
     if not runs.empty:
         print_verdicts(analyse(runs, suite.analysis), console)
     return 0
@@ -255,9 +269,10 @@ def command_show(args: argparse.Namespace) -> int:
             f"{args.store}: no stored runs" + (f" for suite '{args.suite}'" if args.suite else "")
         )
     if args.format == "table":
-        print_summary(summarise(label_points(runs)), console)
-        print_ablation(ablation_view(runs), console)
-        for report in analyse_each(runs, settings_of(args.suite)):
+        settings = settings_of(args.suite)
+        print_summary(summarise(label_points(runs), settings.confidence), console)
+        print_ablation(ablation_view(runs, settings.confidence), console)
+        for report in analyse_each(runs, settings):
             print_verdicts(report, console)
     else:
         writer = {"json": records.as_json, "csv": records.as_csv, "md": records.as_markdown}
@@ -393,6 +408,16 @@ def positive_int(text: str) -> int:
     return value
 
 
+def positive_float(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"given {text!r}; allowed: a number > 0") from None
+    if not value > 0 or value == float("inf"):
+        raise argparse.ArgumentTypeError(f"given {text}; allowed: a number > 0")
+    return value
+
+
 class OneLineParser(argparse.ArgumentParser):
     """Command-line mistakes are bad input too: one line, exit status 2 (subcommands inherit)."""
 
@@ -452,14 +477,25 @@ def parser() -> argparse.ArgumentParser:
             "beside the result store); workers on one storage share the work",
         )
 
+    def with_memory_limit(sub: argparse.ArgumentParser) -> None:
+        sub.add_argument(
+            "--memory-limit",
+            type=positive_float,
+            metavar="GIB",
+            help="stop when a run's estimated peak memory (times --jobs) exceeds this many GiB "
+            "(default: this machine's memory)",
+        )
+
     check = commands.add_parser("check", help="validate a suite and count its runs")
     check.add_argument("suite")
+    with_memory_limit(check)
     check.set_defaults(handler=command_check)
 
     run = commands.add_parser("run", help="run a suite (finished runs are reused)")
     run.add_argument("suite")
     with_jobs(run)
     run.add_argument("--quiet", action="store_true", help="no progress bar")
+    with_memory_limit(run)
     with_store(run)
     with_storage(run)
     run.set_defaults(handler=command_run)

@@ -20,9 +20,14 @@ from harness.schema.ablation import (
     point_label,
 )
 from harness.schema.base import format_validation_error, key_dump
+from harness.schema.batching import check_batching
 from harness.schema.suite import Suite
 from harness.schema.training import Training
 from harness.schema.tuning import check_tuning
+
+UNSAMPLED = {"batch_size", "fanout"}
+TORCH_SAMPLER = "heedful_uniform"
+PYG_SAMPLER = "pyg_neighbor"
 
 
 @dataclass(frozen=True)
@@ -53,16 +58,20 @@ class RunSpec:
     @property
     def key(self) -> str:
         """Hash of what determines the result; the suite and contender names are labels only."""
+        sampled = self.training.sampled
         determining = {
             "data": key_dump(self.data),
             "split": key_dump(self.split),
             "options": key_dump(self.options, exclude={"training"}),
-            "training": key_dump(self.training),
+            # batch size and fan-out mean nothing to a full-batch run
+            "training": key_dump(self.training, exclude=set() if sampled else UNSAMPLED),
             "metric": self.metric,
             "setting": self.setting,
             "seed": self.seed,
             "version": harness.__version__,
         }
+        if sampled:  # the two samplers draw different batches from one seed
+            determining["sampler"] = sampler_in_use()
         text = json.dumps(determining, sort_keys=True, separators=(",", ":"))
         return hashlib.sha256(text.encode()).hexdigest()[:24]
 
@@ -123,7 +132,10 @@ def table_rows(path: str) -> int:
 
 
 def resolve_compile(training: Training, model: str, data: BaseModel) -> Training:
-    """Training with `compile = "auto"` decided: true or false, before any key is taken."""
+    """Training with `compile = "auto"` decided: true or false, before any key is taken.
+    Sampled runs are never compiled (every batch has another shape)."""
+    if training.sampled and training.compile is not False:
+        return training.model_copy(update={"compile": False})
     if training.compile != "auto":
         return training
     edges = declared_edges(data)
@@ -135,6 +147,15 @@ def resolve_compile(training: Training, model: str, data: BaseModel) -> Training
         and edges * training.epochs >= payback
     )
     return training.model_copy(update={"compile": wanted})
+
+
+def sampler_in_use() -> str:
+    """The neighbour sampler of this installation: PyG's own needs pyg-lib or torch-sparse."""
+    import torch_geometric.typing  # only sampled runs pay for importing torch here
+
+    if torch_geometric.typing.WITH_PYG_LIB or torch_geometric.typing.WITH_TORCH_SPARSE:
+        return PYG_SAMPLER
+    return TORCH_SAMPLER
 
 
 def read_suite_file(path: str | Path) -> dict:
@@ -162,6 +183,7 @@ def parse_suite(raw: dict, source: str) -> Suite:
         raise InputError(format_validation_error(error, raw, source)) from None
     design_points(suite, source)  # ablation axes and levels, checked once here
     check_tuning(suite, source)  # search spaces against the contenders' options
+    check_batching(suite, source)  # fan-out lengths against each contender's layers
     return suite
 
 

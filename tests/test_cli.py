@@ -14,7 +14,7 @@ import pandas as pd
 import pytest
 from torch_geometric.utils import homophily
 
-from harness.analysis.stats import summarise
+from harness.analysis.stats import summarise, t_interval
 from harness.cli import main
 from harness.data import load_graph
 from harness.planning import load_suite
@@ -89,6 +89,22 @@ def test_run_prints_the_table_and_a_rerun_reuses_everything(finished_store, tmp_
         assert cells[5] == f"{expected['params']:,}"
 
 
+def test_terminal_intervals_follow_the_suites_confidence(finished_store, tmp_path, capsys):
+    suite, original = finished_store
+    copy = tmp_path / "runs.db"
+    shutil.copy(original, copy)
+    ninety = tmp_path / "tiny.toml"  # [analysis] is not part of the run key: all 6 runs reused
+    ninety.write_text(suite.read_text() + "\n[analysis]\nconfidence = 0.9\n", encoding="utf-8")
+    assert main(["run", str(ninety), "--store", str(copy), "--quiet"]) == 0
+    raw = capsys.readouterr().out
+    assert "90% t-interval" in flat(raw) and "95%" not in raw
+    runs = store.load_runs(copy)
+    values = runs[runs["contender"] == "attention"]["test_metric"].to_numpy(dtype=float)
+    low, high = t_interval(values, 0.9)
+    rows = {cells[1]: cells[2:] for cells in reversed(table_rows(raw))}
+    assert rows["attention"][3] == f"[{low:.3f}, {high:.3f}]"
+
+
 def test_best_contender_is_highlighted(finished_store):
     summary = summarise(store.load_runs(finished_store[1]))
     table = summary_table(summary, "tiny")
@@ -112,6 +128,8 @@ def test_show_json_has_one_record_per_run_with_documented_fields(finished_store,
     runs = store.load_runs(store_file).set_index("key")
     for record in records:
         assert record["test"] == runs.loc[record["key"], "test_metric"]
+        assert record["extras"] == runs.loc[record["key"], "extras"]
+    assert {head["layer"] for head in attention["extras"]["attention"]["heads"]} == {1, 2}
 
 
 def test_show_csv_markdown_and_table_agree(finished_store, capsys):

@@ -6,6 +6,7 @@ import math
 
 import pytest
 import torch
+from torch_geometric.utils import erdos_renyi_graph, to_undirected
 
 from harness.data.splits import make_split
 from harness.data.synthetic import contextual_sbm
@@ -13,7 +14,12 @@ from harness.models import build_model
 from harness.schema.contenders import AttentionOptions
 from harness.schema.data import FractionSplit, SyntheticData
 from harness.schema.training import Training
-from harness.training.diagnostics import MEASURES, attention_diagnostics, head_measures
+from harness.training.diagnostics import (
+    MEASURES,
+    attention_diagnostics,
+    chunked_attention_diagnostics,
+    head_measures,
+)
 from harness.training.fit import fit
 
 
@@ -111,3 +117,23 @@ def test_stored_format_has_every_layer_and_head() -> None:
     assert result["attend_to_self"] is True
     for record in result["heads"]:
         assert 0 < record["entropy_ratio"] <= 1 + 1e-9
+
+
+def test_chunked_diagnostics_equal_the_whole_graph_ones():
+    torch.manual_seed(0)
+    x, labels = torch.randn(200, 6), torch.randint(-1, 3, (200,))
+    edges = to_undirected(erdos_renyi_graph(200, 0.04))
+    for options in (
+        AttentionOptions(model="gat", heads=2),
+        AttentionOptions(model="dot_product", attend_to_self=False, heads=[3, 1]),
+    ):
+        model = build_model(options, 6, 3)
+        whole = attention_diagnostics(model, x, edges, labels)
+        chunked = chunked_attention_diagnostics(model, x, edges, labels, chunk_nodes=17)
+        assert chunked["edges"] == whole["edges"]
+        assert [(r["layer"], r["head"]) for r in chunked["heads"]] == [
+            (r["layer"], r["head"]) for r in whole["heads"]
+        ]
+        for mine, theirs in zip(chunked["heads"], whole["heads"], strict=True):
+            for name in MEASURES:
+                assert mine[name] == pytest.approx(theirs[name], abs=1e-9)

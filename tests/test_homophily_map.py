@@ -43,6 +43,16 @@ def test_one_run_per_level_contender_and_seed() -> None:
     assert len({s.key for s in specs}) == len(specs)
 
 
+def test_map_runs_use_the_suites_hop_cache(monkeypatch, tmp_path) -> None:
+    raw = {**RAW, "hops": {"cache": str(tmp_path / "suite-cache")}}
+    monkeypatch.delenv("HEEDFUL_CACHE", raising=False)
+    suite = parse_suite(raw, "map.toml")
+    profile = profile_graph(load_graph(suite.data))
+    assert {s.hop_cache for s in map_specs(suite, profile)} == {str(tmp_path / "suite-cache")}
+    monkeypatch.setenv("HEEDFUL_CACHE", str(tmp_path / "machine-cache"))
+    assert {s.hop_cache for s in map_specs(suite, profile)} == {str(tmp_path / "machine-cache")}
+
+
 def test_summary_marks_the_nearest_level() -> None:
     suite = parse_suite(RAW, "map.toml")
     profile = profile_graph(load_graph(suite.data))  # edge homophily 0.859

@@ -115,7 +115,7 @@ def test_markdown_summary_names_failures_and_environment(outcome):
         "| lockers &lt;&amp;&gt; vans | 0.8000 → 0.7000 | -10.00 | [-14.00, -6.00] | ×1.00 | ×1.00 "
         "| ❌ fail |" in text
     )
-    assert "| vans\\_only | 0.8000 → 0.7000 | +0.00 |" in text  # names are Markdown-escaped
+    assert r"| vans\_only | 0.8000 → 0.7000 | +0.00 |" in text  # names escaped as in report.md
     assert "- ❌ fail `metric`: dropped 10.00 points" in text
     assert "- ⚠️ warn `time`: seconds per epoch x1.90 above limit" in text
     assert "different environment than the baseline: threads: baseline 4, now 2" in text

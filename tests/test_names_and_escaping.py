@@ -85,6 +85,6 @@ def test_a_class_label_with_markup_is_described_as_given(tmp_path: Path, capsys)
     files = {"nodes.csv": nodes, "edges.csv": edges, "suite.toml": suite + LABELS_CONTENDER}
     for name, text in files.items():
         (tmp_path / name).write_text(text, encoding="utf-8")
-    assert main(["profile", str(tmp_path / "suite.toml")]) == 0
+    assert main(["describe", str(tmp_path / "suite.toml")]) == 0
     printed = capsys.readouterr().out
     assert "lbl[/] 6 (50%)" in printed and "[bold]b 6 (50%)" in printed

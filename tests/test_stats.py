@@ -113,9 +113,12 @@ def test_summarise_keeps_its_columns_for_the_terminal_table():
     summary = summarise(runs)
     assert list(summary.columns) == [
         "suite", "contender", "model", "metric", "seeds", "mean", "std", "ci_low", "ci_high",
-        "seconds_per_epoch", "params", "peak_mb",
+        "confidence", "seconds_per_epoch", "params", "peak_mb",
     ]  # fmt: skip
     assert summary["mean"].iloc[0] == pytest.approx(np.mean(VALUES))
+    assert summary["confidence"].iloc[0] == 0.95
+    narrower = summarise(runs, 0.8).iloc[0]
+    assert summary["ci_low"].iloc[0] < narrower["ci_low"] < narrower["ci_high"]
 
 
 def test_undefined_metric_values_are_left_out():

@@ -44,7 +44,7 @@ MALFORMED = [
         "wrong_type_text_for_number",
         "nodes = 120",
         'nodes = "many"',
-        ["data.nodes: given 'many'; Input should be a valid integer"],
+        ["data.nodes: given 'many' (text); allowed: a number, without quotes"],
     ),
     (
         "wrong_type_boolean_seeds",

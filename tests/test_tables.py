@@ -93,6 +93,21 @@ def test_directed_edges_are_kept_as_given(tmp_path: Path) -> None:
     assert not data.is_undirected()
 
 
+def test_check_and_describe_count_directed_edges_once_each(tmp_path: Path, capsys) -> None:
+    write(tmp_path)
+    suite = tmp_path / "suite.toml"
+    suite.write_text(
+        'name = "depots"\n[data]\nsource = "tables"\nnodes = "nodes.csv"\nedges = "edges.csv"\n'
+        'directed = true\nsplit_column = "split"\n[split]\nmethod = "column"\n'
+        '[contenders.convolution]\nmodel = "gcn"\n',
+        encoding="utf-8",
+    )
+    assert main(["check", str(suite)]) == 0
+    assert "5 nodes, 5 edges" in capsys.readouterr().out  # the five rows of EDGES
+    assert main(["describe", str(suite), "--format", "json"]) == 0
+    assert '"edges": 5' in capsys.readouterr().out
+
+
 def test_parquet_tables_and_integer_ids(tmp_path: Path) -> None:
     nodes = pd.DataFrame({"id": [10, 20, 30], "label": [1, 2, 1], "x0": [0.1, 0.2, 0.3]})
     edges = pd.DataFrame({"source": [10, 20], "target": [20, 30]})

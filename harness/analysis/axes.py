@@ -85,10 +85,14 @@ class AblationView:
     levels: pd.DataFrame  # harness.analysis.ablation_effects level rows
     attention_levels: pd.DataFrame  # attention_by_level
     attention_variants: pd.DataFrame  # attention_by_variant
+    confidence: float = 0.95  # of the level and effect intervals
 
 
-def ablation_view(runs: pd.DataFrame) -> AblationView:
-    """Per-axis effects (analysis.ablation_effects) and attention diagnostics of stored runs."""
+def ablation_view(runs: pd.DataFrame, confidence: float = 0.95) -> AblationView:
+    """Per-axis effects (analysis.ablation_effects, intervals at `confidence`) and attention
+    diagnostics of stored runs."""
     metric = str(runs["metric"].iloc[0]) if not runs.empty else "accuracy"
-    levels = ablation_effects(runs).levels if not runs.empty else pd.DataFrame()
-    return AblationView(metric, levels, attention_by_level(runs), attention_by_variant(runs))
+    levels = ablation_effects(runs, confidence).levels if not runs.empty else pd.DataFrame()
+    return AblationView(
+        metric, levels, attention_by_level(runs), attention_by_variant(runs), confidence
+    )

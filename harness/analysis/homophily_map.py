@@ -16,6 +16,7 @@ import pandas as pd
 from harness.analysis.stats import t_interval
 from harness.data.profile import DatasetProfile
 from harness.planning import RunSpec
+from harness.schema.ablation import hop_cache_directory
 from harness.schema.data import FractionSplit, SyntheticData
 from harness.schema.suite import Suite
 
@@ -49,6 +50,7 @@ def map_specs(suite: Suite, profile: DatasetProfile) -> list[RunSpec]:
     options = suite.homophily_map
     # a split column belongs to the user's data; synthetic graphs use the default fractions
     split = FractionSplit() if suite.split.method == "column" else suite.split
+    hop_cache = hop_cache_directory(suite.hops)
     runs = []
     for level in options.levels:
         section = matched_section(profile, level, suite)
@@ -67,6 +69,7 @@ def map_specs(suite: Suite, profile: DatasetProfile) -> list[RunSpec]:
                         seed=seed,
                         setting=suite.setting,
                         point={"edge_homophily": level},
+                        hop_cache=hop_cache,
                     )
                 )
     return runs

@@ -207,12 +207,13 @@ def paired_comparisons(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS
     return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
 
 
-def summarise(runs: pd.DataFrame) -> pd.DataFrame:
-    """One row per (suite, contender): test metric over seeds and mean costs."""
+def summarise(runs: pd.DataFrame, confidence: float = 0.95) -> pd.DataFrame:
+    """One row per (suite, contender): test metric over seeds with a t-interval at
+    `confidence` (kept in the `confidence` column), and mean costs."""
     rows = []
     for (suite, contender), group in runs.groupby(["suite", "contender"], sort=False):
         values = group["test_metric"].to_numpy(dtype=float)
-        low, high = t_interval(values)
+        low, high = t_interval(values, confidence)
         rows.append(
             {
                 "suite": suite,
@@ -224,6 +225,7 @@ def summarise(runs: pd.DataFrame) -> pd.DataFrame:
                 "std": float(values.std(ddof=1)) if len(values) > 1 else float("nan"),
                 "ci_low": low,
                 "ci_high": high,
+                "confidence": confidence,
                 "seconds_per_epoch": float(group["seconds_per_epoch"].mean()),
                 "params": int(group["params"].iloc[0]),
                 "peak_mb": float(group["peak_mb"].max()),

@@ -72,6 +72,12 @@ def assemble(
     return data
 
 
+def edge_count(data: Data) -> int:
+    """Edges as the data means them: an undirected edge (stored both ways) once, a directed one
+    once per direction."""
+    return data.edge_index.size(1) // (2 if data.is_undirected() else 1)
+
+
 def cleaning_notes(data: Data, where: str) -> list[str]:
     """One line per cleaning step that changed the graph, for `heedful check` and profiles."""
     notes = []

@@ -8,6 +8,7 @@ import numpy as np
 from torch_geometric.data import Data
 from torch_geometric.utils import degree
 
+from harness.data.assemble import edge_count
 from harness.data.homophily import Homophily, measure_homophily
 
 
@@ -74,7 +75,7 @@ def profile_graph(data: Data) -> DatasetProfile:
     spread = x.std(axis=0)
     return DatasetProfile(
         nodes=nodes,
-        edges=data.edge_index.size(1) // (1 if directed else 2),
+        edges=edge_count(data),
         directed=directed,
         degrees=DegreeSummary(
             minimum=int(degrees.min()),

@@ -7,11 +7,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from harness.data import load_graph
-from harness.data.assemble import cleaning_notes
+from harness.data.assemble import cleaning_notes, edge_count
 from harness.data.feature_starts import check_contender_graphs
 from harness.data.homophily import measure_homophily
 from harness.data.splits import make_split
 from harness.errors import InputError
+from harness.execution.memory import GraphSize
 from harness.schema.ablation import design_points
 from harness.schema.suite import Suite
 
@@ -27,6 +28,10 @@ class DataFacts:
     edge_homophily: float  # Zhu et al. (2020)
     node_homophily: float  # Pei et al. (2020)
     notes: tuple[str, ...] = ()  # self-loops and repeated edges removed on load
+
+    @property
+    def size(self) -> GraphSize:
+        return GraphSize(self.nodes, 2 * self.edges, self.features, self.classes)
 
 
 def preflight(suite: Suite, source: str) -> DataFacts:
@@ -50,7 +55,7 @@ def preflight(suite: Suite, source: str) -> DataFacts:
     measured = measure_homophily(data.edge_index, data.y)
     return DataFacts(
         data.num_nodes,
-        data.edge_index.size(1) // 2,
+        edge_count(data),
         classes,
         data.num_features,
         measured.edge,

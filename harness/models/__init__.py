@@ -29,9 +29,20 @@ class EmbeddingStart(nn.Module):
         self.inner = inner
 
     def forward(
-        self, x: torch.Tensor, edge_index: torch.Tensor, rows: torch.Tensor | None = None
+        self,
+        x: torch.Tensor,
+        edge_index: torch.Tensor,
+        edge_weight: torch.Tensor | None = None,
+        rows: torch.Tensor | None = None,
     ) -> torch.Tensor:
-        return self.inner(self.embedding(x), edge_index, rows)
+        return self.inner(self.embedding(x), edge_index, edge_weight, rows)
+
+
+def unwrap(model: nn.Module, x: torch.Tensor) -> tuple[nn.Module, torch.Tensor]:
+    """The layer stack and its input features (node ids looked up when the start embeds)."""
+    if isinstance(model, EmbeddingStart):
+        return model.inner, model.embedding(x)
+    return model, x
 
 
 def build_model(

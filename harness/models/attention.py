@@ -21,8 +21,8 @@ from torch import nn
 from torch_geometric.nn import GATConv, GATv2Conv, MessagePassing, TransformerConv
 from torch_geometric.utils import add_self_loops, remove_self_loops
 
-from harness.models.graph_cache import EdgeCache, graph_inputs_of, into_rows
-from harness.models.stack import ACTIVATIONS
+from harness.models.graph_cache import EdgeCache, once_per_graph
+from harness.models.stack import ACTIVATIONS, stacked_forward
 from harness.schema.contenders import AttentionOptions
 
 
@@ -72,6 +72,8 @@ def attention_layer(
 class AttentionStack(nn.Module):
     """h^{l+1} = act(attention_l(dropout(h^l), N)); the last output (projected) are logits."""
 
+    uses_edges = True
+
     def __init__(
         self,
         layers: list[nn.Module],
@@ -86,7 +88,7 @@ class AttentionStack(nn.Module):
         self.dropout = nn.Dropout(dropout)
         self.attend_to_self = attend_to_self
         self.projection = projection
-        self.edge_cache = EdgeCache()
+        self.edge_cache = EdgeCache()  # attention edges derived once per graph
         self.row_cache = EdgeCache()
 
     def reset_parameters(self) -> None:
@@ -96,53 +98,60 @@ class AttentionStack(nn.Module):
             self.projection.reset_parameters()
 
     def attention_edges(self, edge_index: torch.Tensor, nodes: int) -> torch.Tensor:
-        """The edges attention runs on: the given ones, with exactly one self-loop if asked;
-        built once per graph (harness.models.graph_cache), in the given order, loops last."""
-        return self.attention_graph(edge_index, nodes)[0]
-
-    def attention_graph(self, edge_index: torch.Tensor, nodes: int) -> tuple[torch.Tensor, ...]:
-        build = self.build_edges
-        return graph_inputs_of(self.edge_cache, edge_index, nodes, torch.float32, build)
-
-    def build_edges(self, edge_index: torch.Tensor, nodes: int, dtype: torch.dtype) -> tuple:
+        """The edges attention runs on: the given ones, with exactly one self-loop if asked."""
         edge_index, _ = remove_self_loops(edge_index)
         if self.attend_to_self:
             edge_index, _ = add_self_loops(edge_index, num_nodes=nodes)
-        return (edge_index,)
+        return edge_index
+
+    def message_edges(self, edge_index: torch.Tensor, nodes: int) -> tuple[torch.Tensor, None]:
+        return self.attention_edges(edge_index, nodes), None
+
+    def batch_edges(
+        self, edge_index: torch.Tensor, degree: torch.Tensor
+    ) -> tuple[torch.Tensor, None]:
+        """A sampled batch attends over its own edges (self-loops are added in `run`)."""
+        return edge_index, None
+
+    def attention_step(
+        self, index: int, x: torch.Tensor, edges: torch.Tensor
+    ) -> tuple[torch.Tensor, torch.Tensor]:
+        """Layer `index` like `layer_step`, also returning its weights [edges, heads]."""
+        x, (_, alpha) = self.layers[index](self.dropout(x), edges, return_attention_weights=True)
+        return (self.activation(x) if index < len(self.layers) - 1 else x), alpha
+
+    def layer_step(
+        self, index: int, x: torch.Tensor, edges: torch.Tensor, weights: None = None
+    ) -> torch.Tensor:
+        x = self.layers[index](self.dropout(x), edges)
+        return self.activation(x) if index < len(self.layers) - 1 else x
+
+    def finish(self, x: torch.Tensor) -> torch.Tensor:
+        return x if self.projection is None else self.projection(x)
 
     def run(
         self, x: torch.Tensor, edge_index: torch.Tensor, keep_attention: bool = False
     ) -> tuple[torch.Tensor, torch.Tensor, list[torch.Tensor]]:
         """Logits, the attention edge set and (if kept) each layer's weights [edges, heads]."""
-        edges = self.attention_edges(edge_index, x.size(0))
+        edges, _ = once_per_graph(self.edge_cache, edge_index, x.size(0), self.message_edges)
         weights: list[torch.Tensor] = []
-        for index, layer in enumerate(self.layers):
-            x = self.dropout(x)
+        for index in range(len(self.layers)):
             if keep_attention:
-                x, (_, alpha) = layer(x, edges, return_attention_weights=True)
+                x, alpha = self.attention_step(index, x, edges)
                 weights.append(alpha)
             else:
-                x = layer(x, edges)
-            if index < len(self.layers) - 1:
-                x = self.activation(x)
-        if self.projection is not None:
-            x = self.projection(x)
-        return x, edges, weights
+                x = self.layer_step(index, x, edges)
+        return self.finish(x), edges, weights
 
     def forward(
-        self, x: torch.Tensor, edge_index: torch.Tensor, rows: torch.Tensor | None = None
+        self,
+        x: torch.Tensor,
+        edge_index: torch.Tensor,
+        edge_weight: None = None,
+        rows: torch.Tensor | None = None,
     ) -> torch.Tensor:
         """Logits; with `rows`, of those rows only, the last layer attending for them alone."""
-        if rows is None:
-            return self.run(x, edge_index)[0]
-        nodes = x.size(0)
-        graph = self.attention_graph(edge_index, nodes)
-        for layer in self.layers[:-1]:
-            x = self.activation(layer(self.dropout(x), graph[0]))
-        (into,) = into_rows(self.row_cache, graph, rows, nodes)
-        x = self.layers[-1](self.dropout(x), into)
-        # the projection over every row, as in a full pass: the same matrix product, bit for bit
-        return (x if self.projection is None else self.projection(x))[rows]
+        return stacked_forward(self, x, edge_index, None, rows)
 
 
 def build(options: AttentionOptions, in_dim: int, out_dim: int) -> nn.Module:

@@ -42,31 +42,28 @@ class EdgeCache:
         self.__init__()
 
 
-def graph_inputs_of(
+def once_per_graph(
     cache: EdgeCache,
     edge_index: torch.Tensor,
     nodes: int,
-    dtype: torch.dtype,
-    build: Callable[[torch.Tensor, int, torch.dtype], tuple[torch.Tensor, ...]],
-) -> tuple[torch.Tensor, ...]:
-    """`build(edge_index, nodes, dtype)`, computed once per edge tensor and reused."""
-    key = (edge_index._version, nodes, dtype)
-    return cache.get((edge_index,), key, lambda: build(edge_index, nodes, dtype))
+    build: Callable[[torch.Tensor, int], tuple],
+) -> tuple:
+    """`build(edge_index, nodes)` (a model's message edges), computed once per edge tensor."""
+    return cache.get((edge_index,), (edge_index._version, nodes), lambda: build(edge_index, nodes))
 
 
-def into_rows(
-    cache: EdgeCache, graph: tuple[torch.Tensor, ...], rows: torch.Tensor, nodes: int
-) -> tuple[torch.Tensor, ...]:
-    """The graph inputs (edge_index, then per-edge tensors) kept only for edges whose target is
-    one of `rows`, in their order: a last layer on them gives the same outputs at those rows
+def into_rows(cache: EdgeCache, graph: tuple, rows: torch.Tensor, nodes: int) -> tuple:
+    """The message edges (edge_index, then per-edge tensors or None) kept only for edges into
+    `rows`, in their order: a last layer on them gives the same outputs at those rows
     (each row sums the same terms in the same order) without computing the other rows."""
 
-    def build() -> tuple[torch.Tensor, ...]:
+    def build() -> tuple:
         if not graph:
             return graph
         wanted = torch.zeros(nodes, dtype=torch.bool)
         wanted[rows] = True
         keep = wanted[graph[0][1]]
-        return (graph[0][:, keep], *(tensor[keep] for tensor in graph[1:]))
+        rest = (None if tensor is None else tensor[keep] for tensor in graph[1:])
+        return (graph[0][:, keep], *rest)
 
     return cache.get((graph, rows), (rows._version, nodes), build)

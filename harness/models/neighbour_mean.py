@@ -7,7 +7,7 @@ from __future__ import annotations
 from torch import nn
 from torch_geometric.nn import SAGEConv
 
-from harness.models.stack import LayerStack, given_edges, widths
+from harness.models.stack import LayerStack, widths
 from harness.schema.contenders import NeighbourMeanOptions
 
 
@@ -16,4 +16,4 @@ def build(options: NeighbourMeanOptions, in_dim: int, out_dim: int) -> nn.Module
         SAGEConv(a, b, aggr="mean")
         for a, b in widths(in_dim, options.hidden, out_dim, options.layers)
     ]
-    return LayerStack(layers, options.activation, options.dropout, given_edges)
+    return LayerStack(layers, options.activation, options.dropout, uses_edges=True)

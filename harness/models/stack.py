@@ -2,12 +2,10 @@
 
 from __future__ import annotations
 
-from collections.abc import Callable
-
 import torch
 from torch import nn
 
-from harness.models.graph_cache import EdgeCache, graph_inputs_of, into_rows
+from harness.models.graph_cache import EdgeCache, into_rows, once_per_graph
 
 ACTIVATIONS = {
     "relu": nn.ReLU,
@@ -18,35 +16,21 @@ ACTIVATIONS = {
 }
 
 
-# what a stack hands its layers after the features: () for no edges, (edge_index,), or tensors
-# derived from the edges once per graph, such as graph convolution's normalised weights
-GraphInputs = Callable[[torch.Tensor, int, torch.dtype], tuple[torch.Tensor, ...]]
-
-
-def no_edges(edge_index: torch.Tensor, nodes: int, dtype: torch.dtype) -> tuple:
-    return ()
-
-
-def given_edges(edge_index: torch.Tensor, nodes: int, dtype: torch.dtype) -> tuple:
-    return (edge_index,)
-
-
 class LayerStack(nn.Module):
     """h^{l+1} = act(layer_l(dropout(h^l), edges)); the last layer's output are class logits.
 
-    `graph_inputs(edge_index, nodes, dtype)` gives what each layer takes after the features;
-    it runs once per graph (harness.models.graph_cache), not once per forward pass. With
-    `rows`, the output is the logits of those rows only, the last layer computed for them alone.
+    The forward pass is also open layer by layer (`message_edges`, `layer_step`, `finish`), so
+    that inference can run each layer over chunks of target nodes (harness.training.inference).
+    The message edges are derived once per graph (harness.models.graph_cache). With `rows`, the
+    output is the logits of those rows only, the last layer computed for them alone.
     """
 
-    def __init__(
-        self, layers: list[nn.Module], activation: str, dropout: float, graph_inputs: GraphInputs
-    ):
+    def __init__(self, layers: list[nn.Module], activation: str, dropout: float, uses_edges: bool):
         super().__init__()
         self.layers = nn.ModuleList(layers)
         self.activation = ACTIVATIONS[activation]()
         self.dropout = nn.Dropout(dropout)
-        self.graph_inputs = graph_inputs
+        self.uses_edges = uses_edges
         self.edge_cache = EdgeCache()
         self.row_cache = EdgeCache()
 
@@ -54,20 +38,70 @@ class LayerStack(nn.Module):
         for layer in self.layers:
             layer.reset_parameters()
 
-    def forward(
-        self, x: torch.Tensor, edge_index: torch.Tensor, rows: torch.Tensor | None = None
+    def message_edges(
+        self, edge_index: torch.Tensor, nodes: int
+    ) -> tuple[torch.Tensor, torch.Tensor | None]:
+        """The edges (and edge weights, if any) every layer passes messages along."""
+        return edge_index, None
+
+    def batch_edges(
+        self, edge_index: torch.Tensor, degree: torch.Tensor
+    ) -> tuple[torch.Tensor, torch.Tensor | None]:
+        """Message edges of a sampled batch, given each batch node's full-graph in-degree."""
+        return edge_index, None
+
+    def layer_step(
+        self,
+        index: int,
+        x: torch.Tensor,
+        edges: torch.Tensor,
+        weights: torch.Tensor | None = None,
     ) -> torch.Tensor:
-        nodes = x.size(0)
-        graph = graph_inputs_of(self.edge_cache, edge_index, nodes, x.dtype, self.graph_inputs)
-        last = len(self.layers) - 1
-        for index, layer in enumerate(self.layers):
-            x = self.dropout(x)
-            if index == last and rows is not None:
-                return layer(x, *into_rows(self.row_cache, graph, rows, nodes))[rows]
-            x = layer(x, *graph)
-            if index < last:
-                x = self.activation(x)
+        """Layer `index` with its dropout before and activation after (none after the last)."""
+        layer = self.layers[index]
+        x = self.dropout(x)
+        if not self.uses_edges:
+            x = layer(x)
+        else:
+            x = layer(x, edges) if weights is None else layer(x, edges, weights)
+        return self.activation(x) if index < len(self.layers) - 1 else x
+
+    def finish(self, x: torch.Tensor) -> torch.Tensor:
+        """Logits from the last layer's output."""
         return x
+
+    def forward(
+        self,
+        x: torch.Tensor,
+        edge_index: torch.Tensor,
+        edge_weight: torch.Tensor | None = None,
+        rows: torch.Tensor | None = None,
+    ) -> torch.Tensor:
+        """`edge_weight`, when given, goes with `edge_index` as the finished message edges."""
+        return stacked_forward(self, x, edge_index, edge_weight, rows)
+
+
+def stacked_forward(
+    stack: nn.Module,
+    x: torch.Tensor,
+    edge_index: torch.Tensor,
+    edge_weight: torch.Tensor | None,
+    rows: torch.Tensor | None,
+) -> torch.Tensor:
+    """The forward pass of a layer stack (LayerStack, AttentionStack): message edges once per
+    graph, every layer, and with `rows` the last layer on the edges into those rows alone."""
+    nodes = x.size(0)
+    graph: tuple = (edge_index, edge_weight)
+    if edge_weight is None:
+        graph = once_per_graph(stack.edge_cache, edge_index, nodes, stack.message_edges)
+    last = len(stack.layers) - 1
+    for index in range(last):
+        x = stack.layer_step(index, x, *graph)
+    if rows is not None:
+        graph = into_rows(stack.row_cache, graph, rows, nodes)
+    x = stack.finish(stack.layer_step(last, x, *graph))
+    # the last layer and the projection run over every row, as in a full pass, bit for bit
+    return x if rows is None else x[rows]
 
 
 def widths(in_dim: int, hidden: int, out_dim: int, layers: int) -> list[tuple[int, int]]:

@@ -29,6 +29,7 @@ RECORD_FIELDS = (
     "params",
     "peak_mb",
     "key",
+    "extras",  # attention diagnostics, arrival figures, tuned settings, ...
 )
 
 
@@ -55,7 +56,7 @@ def as_json(runs: pd.DataFrame) -> str:
 
 def flat(runs: pd.DataFrame) -> pd.DataFrame:
     frame = pd.DataFrame(records(runs))
-    for column in ("options", "point"):
+    for column in ("options", "point", "extras"):
         frame[column] = frame[column].map(lambda v: json.dumps(v, sort_keys=True))
     return frame
 
@@ -65,7 +66,7 @@ def as_csv(runs: pd.DataFrame) -> str:
 
 
 def as_markdown(runs: pd.DataFrame) -> str:
-    frame = flat(runs).drop(columns=["options"])
+    frame = flat(runs).drop(columns=["options", "extras"])  # too long for a table cell
     header = "| " + " | ".join(escape(c) for c in frame.columns) + " |"
     rule = "| " + " | ".join("---" for _ in frame.columns) + " |"
     body = [

@@ -26,15 +26,16 @@ def number(value: float, digits: int = 3) -> str:
 
 
 def summary_table(summary: pd.DataFrame, title: str) -> Table:
-    """Contender, metric mean +- std, 95% t-interval, costs; the best mean in bold green."""
+    """Contender, metric mean +- std, t-interval, costs; the best mean in bold green."""
     metric = METRIC_LABELS.get(summary["metric"].iloc[0], summary["metric"].iloc[0])
+    level = f"{summary['confidence'].iloc[0]:.0%}"
     table = Table(title=title, title_justify="left")
     for header in (
         "contender",
         "model",
         "seeds",
         f"test {metric}",
-        "95% t-interval",
+        f"{level} t-interval",
         "s/epoch",
         "params",
         "peak MB",
@@ -70,10 +71,13 @@ def _share(value: float, chance: float) -> str:
     return f"{number(value)} ({number(chance)})"
 
 
-def axis_level_table(levels: pd.DataFrame, attention: pd.DataFrame, metric: str) -> Table:
+def axis_level_table(
+    levels: pd.DataFrame, attention: pd.DataFrame, metric: str, confidence: float = 0.95
+) -> Table:
     """One section per axis: each level's test metric, its effect, and its attention."""
     first = levels.iloc[0]
     label = METRIC_LABELS.get(metric, metric)
+    level = f"{confidence:.0%}"
     table = Table(
         title=f"Ablation of '{escape(str(first['contender']))}' by axis "
         f"(suite {escape(str(first['suite']))})",
@@ -87,8 +91,8 @@ def axis_level_table(levels: pd.DataFrame, attention: pd.DataFrame, metric: str)
         "axis",
         "level",
         "runs",
-        f"test {label} [95% CI]",
-        "effect [95% CI]",
+        f"test {label} [{level} CI]",
+        f"effect [{level} CI]",
         "entropy",
         "same label",
     ):
@@ -142,7 +146,7 @@ def print_ablation(view: AblationView, console: Console | None = None) -> None:
         for (suite, contender), group in view.levels.groupby(["suite", "contender"], sort=False):
             mine = by_level[(by_level["suite"] == suite) & (by_level["contender"] == contender)]
             diagnostics = mine.drop(columns=["suite", "contender"])
-            console.print(axis_level_table(group, diagnostics, view.metric))
+            console.print(axis_level_table(group, diagnostics, view.metric, view.confidence))
     for _, group in view.attention_variants.groupby("suite", sort=False):
         console.print(attention_diagnostics_table(group))
 
@@ -155,8 +159,17 @@ VERDICT_STYLES = {
 }
 
 
-# the paired-comparison columns that fit a terminal; every column is in the report files
-TERMINAL_COMPARISON = ("attention", "baseline", "seeds", "difference", "95% t", "Holm p", "verdict")
+# the paired-comparison columns that fit a terminal (LEVEL: the interval's confidence); every
+# column is in the report files
+TERMINAL_COMPARISON = (
+    "attention",
+    "baseline",
+    "seeds",
+    "difference",
+    "LEVEL t",
+    "Holm p",
+    "verdict",
+)
 
 
 def narrow(part: TextTable, headers: tuple[str, ...]) -> TextTable:
@@ -189,7 +202,9 @@ def print_verdicts(report: SuiteReport, console: Console | None = None) -> None:
     """The paired comparisons, the reason for each verdict and the headline sentence."""
     console = console or Console()
     if not report.comparisons.empty:
-        console.print(text_table(narrow(comparison_table(report), TERMINAL_COMPARISON)))
+        level = f"{report.settings.confidence:.0%}"
+        headers = tuple(h.replace("LEVEL", level) for h in TERMINAL_COMPARISON)
+        console.print(text_table(narrow(comparison_table(report), headers)))
     for line in reasons(report):
         console.print(f"  {escape(line)}", highlight=False)
     console.print(f"[bold]Verdict:[/bold] {escape(report.headline)}", highlight=False)

@@ -2,24 +2,32 @@
 
 from __future__ import annotations
 
-from typing import ClassVar, Literal
+from typing import Annotated, ClassVar, Literal
 
 from pydantic import Field
 
 from harness.schema.base import StrictModel
 
+Batching = Literal["full", "sampled"]
 CompileMode = Literal["auto"] | bool
+# neighbours drawn per layer, first layer first; "all" keeps every neighbour
+Fanout = list[Annotated[int, Field(ge=1, le=100_000)]] | Literal["all"]
 
 
 class Training(StrictModel):
-    """Full-batch training with Adam and early stopping on the validation metric.
+    """Adam with early stopping on the validation metric, on the full graph at every step
+    (`batching = "full"`) or on neighbour-sampled batches of `batch_size` target nodes
+    (`batching = "sampled"`, `fanout` neighbours per layer).
 
-    `compile`: "auto" compiles the model with torch.compile when the graph is large enough for
-    the compile to pay back within the run's epochs (harness.planning resolves it to true or
-    false before run keys are taken), true always compiles, false never does.
+    `compile`: "auto" compiles a full-batch run's model with torch.compile when the graph is
+    large enough for the compile to pay back within the run's epochs (harness.planning resolves
+    it to true or false before run keys are taken), true compiles, false never does. Sampled
+    runs are not compiled: every batch has another shape.
     """
 
-    keyed_when_set: ClassVar[frozenset[str]] = frozenset({"compile"})
+    keyed_when_set: ClassVar[frozenset[str]] = frozenset(
+        {"batching", "batch_size", "fanout", "compile"}
+    )
     # eager training is what every run did before compiling existed: it keeps their keys
     unkeyed_values: ClassVar[dict[str, tuple]] = {"compile": (False,)}
 
@@ -27,7 +35,14 @@ class Training(StrictModel):
     patience: int = Field(50, ge=1, le=100_000)
     learning_rate: float = Field(0.01, gt=0, le=1)
     weight_decay: float = Field(5e-4, ge=0, le=1)
+    batching: Batching = "full"
+    batch_size: int = Field(1024, ge=1, le=10_000_000)
+    fanout: Fanout | None = Field(None, min_length=1)
     compile: CompileMode = "auto"
+
+    @property
+    def sampled(self) -> bool:
+        return self.batching == "sampled"
 
 
 class TrainingOverride(StrictModel):
@@ -37,6 +52,9 @@ class TrainingOverride(StrictModel):
     patience: int | None = Field(None, ge=1, le=100_000)
     learning_rate: float | None = Field(None, gt=0, le=1)
     weight_decay: float | None = Field(None, ge=0, le=1)
+    batching: Batching | None = None
+    batch_size: int | None = Field(None, ge=1, le=10_000_000)
+    fanout: Fanout | None = Field(None, min_length=1)
     compile: CompileMode | None = None
 
     def apply(self, defaults: Training) -> Training:

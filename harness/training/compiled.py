@@ -35,6 +35,7 @@ class Forward:
 
     def __init__(self, model: nn.Module, compile_model: bool):
         self.model = model
+        self.wanted = compile_model
         self.compiled: nn.Module | None = None
         self.warning: str | None = None
         if compile_model:

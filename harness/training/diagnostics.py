@@ -34,6 +34,9 @@ import torch
 from torch import nn
 from torch_geometric.utils import scatter
 
+from harness.models import unwrap
+from harness.training.inference import CHUNK_NODES, ChunkedGraph
+
 MEASURES = (
     "entropy_ratio",
     "self_share",
@@ -54,22 +57,21 @@ def node_entropy(target: torch.Tensor, alpha: torch.Tensor, nodes: int) -> torch
     return -scatter(plogp, target, dim_size=nodes, reduce="sum")
 
 
-def head_measures(
+def node_measures(
     edge_index: torch.Tensor, alpha: torch.Tensor, labels: torch.Tensor, nodes: int
-) -> dict[str, float | None]:
-    """The measures above for one head; `alpha` sums to 1 over each target's incoming edges."""
+) -> dict[str, tuple[torch.Tensor, torch.Tensor]]:
+    """Per target node, each measure's value and whether the node counts towards its mean;
+    `alpha` sums to 1 over each target's incoming edges."""
     source, target = edge_index
     alpha = alpha.double()
     degree = scatter(torch.ones_like(alpha), target, dim_size=nodes, reduce="sum")
     entropy = node_entropy(target, alpha, nodes)
-    several = degree >= 2
-    ratio = entropy / torch.log(degree.clamp(min=2))
     loop = source == target
-    measures: dict[str, float | None] = {"entropy_ratio": _mean(ratio, several)}
+    measures = {"entropy_ratio": (entropy / torch.log(degree.clamp(min=2)), degree >= 2)}
     has_loop = scatter(loop.double(), target, dim_size=nodes, reduce="sum") > 0
     self_weight = scatter(alpha * loop, target, dim_size=nodes, reduce="sum")
-    measures["self_share"] = _mean(self_weight, has_loop)
-    measures["uniform_self_share"] = _mean(1 / degree.clamp(min=1), has_loop)
+    measures["self_share"] = (self_weight, has_loop)
+    measures["uniform_self_share"] = (1 / degree.clamp(min=1), has_loop)
     usable = ~loop & (labels[source] >= 0) & (labels[target] >= 0)
     same = (labels[source] == labels[target]) & usable
     mass = scatter(alpha * usable, target, dim_size=nodes, reduce="sum")
@@ -77,17 +79,33 @@ def head_measures(
     count = scatter(usable.double(), target, dim_size=nodes, reduce="sum")
     same_count = scatter(same.double(), target, dim_size=nodes, reduce="sum")
     has_neighbour = (count > 0) & (mass > 0) & (labels >= 0)
-    measures["same_label_share"] = _mean(same_mass / mass.clamp(min=1e-300), has_neighbour)
-    measures["neighbour_homophily"] = _mean(same_count / count.clamp(min=1), has_neighbour)
+    measures["same_label_share"] = (same_mass / mass.clamp(min=1e-300), has_neighbour)
+    measures["neighbour_homophily"] = (same_count / count.clamp(min=1), has_neighbour)
     return measures
+
+
+def head_measures(
+    edge_index: torch.Tensor, alpha: torch.Tensor, labels: torch.Tensor, nodes: int
+) -> dict[str, float | None]:
+    """The measures above for one head, averaged over the nodes each one counts."""
+    measured = node_measures(edge_index, alpha, labels, nodes)
+    return {name: _mean(values, keep) for name, (values, keep) in measured.items()}
+
+
+def summarise(records: list[dict], edges: int, attend_to_self: bool) -> dict[str, Any]:
+    """The stored format from one record per layer and head."""
+    mean = {}
+    for name in MEASURES:
+        values = [r[name] for r in records if r[name] is not None]
+        mean[name] = float(np.mean(values)) if values else None
+    return {"edges": edges, "attend_to_self": attend_to_self, "heads": records, "mean": mean}
 
 
 def attention_diagnostics(
     model: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, labels: torch.Tensor
 ) -> dict[str, Any]:
     """Diagnostics of a trained attention model (evaluation mode), in the stored format."""
-    if hasattr(model, "embedding"):  # identity feature start: look the node ids up first
-        x, model = model.embedding(x), model.inner
+    model, x = unwrap(model, x)
     model.eval()
     with torch.no_grad():
         _, edges, weights = model.run(x, edge_index, keep_attention=True)
@@ -97,13 +115,44 @@ def attention_diagnostics(
         for head in range(alpha.size(1)):
             measures = head_measures(edges, alpha[:, head], labels, nodes)
             records.append({"layer": layer, "head": head + 1, **measures})
-    mean = {}
-    for name in MEASURES:
-        values = [r[name] for r in records if r[name] is not None]
-        mean[name] = float(np.mean(values)) if values else None
-    return {
-        "edges": int(edges.size(1)),
-        "attend_to_self": bool(model.attend_to_self),
-        "heads": records,
-        "mean": mean,
-    }
+    return summarise(records, int(edges.size(1)), bool(model.attend_to_self))
+
+
+@torch.no_grad()
+def chunked_attention_diagnostics(
+    model: nn.Module,
+    x: torch.Tensor,
+    edge_index: torch.Tensor,
+    labels: torch.Tensor,
+    chunk_nodes: int = CHUNK_NODES,
+) -> dict[str, Any]:
+    """The same diagnostics in bounded memory: each layer runs over chunks of target nodes
+    (harness.training.inference), and the per-node values are summed chunk by chunk."""
+    model, h = unwrap(model, x)
+    model.eval()
+    nodes = h.size(0)
+    edges, _ = model.message_edges(edge_index, nodes)
+    graph = ChunkedGraph(edges, None, nodes, chunk_nodes)
+    records = []
+    for layer in range(len(model.layers)):
+        parts, sums, counts = [], {}, {}
+        for chunk in graph.chunks():
+            out, alpha = model.attention_step(layer, h[chunk.local], chunk.edge_index)
+            parts.append(out[chunk.target_rows])
+            for head in range(alpha.size(1)):
+                measured = node_measures(
+                    chunk.edge_index, alpha[:, head], labels[chunk.local], len(chunk.local)
+                )
+                for name, (values, keep) in measured.items():
+                    kept = keep[chunk.target_rows]
+                    picked = values[chunk.target_rows][kept]
+                    sums[head, name] = sums.get((head, name), 0.0) + float(picked.sum())
+                    counts[head, name] = counts.get((head, name), 0) + int(kept.sum())
+        h = torch.cat(parts)
+        for head in sorted({head for head, _ in sums}):
+            averages = {
+                name: sums[head, name] / counts[head, name] if counts[head, name] else None
+                for name in MEASURES
+            }
+            records.append({"layer": layer + 1, "head": head + 1, **averages})
+    return summarise(records, int(edges.size(1)), bool(model.attend_to_self))

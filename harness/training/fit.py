@@ -1,4 +1,5 @@
-"""One run: full-batch node classification with Adam and early stopping on validation."""
+"""One run: node classification with Adam and early stopping on validation, fed the whole
+graph or neighbour-sampled batches at each step (harness.training.feeding)."""
 
 from __future__ import annotations
 
@@ -21,7 +22,9 @@ from harness.planning import RunSpec
 from harness.schema.contenders import ATTENTION_KINDS
 from harness.schema.training import Training
 from harness.training.compiled import Forward, use_compile_cache
-from harness.training.diagnostics import attention_diagnostics
+from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
+from harness.training.feeding import Step, make_feed
+from harness.training.inference import chunked_logits
 from harness.training.metrics import METRICS, fast_score, score
 from harness.training.resources import peak_resident_mb, reset_peak_resident
 
@@ -75,6 +78,11 @@ def snapshot(model: nn.Module) -> dict[str, torch.Tensor]:
     return {name: tensor.detach().clone() for name, tensor in model.state_dict().items()}
 
 
+def step_loss(model: nn.Module, step: Step) -> torch.Tensor:
+    logits = model(step.x, step.edge_index, step.edge_weight)
+    return nn.functional.cross_entropy(logits[step.rows], step.labels)
+
+
 def fit(
     model: nn.Module,
     data: Data,
@@ -83,16 +91,20 @@ def fit(
     metric: str,
     on_epoch: Callable[[int, float], None] | None = None,
     training_graph: Data | None = None,
+    seed: int = 0,
 ) -> RunResult:
     """Train until `epochs` or `patience` epochs without validation gain; restore best weights.
 
     `training_graph` (inductive runs): the training forward pass sees only this graph, and the
     loss is taken at its `train_rows`; validation and test still use `data`, the full graph.
+    Sampled batching draws batches from that graph with `seed` and scores validation and test
+    by exact chunked inference (harness.training.inference); full batching scores validation
+    with the last layer run for the validation rows only (the same logits as a full pass).
 
     `on_epoch(epoch, validation_score)` may raise to stop the run early (used by pruning).
     Peak memory is the tensor memory of a training step: parameters, gradients, Adam state,
-    inputs, and the activations autograd keeps for backward (measured, not sampled, on the
-    first epoch, which is always eager).
+    inputs (the graph, or the first sampled batch), and the activations autograd keeps for
+    backward (measured, not sampled, on the first step, which is always eager).
 
     With `training.compile` true, epochs from the second on run the compiled model (see
     harness.training.compiled); `compile_seconds` is what the second epoch took beyond a
@@ -102,42 +114,52 @@ def fit(
     optimizer = torch.optim.Adam(
         model.parameters(), lr=training.learning_rate, weight_decay=training.weight_decay
     )
-    forward = Forward(model, training.compile is True)
+    forward = Forward(model, training.compile is True and not training.sampled)
     x, edge_index, y = data.x, data.edge_index, data.y
     train_y, val_y = y[split.train], y[split.validation]
     seen = data if training_graph is None else training_graph
     seen_rows = split.train if training_graph is None else training_graph.train_rows
+    feed = make_feed(model, seen, seen_rows, train_y, training, seed)
 
-    def training_loss(network: nn.Module) -> torch.Tensor:
-        # the one place training data is fed: the whole (training) graph, in one batch
-        logits = network(seen.x, seen.edge_index)
-        return nn.functional.cross_entropy(logits[seen_rows], train_y)
-
-    def descend(loss: torch.Tensor) -> None:
+    def descend(network: nn.Module, step: Step) -> None:
         optimizer.zero_grad()
-        loss.backward()
+        step_loss(network, step).backward()
         optimizer.step()
 
     def validate(network: nn.Module) -> float:
-        # the last layer only for the validation rows; the same logits there as a full pass
+        if training.sampled:
+            logits = chunked_logits(model, x, edge_index)[split.validation]
+        else:
+            with torch.no_grad():
+                logits = network(x, edge_index, None, split.validation)
+        return fast_score(metric, logits, val_y, classes)
+
+    def logits_of_all() -> torch.Tensor:
+        if training.sampled:
+            return chunked_logits(model, x, edge_index)
         with torch.no_grad():
-            return fast_score(metric, network(x, edge_index, split.validation), val_y, classes)
+            return forward.guarded(lambda network: network(x, edge_index))
 
     best_score, best_epoch, best_state = -float("inf"), 0, snapshot(model)
     curve: list[float] = []
     epoch_seconds: list[float] = []
     meter = ActivationMeter()
+    inputs = tensor_bytes(x, edge_index, y)
     started = time.perf_counter()
     epoch = 0
     for epoch in range(1, training.epochs + 1):
         epoch_started = time.perf_counter()
         model.train()
-        if epoch == 1:
-            with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
-                loss = training_loss(model)
-            descend(loss)
-        else:
-            forward.guarded(lambda network: descend(training_loss(network)))
+        for number, step in enumerate(feed.steps()):  # the whole graph, or sampled batches
+            if epoch == 1 and number == 0:
+                optimizer.zero_grad()
+                with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
+                    loss = step_loss(model, step)
+                inputs = tensor_bytes(*step.tensors()) if training.sampled else inputs
+                loss.backward()
+                optimizer.step()
+            else:
+                forward.guarded(lambda network, step=step: descend(network, step))
         model.eval()
         validation = validate(model) if epoch == 1 else forward.guarded(validate)
         epoch_seconds.append(time.perf_counter() - epoch_started)
@@ -150,11 +172,9 @@ def fit(
         if epoch - best_epoch >= training.patience:
             break
     train_seconds = time.perf_counter() - started
-    compile_seconds = compile_share(epoch_seconds) if training.compile is True else 0.0
+    compile_seconds = compile_share(epoch_seconds) if forward.wanted else 0.0
     model.load_state_dict(best_state)
-    model.eval()
-    with torch.no_grad():
-        logits = forward.guarded(lambda network: network(x, edge_index))
+    logits = logits_of_all()
     test_logits, test_y = logits[split.test], y[split.test]
     test_scores = {
         name: score(name, test_logits, test_y, classes) if len(test_y) else float("nan")
@@ -162,8 +182,11 @@ def fit(
     }  # no test nodes while tuning
     params = sum(p.numel() for p in model.parameters())
     parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
-    peak = parameter_bytes * (2 + ADAM_STATES) + tensor_bytes(x, edge_index, y) + meter.bytes
+    peak = parameter_bytes * (2 + ADAM_STATES) + inputs + meter.bytes
     compiled = forward.mode == "compiled"
+    extras: dict[str, Any] = {"compile": compile_record(compiled, compile_seconds, forward.warning)}
+    if training.sampled:
+        extras["batching"] = feed.extras()
     return RunResult(
         val_metric=score(metric, logits[split.validation], val_y, classes),
         test_metric=test_scores[metric],
@@ -175,7 +198,7 @@ def fit(
         params=params,
         peak_mb=peak / MEBIBYTE,
         curve=curve,
-        extras={"compile": compile_record(compiled, compile_seconds, forward.warning)},
+        extras=extras,
         compiled=compiled,
     )
 
@@ -233,7 +256,9 @@ def perform(
     if spec.setting == "inductive":  # held-out nodes and their edges never reach training
         train_graph = training_subgraph(data, split)
         inductive = contender_graph(train_graph, spec.options, spec.seed, spec.hop_cache).data
-    result = fit(model, started.data, split, spec.training, spec.metric, on_epoch, inductive)
+    result = fit(
+        model, started.data, split, spec.training, spec.metric, on_epoch, inductive, spec.seed
+    )
     if inductive is not None and not validation_only:
         radius = spec.options.layers * getattr(spec.options, "hop_radius", 1)
         radius += spec.model == "gcn"  # degree weights reach 1 hop more
@@ -241,7 +266,8 @@ def perform(
         result = replace(result, extras={**result.extras, "arrival": arrival.as_dict()})
     if spec.model in ATTENTION_KINDS:
         graph = started.data
-        diagnostics = attention_diagnostics(model, graph.x, graph.edge_index, graph.y)
+        diagnose = chunked_attention_diagnostics if spec.training.sampled else attention_diagnostics
+        diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y)
         result = replace(result, extras={**result.extras, "attention": diagnostics})
     resident = peak_resident_mb() if measured else None
     return replace(

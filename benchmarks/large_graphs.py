@@ -1,0 +1,212 @@
+"""Seconds per epoch and peak memory on large graphs: Heedful against a textbook PyG loop.
+
+Graphs: the synthetic contextual block model with 100,000 nodes and 1,000,000 undirected edges
+(`--size 100k`) or 1,000,000 nodes and 5,000,000 undirected edges (`--size 1m`), 64 features,
+5 classes. Contenders: GAT 8 heads x 8, GATv2 8 heads x 8, GCN 64, SAGE 64 (two layers, dropout
+0.5, ELU; the attention output layer averages its 8 heads, as Heedful's default).
+
+Loops, each in its own process (so that its peak resident memory is its own), alternating:
+- `heedful` and `heedful_compiled`: Heedful's `perform()` of the run, compile = false / true;
+- `textbook` and `textbook_compiled`: a plain full-batch loop written below with PyG's layers at
+  their defaults (self-loops added by the layer on every call), Adam, then the same loop with
+  `torch.compile(model)`.
+An epoch is one training step plus one validation pass. Seconds per epoch: median of the
+measured epochs after warm-up (Heedful: its first epoch, eager and metered, and for compiled
+runs the second, which compiles; textbook: the first). Compile seconds: the compiling epoch
+minus that median. Each process compiles with an empty compile cache (a first compile).
+Peak memory: the process's resident high-water mark (VmHWM) at its end, graph building included.
+
+Run by hand, one heavy job at a time on a shared machine:
+    flock /tmp/heedful-bench.lock .venv/bin/python benchmarks/large_graphs.py --size 100k
+"""
+
+from __future__ import annotations
+
+# isort: off
+import harness  # noqa: F401  (first: Heedful's OpenMP wait policy must be set before torch loads)
+
+# isort: on
+import argparse
+import json
+import os
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import torch
+from torch import nn
+
+SIZES = {"100k": (100_000, 20.0), "1m": (1_000_000, 10.0)}  # nodes, average degree
+CONTENDERS = {
+    "gat": {"model": "gat", "heads": 8, "hidden": 8},
+    "gatv2": {"model": "gatv2", "heads": 8, "hidden": 8},
+    "gcn": {"model": "gcn", "hidden": 64},
+    "sage": {"model": "sage", "hidden": 64},
+}
+LOOPS = ("heedful", "heedful_compiled", "textbook", "textbook_compiled")
+
+
+def suite_for(size: str, contender: str, epochs: int, compile_model: bool):
+    """A one-run suite: the benchmark graph and one contender, patience that never stops it."""
+    from harness.planning import expand, parse_suite
+
+    nodes, degree = SIZES[size]
+    raw = {
+        "name": f"large_{size}",
+        "seeds": [0],
+        "data": {
+            "source": "synthetic",
+            "nodes": nodes,
+            "classes": 5,
+            "average_degree": degree,
+            "feature_dimension": 64,
+            "graph_seed": 1,
+        },
+        "training": {"epochs": epochs, "patience": epochs, "compile": compile_model},
+        "contenders": {contender: CONTENDERS[contender]},
+    }
+    return expand(parse_suite(raw, "benchmarks/large_graphs.py"))[0]
+
+
+def textbook_model(contender: str, classes: int) -> nn.Module:
+    """Two PyG layers with their defaults, as a tutorial would write them."""
+    from torch_geometric.nn import GATConv, GATv2Conv, GCNConv, SAGEConv
+
+    class TwoLayers(nn.Module):
+        def __init__(self) -> None:
+            super().__init__()
+            if contender in ("gat", "gatv2"):
+                layer = GATConv if contender == "gat" else GATv2Conv
+                self.first = layer(64, 8, heads=8)
+                self.second = layer(64, classes, heads=8, concat=False)
+            elif contender == "gcn":
+                self.first, self.second = GCNConv(64, 64), GCNConv(64, classes)
+            else:
+                self.first, self.second = SAGEConv(64, 64), SAGEConv(64, classes)
+
+        def forward(self, x, edge_index):
+            x = nn.functional.dropout(x, 0.5, self.training)
+            x = nn.functional.elu(self.first(x, edge_index))
+            x = nn.functional.dropout(x, 0.5, self.training)
+            return self.second(x, edge_index)
+
+    return TwoLayers()
+
+
+def textbook_epochs(spec, epochs: int, compile_model: bool) -> list[float]:
+    """Seconds of each epoch of the textbook loop on the run's graph and split."""
+    from harness.data import load_graph
+    from harness.data.splits import make_split
+
+    data = load_graph(spec.data)
+    split = make_split(data, spec.split, spec.seed)
+    torch.manual_seed(0)
+    model = textbook_model(spec.model, int(data.y.max()) + 1)
+    network = torch.compile(model) if compile_model else model
+    optimizer = torch.optim.Adam(model.parameters(), lr=0.01, weight_decay=5e-4)
+    seconds = []
+    for _ in range(epochs):
+        started = time.perf_counter()
+        model.train()
+        optimizer.zero_grad()
+        out = network(data.x, data.edge_index)
+        loss = nn.functional.cross_entropy(out[split.train], data.y[split.train])
+        loss.backward()
+        optimizer.step()
+        model.eval()
+        with torch.no_grad():
+            predicted = network(data.x, data.edge_index).argmax(1)[split.validation]
+        float((predicted == data.y[split.validation]).double().mean())
+        seconds.append(time.perf_counter() - started)
+    return seconds
+
+
+def heedful_epochs(spec, on_epoch_seconds: list[float]) -> dict:
+    """Heedful's whole run; the seconds of each epoch from its per-epoch callback."""
+    from harness.training.fit import perform
+
+    last = [time.perf_counter()]
+
+    def tick(epoch: int, score: float) -> None:
+        now = time.perf_counter()
+        on_epoch_seconds.append(now - last[0])
+        last[0] = now
+
+    # the graph is built before the first epoch: load it first so the clock starts after it
+    from harness.data import load_graph
+
+    load_graph(spec.data)
+    last[0] = time.perf_counter()
+    result = perform(spec, on_epoch=tick)
+    return {"tensor_mb": result.peak_mb, "extras_compile": result.extras["compile"]}
+
+
+def peak_resident_mb() -> float:
+    for line in Path("/proc/self/status").read_text().splitlines():
+        if line.startswith("VmHWM:"):
+            return int(line.split()[1]) / 1024
+    return float("nan")
+
+
+def child(size: str, contender: str, loop: str, measured: int) -> dict:
+    """One loop in this process; prints one JSON line."""
+    torch.set_num_threads(1)
+    compiled = loop.endswith("compiled")
+    warm_up = 1 + (compiled and loop.startswith("heedful"))
+    epochs = warm_up + measured
+    spec = suite_for(size, contender, epochs, compiled)
+    row: dict = {"size": size, "contender": contender, "loop": loop}
+    if loop.startswith("heedful"):
+        seconds: list[float] = []
+        row.update(heedful_epochs(spec, seconds))
+    else:
+        seconds = textbook_epochs(spec, epochs, compiled)
+    typical = statistics.median(seconds[warm_up:])
+    row["seconds_per_epoch"] = typical
+    row["epochs"] = seconds
+    row["compile_seconds"] = max(0.0, seconds[warm_up - 1] - typical) if compiled else 0.0
+    row["peak_resident_mb"] = peak_resident_mb()
+    row["threads"] = torch.get_num_threads()
+    return row
+
+
+def run_child(size: str, contender: str, loop: str, measured: int) -> dict:
+    with tempfile.TemporaryDirectory(prefix="heedful-compile-") as cache:
+        environment = {**os.environ, "TORCHINDUCTOR_CACHE_DIR": cache, "HEEDFUL_CACHE": cache}
+        command = [sys.executable, __file__, "--child", size, contender, loop, str(measured)]
+        done = subprocess.run(command, capture_output=True, text=True, env=environment)
+    if done.returncode != 0:
+        return {"size": size, "contender": contender, "loop": loop, "error": done.stderr[-400:]}
+    return json.loads(done.stdout.strip().splitlines()[-1])
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    parser.add_argument("--size", choices=sorted(SIZES), default="100k")
+    parser.add_argument("--contenders", default=",".join(CONTENDERS))
+    parser.add_argument("--loops", default=",".join(LOOPS))
+    parser.add_argument("--epochs", type=int, default=3, help="measured epochs after warm-up")
+    parser.add_argument("--rounds", type=int, default=1, help="alternating rounds")
+    parser.add_argument("--out", default=None, help="JSON lines file to append rows to")
+    parser.add_argument("--child", nargs=4, help=argparse.SUPPRESS)
+    args = parser.parse_args()
+    if args.child:
+        size, contender, loop, measured = args.child
+        print(json.dumps(child(size, contender, loop, int(measured))))
+        return
+    for round_number in range(args.rounds):
+        for contender in args.contenders.split(","):
+            for loop in args.loops.split(","):
+                row = run_child(args.size, contender, loop, args.epochs)
+                row["round"] = round_number
+                print(json.dumps(row), flush=True)
+                if args.out:
+                    with open(args.out, "a") as handle:
+                        handle.write(json.dumps(row) + "\n")
+
+
+if __name__ == "__main__":
+    main()

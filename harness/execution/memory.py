@@ -1,0 +1,270 @@
+"""Memory a run will need, estimated from sizes alone before anything is allocated.
+
+A training step keeps, per layer, the tensors autograd saves for backward: per node its input
+and the layer's outputs, per message edge the gathered messages and (attention) the scores of
+every head. Full batch counts every node and edge of the graph (the k-hop set for hop masks,
+plus self-loops); sampled batching counts a batch: `batch_size` targets and, hop by hop, up to
+`fanout` neighbours of each, capped by the graph. A process also holds the graph itself, the
+Python and library images, and what backward and the allocator add on top of the saved
+tensors; the factors below are measured (README, "Memory estimate").
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+
+from pydantic import BaseModel
+
+from harness.errors import InputError
+from harness.schema.ablation import design_points
+from harness.schema.training import Training
+
+FLOAT = 4
+INDEX = 8
+GIB = 2**30
+BASE_BYTES = 480 * 2**20  # resident size of a worker after importing torch and PyG (measured)
+# resident peak over saved tensors: backward's gradients of the activations, allocator slack;
+# measured 15.1 GB resident for about 8.3 GB of saved tensors (1M-node GAT 8x8)
+BACKWARD_FACTOR = 1.6
+SYNTHETIC_BYTES_PER_FEATURE = 20  # float64 means + noise, then the float32 copy
+SYNTHETIC_BYTES_PER_EDGE = 80  # numpy draws, both directions, coalescing
+
+
+@dataclass(frozen=True)
+class GraphSize:
+    """What the estimate needs to know of a graph: directed edges (both directions counted)."""
+
+    nodes: int
+    edges: int
+    features: int
+    classes: int
+
+    @property
+    def average_degree(self) -> float:
+        return self.edges / max(self.nodes, 1)
+
+
+def declared_size(data: BaseModel) -> GraphSize | None:
+    """Size of a synthetic graph from its data section, before generating it; None otherwise."""
+    if data.source != "synthetic":
+        return None
+    edges = round(data.nodes * data.average_degree)
+    return GraphSize(data.nodes, edges, data.feature_dimension, data.classes)
+
+
+def machine_bytes() -> int:
+    """Physical memory of this machine."""
+    return os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
+
+
+def hop_edges(size: GraphSize, radius: int) -> float:
+    """Edges of the k-hop set: each node reaches about d + d^2 + ... + d^k others."""
+    reach = sum(size.average_degree**step for step in range(1, radius + 1))
+    return size.nodes * min(reach, size.nodes - 1)
+
+
+def layer_shapes(options: BaseModel, size: GraphSize) -> list[tuple[int, int, int]]:
+    """(input width, output width per head, heads) of every layer."""
+    hidden, layers = options.hidden, options.layers
+    width = options.start_width if options.feature_start == "identity" else size.features
+    heads = options.heads_per_layer() if hasattr(options, "heads_per_layer") else [1] * layers
+    merges = options.merge_per_layer() if hasattr(options, "merge_per_layer") else None
+    shapes = []
+    for index in range(layers):
+        out = size.classes if index == layers - 1 else hidden
+        shapes.append((width, out, heads[index]))
+        width = out * heads[index] if merges and merges[index] == "concatenate" else out
+    return shapes
+
+
+def saved_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float) -> float:
+    """Tensors autograd saves for backward in one training step over `nodes` nodes and `edges`
+    message edges; per-kind coefficients measured with fit's ActivationMeter (within 25% on a
+    20,000-node graph, tests/test_memory.py)."""
+    saved = 0.0
+    for width, out, heads in layer_shapes(options, size):
+        if options.model == "gat":  # scores and softmax per head, weighted messages
+            per_node, per_edge = FLOAT * (2 * width + 3 * heads * out), FLOAT * heads * (out + 3)
+        elif options.model in ("gatv2", "dot_product"):  # a score vector per edge and head
+            per_node = FLOAT * (2 * width + 3 * heads * out)
+            per_edge = FLOAT * heads * (2 * out + 6)
+        elif options.model == "sage":
+            per_node, per_edge = FLOAT * (2 * width + 2 * out), 0.0
+        else:  # gcn keeps an edge weight per edge; mlp has no edges
+            per_node, per_edge = FLOAT * (width + 2 * out), float(FLOAT)
+        saved += nodes * per_node + edges * (per_edge + 2 * INDEX)
+    return saved
+
+
+def step_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float) -> float:
+    """Peak of one training step: the saved tensors times BACKWARD_FACTOR, plus the widest
+    layer's messages, which live only while that layer runs."""
+    widest = max(heads * out for _, out, heads in layer_shapes(options, size))
+    return BACKWARD_FACTOR * saved_bytes(options, size, nodes, edges) + edges * widest * FLOAT
+
+
+def message_edges(options: BaseModel, size: GraphSize) -> float:
+    """Edges every layer runs on in a full-graph pass: k-hop set, plus self-loops."""
+    if options.model == "mlp":
+        return 0.0
+    edges = hop_edges(size, options.hop_radius) if hasattr(options, "hop_radius") else size.edges
+    return edges + (size.nodes if options.model != "sage" else 0)
+
+
+def batch_extent(options: BaseModel, size: GraphSize, training: Training) -> tuple[float, float]:
+    """Expected nodes and edges of one sampled batch, capped by the graph."""
+    if options.model == "mlp":
+        return min(training.batch_size, size.nodes), 0.0
+    degree = message_edges(options, size) / max(size.nodes, 1)
+    fanout = training.fanout
+    counts = [degree] * options.layers if fanout == "all" else list(reversed(fanout))
+    nodes = frontier = float(min(training.batch_size, size.nodes))
+    edges = 0.0
+    for count in counts:
+        drawn = frontier * min(count, degree)
+        edges += drawn
+        frontier = min(drawn, size.nodes)
+        nodes = min(nodes + frontier, size.nodes)
+    return nodes, min(edges, message_edges(options, size) * len(counts))
+
+
+def graph_bytes(size: GraphSize, options: BaseModel) -> float:
+    """The graph the process holds: features, labels, edges (and the k-hop set)."""
+    edges = size.edges + (message_edges(options, size) if options.model != "mlp" else 0)
+    return size.nodes * (size.features * FLOAT + INDEX) + edges * 2 * INDEX
+
+
+def run_bytes(options: BaseModel, size: GraphSize, training: Training) -> float:
+    """Estimated peak resident memory of one run."""
+    parameters = sum((w * o * h + o * h) * 4 * FLOAT for w, o, h in layer_shapes(options, size))
+    if training.sampled:
+        nodes, edges = batch_extent(options, size, training)
+        widest = max(o * h for _, o, h in layer_shapes(options, size))
+        evaluation = 2 * size.nodes * widest * FLOAT  # chunked inference keeps two layer outputs
+        sampler = size.edges * 2 * INDEX  # target-sorted copy of the edges
+        step = step_bytes(options, size, nodes, edges)
+        return BASE_BYTES + graph_bytes(size, options) + sampler + evaluation + parameters + step
+    step = step_bytes(options, size, size.nodes, message_edges(options, size))
+    return BASE_BYTES + graph_bytes(size, options) + parameters + step
+
+
+def data_bytes(data: BaseModel, size: GraphSize) -> float:
+    """Peak while generating a synthetic graph (numpy works in float64 and int64)."""
+    if data.source != "synthetic":
+        return 0.0
+    features = size.nodes * size.features * SYNTHETIC_BYTES_PER_FEATURE
+    return BASE_BYTES + features + size.edges * SYNTHETIC_BYTES_PER_EDGE
+
+
+@dataclass(frozen=True)
+class RunMemory:
+    """The estimate of one contender configuration; `sampled_bytes` is what sampling would
+    need (batch 1024, fan-out 10 per layer) when the run is full batch."""
+
+    contender: str
+    label: str
+    batching: str
+    bytes: float
+    sampled_bytes: float | None = None
+
+
+SUGGESTED = {"batching": "sampled", "batch_size": 1024}
+
+
+def estimate_runs(designs: list, suite_training: Training, size: GraphSize) -> list[RunMemory]:
+    """One estimate per contender configuration (design point) of a suite."""
+    estimates = []
+    for design in designs:
+        training = design.options.training.apply(suite_training)
+        needed = run_bytes(design.options, size, training)
+        sampled = None
+        if not training.sampled:
+            fanout = [10] * design.options.layers
+            alternative = training.model_copy(update={**SUGGESTED, "fanout": fanout})
+            sampled = run_bytes(design.options, size, alternative)
+        estimates.append(
+            RunMemory(design.contender, design.label, training.batching, needed, sampled)
+        )
+    return estimates
+
+
+def gib(value: float) -> str:
+    return f"{value / GIB:,.1f} GiB"
+
+
+def check_memory(
+    estimates: list[RunMemory],
+    jobs: int,
+    limit_bytes: float,
+    source: str,
+    data_peak: float = 0,
+    runs: int = 1,
+) -> None:
+    """Stop when `jobs` of the largest run (at most `runs` at a time) or generating the graph
+    exceed the limit."""
+    if data_peak > limit_bytes:
+        raise InputError(
+            f"{source}: data: generating this graph needs about {gib(data_peak)}, above the "
+            f"memory limit of {gib(limit_bytes)}; allowed: fewer nodes, a smaller "
+            "average_degree or feature_dimension, or --memory-limit GIB to raise the limit"
+        )
+    if not estimates:
+        return
+    largest = max(estimates, key=lambda estimate: estimate.bytes)
+    running = max(min(jobs, runs), 1)
+    needed = largest.bytes * running
+    if needed <= limit_bytes:
+        return
+    processes = f"{running} jobs x {gib(largest.bytes)} = {gib(needed)}" if running > 1 else ""
+    hint = ""
+    if largest.sampled_bytes is not None:
+        hint = (
+            f', batching = "sampled" (batch_size = 1024, fanout = 10 per layer: about '
+            f"{gib(largest.sampled_bytes)} per run)"
+        )
+    raise InputError(
+        f"{source}: contenders.{largest.contender}: a {largest.batching}-batch run of "
+        f"{largest.label} needs about "
+        f"{gib(largest.bytes)}{'; ' + processes if processes else ''}, above the memory limit "
+        f"of {gib(limit_bytes)} (this machine has {gib(machine_bytes())}); allowed: "
+        f"{'fewer --jobs, ' if running > 1 else ''}a smaller graph or model{hint}, or "
+        "--memory-limit GIB to raise the limit"
+    )
+
+
+def check_suite_memory(
+    suite: BaseModel,
+    source: str,
+    jobs: int,
+    limit_gib: float | None,
+    loaded: GraphSize | None = None,
+) -> list[RunMemory]:
+    """Estimates of a suite's runs, stopping with an input error when they do not fit;
+    empty when the graph's size is not known yet (it is known before loading only for
+    synthetic data; pass `loaded` once the graph is loaded)."""
+    size = declared_size(suite.data) or loaded
+    if size is None:
+        return []
+    limit = machine_bytes() if limit_gib is None else limit_gib * GIB
+    estimates = estimate_runs(design_points(suite, source), suite.training, size)
+    runs = len(estimates) * len(suite.seed_list)
+    check_memory(estimates, jobs, limit, source, data_bytes(suite.data, size), runs)
+    return estimates
+
+
+def memory_outline(estimates: list[RunMemory], jobs: int = 1) -> list[str]:
+    """One line per contender configuration; sampling is suggested for full-batch runs that
+    would take more than half of this machine's memory with `jobs` processes."""
+    lines = []
+    for estimate in estimates:
+        needed = gib(estimate.bytes)
+        line = f"  {estimate.label}: about {needed} per run ({estimate.batching} batch)"
+        heavy = estimate.bytes * jobs > machine_bytes() / 2
+        if estimate.sampled_bytes is not None and heavy:
+            line += (
+                f'; batching = "sampled" (batch_size = 1024, fanout = 10 per layer) would '
+                f"need about {gib(estimate.sampled_bytes)}"
+            )
+        lines.append(line)
+    return lines

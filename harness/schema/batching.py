@@ -1,0 +1,48 @@
+"""Cross-checks of sampled batching against each contender: fan-out entries match its layers."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from harness.errors import InputError
+from harness.schema.ablation import design_points
+from harness.schema.tuning import spaces
+
+if TYPE_CHECKING:
+    from harness.schema.suite import Suite
+
+
+def _fanout_source(suite: Suite, contender: str) -> str:
+    """Where a contender's fan-out (or its absence) comes from, as a key path."""
+    own = suite.contenders[contender].training
+    if own.fanout is not None or own.batching is not None:
+        return f"contenders.{contender}.training.fanout"
+    return "training.fanout"
+
+
+def check_batching(suite: Suite, source: str) -> None:
+    """Sampled contenders need a fan-out with one entry per layer (or "all")."""
+    tuned = {} if suite.tuning is None else spaces(suite.tuning, suite.contenders)
+    for design in design_points(suite, source):
+        training = design.options.training.apply(suite.training)
+        if not training.sampled:
+            continue
+        where = f"{source}: {_fanout_source(suite, design.contender)}"
+        layers = design.options.layers
+        if training.fanout is None:
+            raise InputError(
+                f'{where}: required when batching = "sampled"; allowed: a list of neighbour '
+                f'counts with one entry per layer ({layers}), or "all"'
+            )
+        if training.fanout == "all":
+            continue
+        if len(training.fanout) != layers:
+            raise InputError(
+                f"{where}: given {training.fanout} ({len(training.fanout)} entries) for "
+                f'{design.label} with {layers} layers; allowed: one count per layer, or "all"'
+            )
+        if "layers" in tuned.get(design.contender, {}):
+            raise InputError(
+                f"{where}: given {training.fanout} while tuning.space.{design.contender} varies "
+                'layers; allowed: fanout = "all", or a fixed layers count'
+            )

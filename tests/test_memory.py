@@ -1,0 +1,123 @@
+"""Memory estimates: the saved-tensor model against fit's measurement, and the commands that
+stop a suite whose runs would not fit the memory limit (exit 2, one line)."""
+
+from __future__ import annotations
+
+import pytest
+import torch
+
+from harness.cli import main
+from harness.data.synthetic import contextual_sbm
+from harness.execution.memory import (
+    GIB,
+    GraphSize,
+    declared_size,
+    estimate_runs,
+    message_edges,
+    saved_bytes,
+)
+from harness.models import build_model
+from harness.planning import load_suite
+from harness.schema.ablation import design_points
+from harness.schema.contenders import (
+    AttentionOptions,
+    ConvolutionOptions,
+    MLPOptions,
+    NeighbourMeanOptions,
+)
+from harness.schema.data import SyntheticData
+from harness.training.fit import ActivationMeter
+
+KINDS = {
+    "gat": AttentionOptions(model="gat"),
+    "gatv2": AttentionOptions(model="gatv2", heads=4),
+    "dot_product": AttentionOptions(model="dot_product", heads=2, hidden=16),
+    "gcn": ConvolutionOptions(model="gcn"),
+    "sage": NeighbourMeanOptions(model="sage"),
+    "mlp": MLPOptions(model="mlp", layers=3),
+}
+
+
+@pytest.mark.parametrize("kind", sorted(KINDS))
+def test_saved_tensor_estimate_is_within_a_quarter_of_the_measured_activations(kind):
+    spec = SyntheticData(source="synthetic", nodes=3000, average_degree=10, feature_dimension=32)
+    data = contextual_sbm(spec)
+    options = KINDS[kind]
+    size = GraphSize(data.num_nodes, data.edge_index.size(1), 32, spec.classes)
+    model = build_model(options, 32, spec.classes)
+    meter = ActivationMeter()
+    with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
+        model(data.x, data.edge_index)
+    estimate = saved_bytes(options, size, size.nodes, message_edges(options, size))
+    assert 0.75 < estimate / meter.bytes < 1.25
+
+
+BIG = """\
+name = "big_ledger"
+seeds = 1
+[data]
+source = "synthetic"
+nodes = 30000
+average_degree = 20
+feature_dimension = 64
+[contenders.wide_attention]
+model = "gat"
+heads = 16
+hidden = 32
+"""
+
+
+def estimate_of(path) -> float:
+    suite = load_suite(path)
+    return estimate_runs(design_points(suite), suite.training, declared_size(suite.data))[0].bytes
+
+
+def test_check_stops_a_run_above_the_memory_limit_and_suggests_sampling(write_suite, capsys):
+    path = write_suite(BIG)
+    limit = estimate_of(path) / GIB / 2
+    assert main(["check", str(path), "--memory-limit", f"{limit:.3f}"]) == 2
+    message = capsys.readouterr().err.strip()
+    assert "\n" not in message
+    assert "contenders.wide_attention: a full-batch run of wide_attention needs about" in message
+    assert 'batching = "sampled"' in message and "--memory-limit GIB" in message
+
+
+def test_run_counts_its_jobs_against_the_limit(write_suite, capsys, tmp_path):
+    path = write_suite(BIG.replace("seeds = 1", "seeds = 2"))
+    limit = estimate_of(path) / GIB * 1.5  # one run fits, two side by side do not
+    store = tmp_path / "runs.db"
+    arguments = ["run", str(path), "--store", str(store), "--memory-limit", f"{limit:.3f}"]
+    assert main([*arguments, "--jobs", "2"]) == 2
+    message = capsys.readouterr().err
+    assert "2 jobs x" in message and "fewer --jobs" in message
+    assert not store.exists()  # stopped before anything was stored
+
+
+def test_generating_a_huge_graph_is_refused_before_allocating(write_suite, capsys):
+    huge = """\
+    name = "huge"
+    seeds = 1
+    [data]
+    source = "synthetic"
+    nodes = 2000000
+    average_degree = 1000
+    feature_dimension = 10000
+    [contenders.plain]
+    model = "mlp"
+    """
+    assert main(["check", str(write_suite(huge))]) == 2
+    message = capsys.readouterr().err
+    assert "data: generating this graph needs about" in message
+    assert "above the memory limit" in message
+
+
+def test_check_prints_each_contenders_estimate(tiny_suite, capsys):
+    assert main(["check", str(tiny_suite)]) == 0
+    out = capsys.readouterr().out
+    assert "estimated peak memory:" in out and "attention: about 0.5 GiB per run (full" in out
+
+
+def test_memory_limit_must_be_a_positive_number(tiny_suite, capsys):
+    with pytest.raises(SystemExit) as stopped:
+        main(["check", str(tiny_suite), "--memory-limit", "-3"])
+    assert stopped.value.code == 2
