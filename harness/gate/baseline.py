@@ -189,7 +189,8 @@ def read_baseline(path: str | Path) -> BaselineFile:
     try:
         raw = json.loads(text)
     except json.JSONDecodeError as error:
-        if not text[error.pos :].strip():
+        # a cut inside a string is reported at the string's start: it runs to the end too
+        if not text[error.pos :].strip() or error.msg.startswith("Unterminated string"):
             raise InputError(
                 f"{path}: baseline file is truncated: the JSON ends at line {error.lineno} "
                 f"column {error.colno} before the document is complete"
