@@ -75,7 +75,8 @@ def snapshot(model: nn.Module) -> dict[str, torch.Tensor]:
 
 
 def step_loss(model: nn.Module, step: Step) -> torch.Tensor:
-    logits = model(step.x, step.edge_index, step.edge_weight)
+    extra = () if step.edge_weight is None else (step.edge_weight,)  # only GCN batches have it
+    logits = model(step.x, step.edge_index, *extra)
     return nn.functional.cross_entropy(logits[step.rows], step.labels)
 
 
