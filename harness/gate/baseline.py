@@ -26,7 +26,6 @@ from harness.planning import RunSpec
 from harness.schema.base import format_validation_error
 from harness.schema.gate import BASELINE_FORMAT, BASELINE_FORMAT_VERSION, BaselineFile
 from harness.schema.suite import Suite
-from harness.storage import store
 
 RUN_FIELDS = (
     "test_metric",
@@ -100,16 +99,6 @@ def check_gateable(suite: Suite, path: str | Path) -> None:
             f"{path}: tuning: a gate compares fixed contender settings; allowed: a suite without "
             "[tuning] (copy the tuned settings into its contenders)"
         )
-
-
-def suite_runs(store_path: str | Path, specs: list[RunSpec]) -> pd.DataFrame:
-    """Stored runs of exactly these specs (same suite, contender and key)."""
-    if not specs:
-        return pd.DataFrame()
-    runs = store.load_runs(store_path, sorted({spec.suite for spec in specs}))
-    wanted = {(spec.contender, spec.key) for spec in specs}
-    keep = [(c, k) in wanted for c, k in zip(runs["contender"], runs["key"], strict=True)]
-    return runs[keep].reset_index(drop=True)
 
 
 def _rounded(value: Any) -> Any:

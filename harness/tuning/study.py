@@ -15,7 +15,7 @@ import json
 import os
 import socket
 from collections.abc import Callable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -24,11 +24,9 @@ import pandas as pd
 from optuna.samplers import BaseSampler, TPESampler
 from optuna.trial import FrozenTrial, Trial
 
-from harness.planning import RunSpec, expand
+from harness.planning import RunSpec, expand, with_settings
 from harness.schema.suite import Suite
-from harness.schema.training import Training
 from harness.schema.tuning import (
-    TRAINING_KEYS,
     Range,
     SpaceEntry,
     Tuning,
@@ -126,15 +124,6 @@ def suggest(trial: Trial, space: dict[str, SpaceEntry], options: Any) -> Setting
         else:
             settings[key] = trial.suggest_categorical(key, list(entry))
     return settings
-
-
-def with_settings(base: RunSpec, settings: Settings) -> RunSpec:
-    """The spec with tuned options and training settings (validated by the schema)."""
-    option_changes = {k: v for k, v in settings.items() if k not in TRAINING_KEYS}
-    training_changes = {k: v for k, v in settings.items() if k in TRAINING_KEYS}
-    options = type(base.options).model_validate({**base.options.model_dump(), **option_changes})
-    training = Training.model_validate({**base.training.model_dump(), **training_changes})
-    return replace(base, options=options, training=training)
 
 
 def objective_for(

@@ -1,0 +1,24 @@
+"""The stored runs of a list of run specs: what every command reads back after running."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pandas as pd
+
+from harness.planning import RunSpec
+from harness.storage import store
+
+
+def spec_runs(store_path: str | Path, specs: list[RunSpec]) -> pd.DataFrame:
+    """Stored runs of exactly these specs (same suite, contender and key), oldest first.
+
+    Runs an edited suite stored under its old settings are left out.
+    """
+    if not specs:
+        return pd.DataFrame()
+    runs = store.load_runs(store_path, sorted({spec.suite for spec in specs}))
+    wanted = {(spec.suite, spec.contender, spec.key) for spec in specs}
+    rows = zip(runs["suite"], runs["contender"], runs["key"], strict=True)
+    keep = pd.Series([row in wanted for row in rows], index=runs.index, dtype=bool)
+    return runs[keep].reset_index(drop=True)
