@@ -56,7 +56,7 @@ def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFram
 
             frame = store.load_runs(store_path, [loaded.name])
             return current_tuned_runs(frame, loaded).reset_index(drop=True)
-        return spec_runs(store_path, expand(loaded))
+        return spec_runs(store_path, expand(loaded), same_contender=False)
     return store.load_runs(store_path, None if suite is None else [str(suite)])
 
 

@@ -10,15 +10,22 @@ from harness.planning import RunSpec
 from harness.storage import store
 
 
-def spec_runs(store_path: str | Path, specs: list[RunSpec]) -> pd.DataFrame:
-    """Stored runs of exactly these specs (same suite, contender and key), oldest first.
+def spec_runs(
+    store_path: str | Path, specs: list[RunSpec], same_contender: bool = True
+) -> pd.DataFrame:
+    """Stored runs of exactly these specs (same suite, key and contender), oldest first.
 
-    Runs an edited suite stored under its old settings are left out.
+    Runs an edited suite stored under its old settings are left out. With `same_contender`
+    False a run counts under any contender name (names are labels; the key holds the options).
     """
     if not specs:
         return pd.DataFrame()
     runs = store.load_runs(store_path, sorted({spec.suite for spec in specs}))
-    wanted = {(spec.suite, spec.contender, spec.key) for spec in specs}
-    rows = zip(runs["suite"], runs["contender"], runs["key"], strict=True)
+    if same_contender:
+        wanted = {(spec.suite, spec.key, spec.contender) for spec in specs}
+        rows = zip(runs["suite"], runs["key"], runs["contender"], strict=True)
+    else:
+        wanted = {(spec.suite, spec.key) for spec in specs}
+        rows = zip(runs["suite"], runs["key"], strict=True)
     keep = pd.Series([row in wanted for row in rows], index=runs.index, dtype=bool)
     return runs[keep].reset_index(drop=True)
