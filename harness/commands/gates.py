@@ -5,6 +5,7 @@ from __future__ import annotations
 import time
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from harness.commands.feedback import SILENT, Feedback
 from harness.commands.run import Executed, execute_specs
@@ -29,11 +30,14 @@ from harness.report.junit import write_junit
 from harness.schema.suite import Suite
 from harness.storage.selection import spec_runs
 
+if TYPE_CHECKING:
+    from harness.storage.database import Location
+
 
 def _run_for_gate(
     suite: Suite,
     specs: list[RunSpec],
-    store_path: Path,
+    store_path: Location,
     jobs: int,
     threads: int,
     feedback: Feedback,
@@ -48,7 +52,7 @@ def _run_for_gate(
 @dataclass(frozen=True)
 class BaselineOutcome:
     suite: Suite
-    store: Path
+    store: Location
     executed: Executed
     runs: int
     saved: Path | None = None
@@ -61,7 +65,7 @@ class BaselineOutcome:
 def baseline(
     suite_path: str,
     save: Path,
-    store_path: Path,
+    store_path: Location,
     jobs: int,
     threads: int,
     feedback: Feedback = SILENT,
@@ -84,7 +88,7 @@ def baseline(
 class GateRun:
     """A gate command: the execution, and the comparison with the baseline (None if cut off)."""
 
-    store: Path
+    store: Location
     executed: Executed
     gate: GateOutcome | None = None
 
@@ -96,13 +100,14 @@ class GateRun:
 def gate(
     suite_path: str,
     baseline_path: Path,
-    store_path: Path,
+    store_path: Location,
     jobs: int,
     threads: int,
     junit: Path | None = None,
     markdown: Path | None = None,
     feedback: Feedback = SILENT,
 ) -> GateRun:
+
     suite = load_suite(suite_path)
     check_gateable(suite, suite_path)
     stored = read_baseline(baseline_path)

@@ -5,13 +5,16 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 
 from harness.errors import InputError
 from harness.planning import load_suite
 from harness.schema.suite import Suite
+
+if TYPE_CHECKING:
+    from harness.storage.database import Location
 
 
 def suite_names(suite_argument: str | None) -> list[str] | None:
@@ -71,7 +74,7 @@ def describe(suite_path: str) -> DescribeOutcome:
     return DescribeOutcome(found, tuple(notes))
 
 
-def tuning(suite_path: str, store_path: Path, storage: str | None) -> Any:
+def tuning(suite_path: str, store_path: Location, storage: str | None) -> Any:
     """What tuning did for a tuned suite (a harness.commands.run.TuningFrames)."""
     from harness.commands.run import tuning_frames
     from harness.tuning.storage import default_storage_url
@@ -93,7 +96,7 @@ class ShowOutcome:
     status: int = 0
 
 
-def show(store_path: Path, suite_argument: str | None, analysed: bool) -> ShowOutcome:
+def show(store_path: Location, suite_argument: str | None, analysed: bool) -> ShowOutcome:
     from harness.analysis.axes import ablation_view, label_points
     from harness.analysis.stats import summarise
     from harness.analysis.suite_report import analyse_each, settings_of
@@ -120,7 +123,7 @@ class HistoryOutcome:
     status: int = 0
 
 
-def history(store_path: Path, suite_argument: str) -> HistoryOutcome:
+def history(store_path: Location, suite_argument: str) -> HistoryOutcome:
     from harness.gate.history import load_history
 
     name = suite_names(suite_argument)[0]
@@ -140,7 +143,7 @@ class ReportOutcome:
     status: int = 0
 
 
-def report(store_path: Path, suite_argument: str, out: Path) -> ReportOutcome:
+def report(store_path: Location, suite_argument: str, out: Path) -> ReportOutcome:
     from harness.analysis.suite_report import analyse_store
     from harness.gate.history import stored_history
     from harness.report.files import write_report

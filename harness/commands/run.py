@@ -7,14 +7,16 @@ start before them, so that their imports overlap this process's.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 
 from harness.commands.feedback import SILENT, Feedback
 from harness.planning import load_suite
 from harness.schema.suite import Suite
+
+if TYPE_CHECKING:
+    from harness.storage.database import Location
 
 INTERRUPTED = 130
 
@@ -37,7 +39,7 @@ class RunOutcome:
     """A fixed-settings suite run: what ran, and the analysis of its stored runs."""
 
     suite: Suite
-    store: Path
+    store: Location
     executed: Executed
     summary: pd.DataFrame | None = None  # per contender and point (analysis.stats.summarise)
     ablation: Any = None  # harness.analysis.axes.AblationView
@@ -76,7 +78,7 @@ class MapOutcome:
     """The homophily map: its runs on matched synthetic graphs and their summary."""
 
     planned: int
-    store: Path
+    store: Location
     executed: Executed
     summary: Any = None  # harness.analysis.homophily_map.HomophilyMapSummary
 
@@ -86,7 +88,7 @@ class MapOutcome:
 
 
 def execute_specs(
-    specs: list, store_path: Path, jobs: int, threads: int, feedback: Feedback, workers=None
+    specs: list, store_path: Location, jobs: int, threads: int, feedback: Feedback, workers=None
 ) -> Executed:
     """Run the specs not stored yet, counting each finished run in the feedback's progress."""
     from harness.execution.local import execute, pending
@@ -99,7 +101,7 @@ def execute_specs(
 
 def run_suite(
     suite_path: str,
-    store_path: Path,
+    store_path: Location,
     jobs: int,
     threads: int,
     storage: str | None,
@@ -135,7 +137,7 @@ def run_suite(
 def run_fixed(
     suite: Suite,
     suite_path: str,
-    store_path: Path,
+    store_path: Location,
     jobs: int,
     threads: int,
     memory_limit: float | None,
@@ -188,7 +190,7 @@ def run_homophily_map(
     return MapOutcome(len(specs), store_path, executed, summary)
 
 
-def checked_storage(suite: Suite, store_path: Path, storage: str | None) -> str:
+def checked_storage(suite: Suite, store_path: Location, storage: str | None) -> str:
     """The tuning storage URL (default: beside the result store), opened once to check it."""
     from harness.tuning.storage import default_storage_url, open_storage
 
@@ -216,7 +218,7 @@ def tuning_frames(suite: Suite, storage_url: str) -> TuningFrames:
 def run_tuned(
     suite: Suite,
     suite_path: str,
-    store_path: Path,
+    store_path: Location,
     jobs: int,
     threads: int,
     storage: str | None,
