@@ -123,7 +123,8 @@ def run_suite(
     # spawned workers start before the heavy imports below, so that theirs overlap this
     # process's; forked ones start later, when needed, and inherit them
     early = jobs > 1 and start_method(threads) == "spawn"
-    workers = start_workers(jobs - 1, threads) if early else None
+    preload = ("harness.execution.local",)  # the run code, loaded while this process imports
+    workers = start_workers(jobs - 1, threads, preload) if early else None
     try:
         return run_fixed(
             suite, suite_path, store_path, jobs, threads, memory_limit, feedback, workers

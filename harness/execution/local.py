@@ -18,6 +18,8 @@ from harness.planning import RunSpec
 from harness.storage import store
 from harness.training.fit import RunResult, perform
 
+WORKER_MODULES = (__name__,)  # what a worker loads before its first run
+
 
 @dataclass(frozen=True)
 class Outcome:
@@ -157,7 +159,8 @@ def execute(
     Ctrl-C keeps what finished.
 
     `workers`, if given, is a pool of jobs - 1 processes from `start_workers` with the same
-    `threads`, started early by the caller; execute owns it from here and shuts it down.
+    `threads` and WORKER_MODULES, started early by the caller; execute owns it from here and
+    shuts it down.
     """
     todo = pending(specs, store_path)
     finished = 0
@@ -177,7 +180,7 @@ def execute(
             interrupted = True
     else:
         if workers is None:
-            workers = start_workers(jobs - 1, threads)
+            workers = start_workers(jobs - 1, threads, WORKER_MODULES)
         finished, interrupted = _share_with_workers(
             todo, store_path, jobs, on_finished, workers, threads
         )

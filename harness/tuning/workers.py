@@ -183,7 +183,7 @@ def work_in_processes(
         torch.set_num_threads(threads)
         return work(suite, store_path, storage_url)
     context = multiprocessing.get_context("spawn")
-    pool = context.Pool(jobs, initializer=worker_setup, initargs=(threads,))
+    pool = context.Pool(jobs, initializer=worker_setup, initargs=(threads, (__name__,)))
     try:
         pending = [
             pool.apply_async(_worker_task, (suite_path, store_path, storage_url))
