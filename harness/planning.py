@@ -7,8 +7,6 @@ one run-spec factory `run_spec`; the schema only validates.
 
 from __future__ import annotations
 
-import hashlib
-import json
 import os
 import tomllib
 from dataclasses import dataclass, field, replace
@@ -18,6 +16,7 @@ from typing import Any, Protocol
 from pydantic import BaseModel, ValidationError
 
 import harness
+from harness.digest import json_digest
 from harness.errors import InputError
 from harness.schema.ablation import (
     DEFAULT_HOP_CACHE,
@@ -82,8 +81,7 @@ class RunSpec:
         }
         if sampled:  # the two samplers draw different batches from one seed
             determining["sampler"] = sampler_in_use()
-        text = json.dumps(determining, sort_keys=True, separators=(",", ":"))
-        return hashlib.sha256(text.encode()).hexdigest()[:24]
+        return json_digest(determining)
 
 
 def sampler_in_use() -> str:

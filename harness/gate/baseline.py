@@ -9,7 +9,6 @@ because finding the effect of such changes is the gate's job.
 
 from __future__ import annotations
 
-import hashlib
 import json
 import platform
 import time
@@ -21,6 +20,7 @@ import pandas as pd
 from pydantic import ValidationError
 
 import harness
+from harness.digest import json_digest
 from harness.errors import InputError
 from harness.planning import RunSpec
 from harness.schema.base import format_validation_error
@@ -88,8 +88,7 @@ def suite_task(suite: Suite) -> dict[str, Any]:
 
 
 def suite_hash(suite: Suite) -> str:
-    text = json.dumps(suite_task(suite), sort_keys=True, separators=(",", ":"))
-    return hashlib.sha256(text.encode()).hexdigest()[:24]
+    return json_digest(suite_task(suite))
 
 
 def check_gateable(suite: Suite, path: str | Path) -> None:

@@ -28,7 +28,6 @@ from harness.schema.gate import BaselineFile, GateOptions
 from harness.schema.suite import Suite
 
 PASS, WARN, FAIL, SKIP = "pass", "warn", "fail", "skip"
-CHECKS = ("metric", "time", "memory", "reproducibility")
 SAME_METRIC = 1e-6  # baselines keep six decimals
 
 

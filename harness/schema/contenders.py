@@ -25,7 +25,6 @@ FeatureStart = Literal[
 ]
 
 ATTENTION_KINDS = ("gat", "gatv2", "dot_product")
-MODEL_KINDS = ("gat", "gatv2", "dot_product", "gcn", "sage", "mlp")
 # options only an attention layer has; on any other kind they are errors, not silently ignored
 ATTENTION_ONLY = (
     "heads",

@@ -10,8 +10,6 @@ seeded repeats (harness/workers.py), and only those runs reach the result store.
 
 from __future__ import annotations
 
-import hashlib
-import json
 import os
 import socket
 from collections.abc import Callable
@@ -24,6 +22,7 @@ import pandas as pd
 from optuna.samplers import BaseSampler, TPESampler
 from optuna.trial import FrozenTrial, Trial
 
+from harness.digest import json_digest
 from harness.planning import RunSpec, expand, with_settings
 from harness.schema.suite import Suite
 from harness.schema.tuning import (
@@ -95,11 +94,6 @@ def make_pruner(tuning: Tuning, epochs: int) -> optuna.pruners.BasePruner:
     return optuna.pruners.NopPruner()
 
 
-def digest(content: Any) -> str:
-    text = json.dumps(content, sort_keys=True, separators=(",", ":"), default=str)
-    return hashlib.sha256(text.encode()).hexdigest()[:16]
-
-
 def study_name(base: RunSpec, space: dict[str, SpaceEntry], tuning: Tuning) -> str:
     """Names the study by everything that shapes its trials; the budget may grow later."""
     shaping = {
@@ -107,7 +101,7 @@ def study_name(base: RunSpec, space: dict[str, SpaceEntry], tuning: Tuning) -> s
         "space": {k: v if isinstance(v, list) else v.model_dump() for k, v in space.items()},
         "tuning": tuning.model_dump(mode="json", include={"seed", "pruner", "equal_parameters"}),
     }
-    return f"{base.suite}:{base.contender}:{digest(shaping)}"
+    return f"{base.suite}:{base.contender}:{json_digest(shaping, 16)}"
 
 
 def suggest(trial: Trial, space: dict[str, SpaceEntry], options: Any) -> Settings:
@@ -191,7 +185,7 @@ def tuning_plan(suite: Suite) -> list[Plan]:
 
 def repeats_study_name(suite: Suite, plans: list[Plan]) -> str:
     """The study whose enqueued trials are the seeded repeats of the tuned settings."""
-    return f"{suite.name}:repeats:{digest([[p.study for p in plans], suite.seed_list])}"
+    return f"{suite.name}:repeats:{json_digest([[p.study for p in plans], suite.seed_list], 16)}"
 
 
 def tuning_outline(suite: Suite) -> list[str]:
