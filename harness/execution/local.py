@@ -14,11 +14,13 @@ from typing import Any
 import torch
 
 from harness.execution.pool import start_workers
+from harness.models import load_builders
 from harness.planning import RunSpec
 from harness.storage import store
 from harness.training.fit import RunResult, perform
 
 WORKER_MODULES = (__name__,)  # what a worker loads before its first run
+load_builders()  # the model layers too, so that forked workers inherit them
 
 
 @dataclass(frozen=True)

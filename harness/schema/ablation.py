@@ -19,7 +19,8 @@ from pydantic import BaseModel, Field, TypeAdapter, ValidationError, field_valid
 
 from harness.errors import InputError
 from harness.schema.base import StrictModel, show
-from harness.schema.contenders import ATTENTION_KINDS, ATTENTION_ONLY, ContenderOptions
+from harness.schema.contenders import ATTENTION_ONLY
+from harness.schema.model_kinds import ContenderOptions, attention_kinds
 
 DEFAULT_HOP_CACHE = "runs/cache"
 OPTIONS = TypeAdapter(ContenderOptions)
@@ -87,7 +88,7 @@ def _check_axes(name: str, options: BaseModel, ablation: Ablation, source: str) 
             if axis in ATTENTION_ONLY:
                 raise InputError(
                     f"{where}: model '{options.model}' has no attention; allowed only for "
-                    f"{', '.join(ATTENTION_KINDS)}"
+                    f"{', '.join(attention_kinds())}"
                 )
             hint = difflib.get_close_matches(axis, allowed, n=1)
             maybe = f" (did you mean '{hint[0]}'?)" if hint else ""
