@@ -1,29 +1,38 @@
-"""Suite file -> validated Suite -> list of runs (contender x point x seed)."""
+"""Suite file -> validated Suite -> run specs: the one place a suite becomes runs.
+
+Contenders x ablation points x seeds (`expand`), the homophily map's runs on matched synthetic
+graphs (`map_specs`) and tuned settings applied to a spec (`with_settings`) all go through the
+one run-spec factory `run_spec`; the schema only validates.
+"""
 
 from __future__ import annotations
 
-import hashlib
-import json
+import os
 import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Any
+from typing import Any, Protocol
 
 from pydantic import BaseModel, ValidationError
 
 import harness
+from harness.digest import json_digest
 from harness.errors import InputError
 from harness.schema.ablation import (
     DEFAULT_HOP_CACHE,
-    design_points,
-    hop_cache_directory,
+    HopSettings,
+    check_ablation,
+    configured_points,
     point_label,
 )
 from harness.schema.base import format_validation_error, key_dump
 from harness.schema.batching import check_batching
+from harness.schema.data import FractionSplit, SyntheticData
 from harness.schema.suite import Suite
 from harness.schema.training import Training
-from harness.schema.tuning import check_tuning
+from harness.schema.tuning import TRAINING_KEYS, check_tuning
+
+HOP_CACHE_VARIABLE = "HEEDFUL_CACHE"
 
 UNSAMPLED = {"batch_size", "fanout"}
 TORCH_SAMPLER = "heedful_uniform"
@@ -72,8 +81,7 @@ class RunSpec:
         }
         if sampled:  # the two samplers draw different batches from one seed
             determining["sampler"] = sampler_in_use()
-        text = json.dumps(determining, sort_keys=True, separators=(",", ":"))
-        return hashlib.sha256(text.encode()).hexdigest()[:24]
+        return json_digest(determining)
 
     @property
     def stored_keys(self) -> frozenset[str]:
@@ -181,7 +189,7 @@ def parse_suite(raw: dict, source: str) -> Suite:
         suite = Suite.model_validate(raw, context={"folder": str(Path(source).parent)})
     except ValidationError as error:
         raise InputError(format_validation_error(error, raw, source)) from None
-    design_points(suite, source)  # ablation axes and levels, checked once here
+    check_ablation(suite.contenders, suite.ablation, suite.setting, source)
     check_tuning(suite, source)  # search spaces against the contenders' options
     check_batching(suite, source)  # fan-out lengths against each contender's layers
     return suite
@@ -192,28 +200,127 @@ def load_suite(path: str | Path) -> Suite:
     return parse_suite(read_suite_file(path), str(path))
 
 
+@dataclass(frozen=True)
+class DesignPoint:
+    """One contender configuration a suite runs: its label, ablation point and options."""
+
+    contender: str
+    options: BaseModel
+    point: dict[str, Any] = field(default_factory=dict)
+    varied: tuple[str, ...] = ()  # axes whose level differs from the contender's own options
+
+    @property
+    def label(self) -> str:
+        return point_label(self.contender, self.point)
+
+
+def design_points(suite: Suite) -> list[DesignPoint]:
+    """Every contender configuration of a suite, ablation points expanded, in suite order."""
+    designs: list[DesignPoint] = []
+    for name, point, configured in configured_points(suite.contenders, suite.ablation):
+        own = suite.contenders[name]
+        changed = tuple(a for a, v in point.items() if v != getattr(own, a))
+        designs.append(DesignPoint(name, configured, point, changed))
+    return designs
+
+
+def hop_cache_directory(hops: HopSettings) -> str:
+    """The environment variable wins, so one machine can move every suite's cache."""
+    return os.environ.get(HOP_CACHE_VARIABLE) or hops.cache or DEFAULT_HOP_CACHE
+
+
+def run_spec(
+    suite: Suite,
+    design: DesignPoint,
+    seed: int,
+    suite_name: str | None = None,
+    data: BaseModel | None = None,
+    split: BaseModel | None = None,
+) -> RunSpec:
+    """The one run-spec factory: a design point of the suite on one seed (data may differ)."""
+    return RunSpec(
+        suite=suite_name or suite.name,
+        contender=design.contender,
+        options=design.options,
+        training=resolve_compile(
+            design.options.training.apply(suite.training),
+            design.options.model,
+            suite.data if data is None else data,
+        ),
+        data=suite.data if data is None else data,
+        split=suite.split if split is None else split,
+        metric=suite.metric,
+        seed=seed,
+        setting=suite.setting,
+        point=design.point,
+        hop_cache=hop_cache_directory(suite.hops),
+    )
+
+
 def expand(suite: Suite) -> list[RunSpec]:
     """All runs of a suite: every contender and ablation point on every seed (seeds paired)."""
-    runs = []
-    for design in design_points(suite):
-        options = design.options
-        training = resolve_compile(
-            options.training.apply(suite.training), options.model, suite.data
+    return [
+        run_spec(suite, design, seed) for design in design_points(suite) for seed in suite.seed_list
+    ]
+
+
+def with_settings(base: RunSpec, settings: dict[str, Any]) -> RunSpec:
+    """A tuned repeat or trial: the spec with tuned options and training settings (validated)."""
+    option_changes = {k: v for k, v in settings.items() if k not in TRAINING_KEYS}
+    training_changes = {k: v for k, v in settings.items() if k in TRAINING_KEYS}
+    options = type(base.options).model_validate({**base.options.model_dump(), **option_changes})
+    training = Training.model_validate({**base.training.model_dump(), **training_changes})
+    return replace(base, options=options, training=training)
+
+
+class GraphShape(Protocol):
+    """What the homophily map matches (a harness.data.profile.DatasetProfile has it)."""
+
+    nodes: int
+    class_counts: list[int]
+    degrees: Any  # .mean: average degree
+    features: Any  # .dimension: feature width
+
+
+def map_suite_name(suite: Suite) -> str:
+    """Map runs are stored under their own suite name, apart from the suite's own runs."""
+    return f"{suite.name}:homophily_map"
+
+
+def matched_section(profile: GraphShape, level: float, suite: Suite) -> SyntheticData:
+    """A synthetic data section shaped like the profiled data, at edge homophily `level`."""
+    options = suite.homophily_map
+    counts = [count for count in profile.class_counts if count > 0]
+    nodes = max(profile.nodes, 4)
+    degree = min(max(profile.degrees.mean, 0.5), nodes - 2)
+    return SyntheticData(
+        source="synthetic",
+        nodes=nodes,
+        classes=len(counts),
+        average_degree=round(degree, 3),
+        edge_homophily=level,
+        feature_dimension=min(profile.features.dimension, 10_000),
+        feature_signal=options.feature_signal,
+        class_balance=[float(count) for count in counts],
+        graph_seed=options.graph_seed,
+    )
+
+
+def map_specs(suite: Suite, profile: GraphShape) -> list[RunSpec]:
+    """Every contender (its own options, no ablation) at every level, for the map's seeds."""
+    # a split column belongs to the user's data; synthetic graphs use the default fractions
+    split = FractionSplit() if suite.split.method == "column" else suite.split
+    name = map_suite_name(suite)
+    return [
+        run_spec(
+            suite,
+            DesignPoint(contender, options, {"edge_homophily": level}),
+            seed,
+            name,
+            matched_section(profile, level, suite),
+            split,
         )
-        for seed in suite.seed_list:
-            runs.append(
-                RunSpec(
-                    suite=suite.name,
-                    contender=design.contender,
-                    options=options,
-                    training=training,
-                    data=suite.data,
-                    split=suite.split,
-                    metric=suite.metric,
-                    seed=seed,
-                    setting=suite.setting,
-                    point=design.point,
-                    hop_cache=hop_cache_directory(suite.hops),
-                )
-            )
-    return runs
+        for level in suite.homophily_map.levels
+        for contender, options in suite.contenders.items()
+        for seed in range(suite.homophily_map.seeds)
+    ]

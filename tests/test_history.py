@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import os
+
 import pandas as pd
 import pytest
 
@@ -143,3 +145,16 @@ def test_html_report_gains_the_trend_plot_only_with_history(stored, tmp_path):
     assert trend_png(stored_history(stored, "other suite")) is None
     assert trend_png(stored_history(tmp_path / "none.db", "docks")) is None
     assert trend_section(None) == ""
+
+
+def test_importing_the_trend_plot_keeps_the_matplotlib_backend() -> None:
+    """Drawing on a bare Figure needs no pyplot: whoever imports us keeps their backend."""
+    import subprocess
+    import sys
+
+    probe = "import harness.report.trend, matplotlib; print(matplotlib.get_backend())"
+    env = {**os.environ, "MPLBACKEND": "svg"}
+    shown = subprocess.run(
+        [sys.executable, "-c", probe], capture_output=True, text=True, env=env, check=True
+    )
+    assert shown.stdout.strip() == "svg"

@@ -5,12 +5,12 @@ from __future__ import annotations
 import pandas as pd
 import pytest
 
-from harness.analysis.homophily_map import map_specs, map_suite_name, matched_section, summarise_map
+from harness.analysis.homophily_map import summarise_map
 from harness.cli import main
 from harness.data import load_graph
 from harness.data.profile import profile_graph
 from harness.errors import InputError
-from harness.planning import parse_suite
+from harness.planning import map_specs, map_suite_name, matched_section, parse_suite
 
 RAW = {
     "name": "clubmap",

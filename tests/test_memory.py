@@ -17,8 +17,7 @@ from harness.execution.memory import (
     saved_bytes,
 )
 from harness.models import build_model
-from harness.planning import load_suite
-from harness.schema.ablation import design_points
+from harness.planning import design_points, load_suite
 from harness.schema.contenders import (
     AttentionOptions,
     ConvolutionOptions,

@@ -181,9 +181,9 @@ def test_analyse_refuses_runs_of_two_suites():
 
 def test_stored_homophily_map_is_drawn_and_tabled(tmp_path: Path):
     """Map runs (stored under the map's suite name) and the data profile enter the report."""
-    from harness.analysis.homophily_map import map_suite_name
     from harness.data import load_graph
     from harness.data.profile import profile_graph
+    from harness.planning import map_suite_name
     from harness.storage.profiles import save_profile
 
     suite_path, store_path = stored_suite(tmp_path, suite_name=None)

@@ -16,7 +16,7 @@ from scipy import stats as scipy_stats
 
 from harness.schema.ablation import point_label
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
-from harness.schema.contenders import ATTENTION_KINDS
+from harness.schema.model_kinds import attends
 
 POINTS = 100.0  # one metric point is 0.01 of a metric on [0, 1]
 BOOTSTRAP_SEED = 20_240  # fixed, so a report is reproducible
@@ -91,7 +91,7 @@ def attention_side(runs: pd.DataFrame, settings: Analysis) -> pd.Series:
         return runs["contender"].isin(settings.attention)
     if settings.baselines:
         return ~runs["contender"].isin(settings.baselines)
-    return runs["model"].isin(ATTENTION_KINDS)
+    return runs["model"].map(attends).astype(bool)
 
 
 def describe(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:

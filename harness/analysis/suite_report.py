@@ -17,6 +17,7 @@ from harness.errors import InputError
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 from harness.schema.suite import Suite
 from harness.storage import store
+from harness.storage.selection import spec_runs
 
 if TYPE_CHECKING:
     from harness.analysis.homophily_map import HomophilyMapSummary
@@ -50,13 +51,12 @@ def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFram
         from harness.planning import expand, load_suite
 
         loaded = load_suite(suite)
-        frame = store.load_runs(store_path, [loaded.name])
         if loaded.tuning is not None:  # the seeded repeats of the tuned settings
             from harness.tuning.study import current_tuned_runs
 
+            frame = store.load_runs(store_path, [loaded.name])
             return current_tuned_runs(frame, loaded).reset_index(drop=True)
-        keys = {key for spec in expand(loaded) for key in spec.stored_keys}
-        return frame[frame["key"].isin(keys)].reset_index(drop=True)
+        return spec_runs(store_path, expand(loaded), same_contender=False)
     return store.load_runs(store_path, None if suite is None else [str(suite)])
 
 
@@ -102,7 +102,8 @@ def graph_homophily(store_path: str | Path, suite: str) -> pd.DataFrame:
 
 def stored_homophily_map(store_path: str | Path, suite: Suite) -> HomophilyMapSummary | None:
     """The suite's homophily map (analysis.homophily_map) from stored runs and profile, if run."""
-    from harness.analysis.homophily_map import map_suite_name, summarise_map
+    from harness.analysis.homophily_map import summarise_map
+    from harness.planning import map_suite_name
     from harness.storage.profiles import load_profiles
 
     profiles = load_profiles(store_path, suite.name)

@@ -30,7 +30,7 @@ from torch_geometric.utils import one_hot
 
 from harness.data.hops import check_hop_budget, hop_edges
 from harness.errors import InputError
-from harness.schema.ablation import DesignPoint
+from harness.planning import DesignPoint
 
 
 @dataclass(frozen=True)

@@ -15,12 +15,16 @@ from typing import Any
 import torch
 
 from harness.execution.pool import available_cores, start_workers
+from harness.models import load_builders
 from harness.planning import COMPILE_MIN_EDGES, RunSpec, declared_edges
 from harness.storage import store
 from harness.training.fit import RunResult, as_trained, perform
 
 # a graph this large gives a lone last run every core (README, Processes and threads)
 LARGE_GRAPH_EDGES = COMPILE_MIN_EDGES
+
+WORKER_MODULES = (__name__,)  # what a worker loads before its first run
+load_builders()  # the model layers too, so that forked workers inherit them
 
 
 @dataclass(frozen=True)
@@ -193,7 +197,8 @@ def execute(
     Ctrl-C keeps what finished.
 
     `workers`, if given, is a pool of jobs - 1 processes from `start_workers` with the same
-    `threads`, started early by the caller; execute owns it from here and shuts it down.
+    `threads` and WORKER_MODULES, started early by the caller; execute owns it from here and
+    shuts it down.
     """
     todo = pending(specs, store_path)
     finished = 0
@@ -214,7 +219,7 @@ def execute(
             interrupted = True
     else:
         if workers is None:
-            workers = start_workers(jobs - 1, threads)
+            workers = start_workers(jobs - 1, threads, WORKER_MODULES)
         finished, interrupted = _share_with_workers(
             todo, store_path, jobs, on_finished, workers, threads
         )

@@ -17,7 +17,7 @@ from dataclasses import dataclass
 from pydantic import BaseModel
 
 from harness.errors import InputError
-from harness.schema.ablation import design_points
+from harness.planning import design_points
 from harness.schema.training import Training
 
 FLOAT = 4
@@ -247,7 +247,7 @@ def check_suite_memory(
     if size is None:
         return []
     limit = machine_bytes() if limit_gib is None else limit_gib * GIB
-    estimates = estimate_runs(design_points(suite, source), suite.training, size)
+    estimates = estimate_runs(design_points(suite), suite.training, size)
     runs = len(estimates) * len(suite.seed_list)
     check_memory(estimates, jobs, limit, source, data_bytes(suite.data, size), runs)
     return estimates

@@ -4,6 +4,7 @@ so that the run command can start spawned workers before its own imports."""
 from __future__ import annotations
 
 import gc
+import importlib
 import multiprocessing
 import multiprocessing.pool
 import os
@@ -44,28 +45,33 @@ def start_method(threads: int) -> str:
     return "fork" if threads == 1 and sys.platform.startswith("linux") else "spawn"
 
 
-def worker_setup(threads: int) -> None:
-    """Runs once in each worker: Ctrl-C is the parent's, threads are capped, imports done now."""
+def worker_setup(threads: int, preload: tuple[str, ...] = ()) -> None:
+    """Runs once in each worker: Ctrl-C is the parent's, threads are capped, and the modules
+    the caller names (PyG and the run code) are loaded before the first run arrives."""
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     import torch
 
     torch.set_num_threads(threads)
-    import harness.execution.local  # noqa: F401  (loads PyG and the run code before the first run arrives)
+    for module in preload:
+        importlib.import_module(module)
 
     # the imported modules live as long as the worker: kept out of every later collection,
     # which also spares a spawned worker about a second of teardown when the pool closes
     gc.freeze()
 
 
-def start_workers(count: int, threads: int) -> multiprocessing.pool.Pool:
-    """A pool of `count` workers, `threads` torch threads each (see start_method)."""
+def start_workers(
+    count: int, threads: int, preload: tuple[str, ...] = ()
+) -> multiprocessing.pool.Pool:
+    """A pool of `count` workers, `threads` torch threads each (see start_method), each with
+    the `preload` modules imported."""
     context = multiprocessing.get_context(start_method(threads))
     # workers start with Ctrl-C ignored (inherited, and kept across exec), so none prints a
     # traceback while still starting; this process alone decides what Ctrl-C does
     main_thread = threading.current_thread() is threading.main_thread()
     default = signal.signal(signal.SIGINT, signal.SIG_IGN) if main_thread else None
     try:
-        return context.Pool(count, initializer=worker_setup, initargs=(threads,))
+        return context.Pool(count, initializer=worker_setup, initargs=(threads, preload))
     finally:
         if main_thread:
             signal.signal(signal.SIGINT, default)

@@ -13,7 +13,7 @@ from harness.data.homophily import measure_homophily
 from harness.data.splits import make_split
 from harness.errors import InputError
 from harness.execution.memory import GraphSize
-from harness.schema.ablation import design_points
+from harness.planning import design_points
 from harness.schema.suite import Suite
 
 
@@ -51,7 +51,7 @@ def preflight(suite: Suite, source: str) -> DataFacts:
                 f"{source}: metric: 'roc_auc' is not defined when the test split of seed {seed} "
                 "holds one class; allowed: accuracy or macro_f1, or a larger test split"
             )
-    check_contender_graphs(design_points(suite, source), data, suite.hops.memory_budget_mb, source)
+    check_contender_graphs(design_points(suite), data, suite.hops.memory_budget_mb, source)
     measured = measure_homophily(data.edge_index, data.y)
     return DataFacts(
         data.num_nodes,

@@ -9,7 +9,6 @@ because finding the effect of such changes is the gate's job.
 
 from __future__ import annotations
 
-import hashlib
 import json
 import platform
 import time
@@ -21,12 +20,12 @@ import pandas as pd
 from pydantic import ValidationError
 
 import harness
+from harness.digest import json_digest
 from harness.errors import InputError
 from harness.planning import RunSpec
 from harness.schema.base import format_validation_error
 from harness.schema.gate import BASELINE_FORMAT, BASELINE_FORMAT_VERSION, BaselineFile
 from harness.schema.suite import Suite
-from harness.storage import store
 
 RUN_FIELDS = (
     "test_metric",
@@ -89,8 +88,7 @@ def suite_task(suite: Suite) -> dict[str, Any]:
 
 
 def suite_hash(suite: Suite) -> str:
-    text = json.dumps(suite_task(suite), sort_keys=True, separators=(",", ":"))
-    return hashlib.sha256(text.encode()).hexdigest()[:24]
+    return json_digest(suite_task(suite))
 
 
 def check_gateable(suite: Suite, path: str | Path) -> None:
@@ -100,16 +98,6 @@ def check_gateable(suite: Suite, path: str | Path) -> None:
             f"{path}: tuning: a gate compares fixed contender settings; allowed: a suite without "
             "[tuning] (copy the tuned settings into its contenders)"
         )
-
-
-def suite_runs(store_path: str | Path, specs: list[RunSpec]) -> pd.DataFrame:
-    """Stored runs of exactly these specs (same suite, contender and key)."""
-    if not specs:
-        return pd.DataFrame()
-    runs = store.load_runs(store_path, sorted({spec.suite for spec in specs}))
-    wanted = {(spec.contender, key) for spec in specs for key in spec.stored_keys}
-    keep = [(c, k) in wanted for c, k in zip(runs["contender"], runs["key"], strict=True)]
-    return runs[keep].reset_index(drop=True)
 
 
 def _rounded(value: Any) -> Any:
@@ -189,7 +177,7 @@ def read_baseline(path: str | Path) -> BaselineFile:
     try:
         raw = json.loads(text)
     except json.JSONDecodeError as error:
-        # a string left open also means the text ends inside it: a cut, not a typo
+        # a cut inside a string is reported at the string's start: it runs to the end too
         if not text[error.pos :].strip() or error.msg.startswith("Unterminated string"):
             raise InputError(
                 f"{path}: baseline file is truncated: the JSON ends at line {error.lineno} "

@@ -28,7 +28,6 @@ from harness.schema.gate import BaselineFile, GateOptions
 from harness.schema.suite import Suite
 
 PASS, WARN, FAIL, SKIP = "pass", "warn", "fail", "skip"
-CHECKS = ("metric", "time", "memory", "reproducibility")
 SAME_METRIC = 1e-6  # baselines keep six decimals
 
 
@@ -90,6 +89,12 @@ class GateOutcome:
         return {c.check: c for c in self.checks if c.contender == contender}
 
 
+def _t_figures(test: Any, confidence: float) -> tuple[float, float, float]:
+    """p-value and the interval's ends of a scipy t-test result."""
+    interval = test.confidence_interval(confidence)
+    return float(test.pvalue), float(interval.low), float(interval.high)
+
+
 def compare_metric(
     baseline: dict[int, float], current: dict[int, float], confidence: float
 ) -> MetricComparison:
@@ -102,41 +107,22 @@ def compare_metric(
         mean = float(differences.mean())
         if np.allclose(differences, differences[0], rtol=0, atol=1e-12):
             # no spread: the t statistic is undefined, the difference is exact
-            p_value = 1.0 if abs(mean) < 1e-12 else 0.0
-            low = high = mean
+            p_value, low, high = (1.0 if abs(mean) < 1e-12 else 0.0), mean, mean
         else:
-            result = scipy_stats.ttest_rel(after, before)
-            interval = result.confidence_interval(confidence)
-            p_value, low, high = float(result.pvalue), float(interval.low), float(interval.high)
-        return MetricComparison(
-            float(before.mean()),
-            float(after.mean()),
-            mean,
-            low,
-            high,
-            p_value,
-            "paired t-test",
-            len(shared),
-        )
-    before = np.array(list(baseline.values()))
-    after = np.array(list(current.values()))
-    mean = float(after.mean() - before.mean())
-    if len(before) < 2 or len(after) < 2:
-        low = high = p_value = math.nan
+            p_value, low, high = _t_figures(scipy_stats.ttest_rel(after, before), confidence)
+        method, count = "paired t-test", len(shared)
     else:
-        result = scipy_stats.ttest_ind(after, before, equal_var=False)
-        interval = result.confidence_interval(confidence)
-        p_value, low, high = float(result.pvalue), float(interval.low), float(interval.high)
-    return MetricComparison(
-        float(before.mean()),
-        float(after.mean()),
-        mean,
-        low,
-        high,
-        p_value,
-        "Welch t-test",
-        len(after),
-    )
+        before = np.array(list(baseline.values()))
+        after = np.array(list(current.values()))
+        mean = float(after.mean() - before.mean())
+        if len(before) < 2 or len(after) < 2:
+            p_value = low = high = math.nan
+        else:
+            welch = scipy_stats.ttest_ind(after, before, equal_var=False)
+            p_value, low, high = _t_figures(welch, confidence)
+        method, count = "Welch t-test", len(after)
+    means = float(before.mean()), float(after.mean())
+    return MetricComparison(*means, mean, low, high, p_value, method, count)
 
 
 def metric_check(

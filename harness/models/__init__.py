@@ -1,23 +1,33 @@
-"""Model stage: a registry from model kind to builder `build(options, in_dim, out_dim)`."""
+"""Model stage: builds the network of a contender through its kind's registered builder
+(harness/schema/model_kinds.py)."""
 
 from __future__ import annotations
 
-from collections.abc import Callable
+import importlib
+from functools import cache
 
 import torch
 from pydantic import BaseModel
 from torch import nn
 
-from harness.models import attention, convolution, neighbour_mean, perceptron
+from harness.schema.model_kinds import MODEL_KINDS
 
-BUILDERS: dict[str, Callable[[BaseModel, int, int], nn.Module]] = {
-    "gat": attention.build,
-    "gatv2": attention.build,
-    "dot_product": attention.build,
-    "gcn": convolution.build,
-    "sage": neighbour_mean.build,
-    "mlp": perceptron.build,
-}
+
+@cache
+def _builder(path: str):  # noqa: ANN202 - build(options, in_dim, out_dim) -> nn.Module
+    module, _, function = path.partition(":")
+    return getattr(importlib.import_module(module), function)
+
+
+def load_builders() -> None:
+    """Import every registered builder now (worker processes do, before their first run)."""
+    for kind in MODEL_KINDS.values():
+        _builder(kind.builder)
+
+
+def builder_of(model: str):  # noqa: ANN201 - build(options, in_dim, out_dim) -> nn.Module
+    """The registered kind's builder, imported on first use."""
+    return _builder(MODEL_KINDS[model].builder)
 
 
 class EmbeddingStart(nn.Module):
@@ -52,5 +62,5 @@ def build_model(
 
     With `embedding_rows` > 0 the input is node ids, embedded in `in_dim` columns first.
     """
-    network = BUILDERS[options.model](options, in_dim, out_dim)
+    network = builder_of(options.model)(options, in_dim, out_dim)
     return EmbeddingStart(embedding_rows, in_dim, network) if embedding_rows else network

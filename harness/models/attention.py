@@ -47,25 +47,17 @@ def attention_layer(
     options: AttentionOptions, width: int, out: int, heads: int, concat: bool
 ) -> nn.Module:
     """One attention layer; self-loops are handled by the stack, not by the layer."""
+    shared = {"heads": heads, "concat": concat, "dropout": options.attention_dropout}
     if options.model == "dot_product":
-        return ScaledDotProductConv(
-            width,
-            out,
-            heads=heads,
-            concat=concat,
-            dropout=options.attention_dropout,
-            root_weight=options.residual,
-        )
+        return ScaledDotProductConv(width, out, root_weight=options.residual, **shared)
     layer_class = GATConv if options.model == "gat" else GATv2Conv
     return layer_class(
         width,
         out,
-        heads=heads,
-        concat=concat,
         negative_slope=options.negative_slope,
-        dropout=options.attention_dropout,
         add_self_loops=False,
         residual=options.residual,
+        **shared,
     )
 
 

@@ -4,19 +4,19 @@ from __future__ import annotations
 
 import io
 
-import matplotlib
+import pandas as pd
+from matplotlib.figure import Figure
 
-matplotlib.use("Agg")
-import matplotlib.pyplot as plt  # noqa: E402
-import pandas as pd  # noqa: E402
-from matplotlib.figure import Figure  # noqa: E402
-
-from harness.report.terminal import METRIC_LABELS  # noqa: E402
+from harness.report.terminal import METRIC_LABELS
 
 
 def trend_figure(history: pd.DataFrame) -> Figure:
-    """Two panels sharing the time axis; a failed gate run is marked with a red cross."""
-    figure, (top, bottom) = plt.subplots(2, 1, figsize=(7, 5), sharex=True)
+    """Two panels sharing the time axis; a failed gate run is marked with a red cross.
+
+    Drawn on a bare Figure (Agg canvas when saved): no pyplot, so importing this module leaves
+    everyone else's matplotlib backend alone and keeps no figure open."""
+    figure = Figure(figsize=(7, 5))
+    top, bottom = figure.subplots(2, 1, sharex=True)
     metric = METRIC_LABELS.get(history["metric"].iloc[-1], history["metric"].iloc[-1])
     for contender, rows in history.groupby("contender", sort=False):
         when = pd.to_datetime(rows["gated_at"], unit="s")
@@ -37,9 +37,7 @@ def trend_figure(history: pd.DataFrame) -> Figure:
 
 
 def save_trend(history: pd.DataFrame, path: str) -> None:
-    figure = trend_figure(history)
-    figure.savefig(path)
-    plt.close(figure)
+    trend_figure(history).savefig(path)
 
 
 TREND_TITLE = "Gate history: mean test metric and seconds per epoch per gate run"
@@ -50,7 +48,5 @@ def trend_png(history: pd.DataFrame) -> bytes | None:
     if history.empty:
         return None
     buffer = io.BytesIO()
-    figure = trend_figure(history)
-    figure.savefig(buffer, format="png", dpi=110)
-    plt.close(figure)
+    trend_figure(history).savefig(buffer, format="png", dpi=110)
     return buffer.getvalue()

@@ -12,21 +12,17 @@ from __future__ import annotations
 
 import difflib
 import itertools
-import os
-from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any, Literal
+from collections.abc import Iterator
+from typing import Any, Literal
 
 from pydantic import BaseModel, Field, TypeAdapter, ValidationError, field_validator
 
 from harness.errors import InputError
 from harness.schema.base import StrictModel, show
-from harness.schema.contenders import ATTENTION_KINDS, ATTENTION_ONLY, ContenderOptions
-
-if TYPE_CHECKING:
-    from harness.schema.suite import Suite
+from harness.schema.contenders import ATTENTION_ONLY
+from harness.schema.model_kinds import ContenderOptions, attention_kinds
 
 DEFAULT_HOP_CACHE = "runs/cache"
-HOP_CACHE_VARIABLE = "HEEDFUL_CACHE"
 OPTIONS = TypeAdapter(ContenderOptions)
 
 
@@ -60,20 +56,6 @@ class HopSettings(StrictModel):
     cache: str | None = Field(None, min_length=1)
 
 
-@dataclass(frozen=True)
-class DesignPoint:
-    """One contender configuration a suite runs: its label, ablation point and options."""
-
-    contender: str
-    options: BaseModel
-    point: dict[str, Any] = field(default_factory=dict)
-    varied: tuple[str, ...] = ()  # axes whose level differs from the contender's own options
-
-    @property
-    def label(self) -> str:
-        return point_label(self.contender, self.point)
-
-
 def level_text(value: Any) -> str:
     if isinstance(value, bool):
         return str(value).lower()
@@ -89,7 +71,8 @@ def point_label(contender: str, point: dict[str, Any]) -> str:
     return contender + "[" + ",".join(f"{k}={level_text(v)}" for k, v in point.items()) + "]"
 
 
-def _with(options: BaseModel, changes: dict[str, Any]) -> BaseModel:
+def with_levels(options: BaseModel, changes: dict[str, Any]) -> BaseModel:
+    """The contender's options with some changed, validated again."""
     return OPTIONS.validate_python({**options.model_dump(exclude_unset=True), **changes})
 
 
@@ -105,19 +88,20 @@ def _check_axes(name: str, options: BaseModel, ablation: Ablation, source: str) 
             if axis in ATTENTION_ONLY:
                 raise InputError(
                     f"{where}: model '{options.model}' has no attention; allowed only for "
-                    f"{', '.join(ATTENTION_KINDS)}"
+                    f"{', '.join(attention_kinds())}"
                 )
             hint = difflib.get_close_matches(axis, allowed, n=1)
             maybe = f" (did you mean '{hint[0]}'?)" if hint else ""
             raise InputError(f"{where}: unknown option{maybe}; allowed: {', '.join(allowed)}")
         for level in levels:
             try:
-                _with(options, {axis: level})
+                with_levels(options, {axis: level})
             except ValidationError as error:
                 raise InputError(f"{where}: given {show(level)}; {_error_text(error)}") from None
 
 
-def _points(options: BaseModel, ablation: Ablation) -> list[dict[str, Any]]:
+def ablation_points(options: BaseModel, ablation: Ablation) -> list[dict[str, Any]]:
+    """The points an ablation table runs, in order (see the module docstring for the modes)."""
     axes = ablation.axes
     if ablation.mode == "grid":
         return [
@@ -130,49 +114,56 @@ def _points(options: BaseModel, ablation: Ablation) -> list[dict[str, Any]]:
     return points
 
 
-def design_points(suite: Suite, source: str = "suite") -> list[DesignPoint]:
-    """Every contender configuration of a suite, ablation points expanded, in suite order."""
-    for name in suite.ablation:
-        if name not in suite.contenders:
-            hint = difflib.get_close_matches(name, list(suite.contenders), n=1)
+def configured_points(
+    contenders: dict[str, BaseModel], ablations: dict[str, Ablation]
+) -> Iterator[tuple[str, dict[str, Any], BaseModel]]:
+    """(contender, point, options at that point) for every configuration, in suite order;
+    only for tables check_ablation has passed."""
+    for name, options in contenders.items():
+        ablation = ablations.get(name)
+        if ablation is None:
+            yield name, {}, options
+            continue
+        for point in ablation_points(options, ablation):
+            yield name, point, with_levels(options, point)
+
+
+def check_ablation(
+    contenders: dict[str, BaseModel],
+    ablations: dict[str, Ablation],
+    setting: str,
+    source: str = "suite",
+) -> None:
+    """Every ablation table names a contender, and each of its points is valid options."""
+    for name in ablations:
+        if name not in contenders:
+            hint = difflib.get_close_matches(name, list(contenders), n=1)
             maybe = f" (did you mean '{hint[0]}'?)" if hint else ""
             raise InputError(
                 f"{source}: ablation.{name}: no contender of that name{maybe}; allowed: "
-                f"{', '.join(suite.contenders)}"
+                f"{', '.join(contenders)}"
             )
-    designs: list[DesignPoint] = []
-    for name, options in suite.contenders.items():
-        ablation = suite.ablation.get(name)
+    identity = None  # unseen nodes have no embedding row: reported after the points' errors
+    for name, options in contenders.items():
+        ablation = ablations.get(name)
         if ablation is None:
-            designs.append(DesignPoint(name, options))
+            identity = identity or (options.feature_start == "identity" and f"contenders.{name}")
             continue
         _check_axes(name, options, ablation, source)
-        for point in _points(options, ablation):
+        for point in ablation_points(options, ablation):
             try:
-                configured = _with(options, point)
+                configured = with_levels(options, point)
             except ValidationError as error:
                 raise InputError(
                     f"{source}: ablation.{name}: point {point_label(name, point)}: "
                     f"{_error_text(error)}"
                 ) from None
-            changed = tuple(a for a, v in point.items() if v != getattr(options, a))
-            designs.append(DesignPoint(name, configured, point, changed))
-    if suite.setting == "inductive":
-        for design in designs:
-            if design.options.feature_start == "identity":
-                where = (
-                    f"ablation.{design.contender}.axes.feature_start"
-                    if "feature_start" in design.varied
-                    else f"contenders.{design.contender}.feature_start"
-                )
-                raise InputError(
-                    f"{source}: {where}: given 'identity' with setting 'inductive'; unseen "
-                    "nodes have no embedding row; allowed: any other feature start, or "
-                    "setting 'transductive'"
-                )
-    return designs
-
-
-def hop_cache_directory(hops: HopSettings) -> str:
-    """The environment variable wins, so one machine can move every suite's cache."""
-    return os.environ.get(HOP_CACHE_VARIABLE) or hops.cache or DEFAULT_HOP_CACHE
+            if not identity and configured.feature_start == "identity":
+                varied = point.get("feature_start", "identity") != options.feature_start
+                identity = f"ablation.{name}.axes" if varied else f"contenders.{name}"
+    if setting == "inductive" and identity:
+        raise InputError(
+            f"{source}: {identity}.feature_start: given 'identity' with setting 'inductive'; "
+            "unseen nodes have no embedding row; allowed: any other feature start, or "
+            "setting 'transductive'"
+        )

@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 from harness.errors import InputError
-from harness.schema.ablation import design_points
+from harness.schema.ablation import configured_points, point_label
 from harness.schema.tuning import spaces
 
 if TYPE_CHECKING:
@@ -23,12 +23,12 @@ def _fanout_source(suite: Suite, contender: str) -> str:
 def check_batching(suite: Suite, source: str) -> None:
     """Sampled contenders need a fan-out with one entry per layer (or "all")."""
     tuned = {} if suite.tuning is None else spaces(suite.tuning, suite.contenders)
-    for design in design_points(suite, source):
-        training = design.options.training.apply(suite.training)
+    for contender, point, options in configured_points(suite.contenders, suite.ablation):
+        training = options.training.apply(suite.training)
         if not training.sampled:
             continue
-        where = f"{source}: {_fanout_source(suite, design.contender)}"
-        layers = design.options.layers
+        where = f"{source}: {_fanout_source(suite, contender)}"
+        layers = options.layers
         if training.fanout is None:
             raise InputError(
                 f'{where}: required when batching = "sampled"; allowed: a list of neighbour '
@@ -39,10 +39,11 @@ def check_batching(suite: Suite, source: str) -> None:
         if len(training.fanout) != layers:
             raise InputError(
                 f"{where}: given {training.fanout} ({len(training.fanout)} entries) for "
-                f'{design.label} with {layers} layers; allowed: one count per layer, or "all"'
+                f"{point_label(contender, point)} with {layers} layers; allowed: one count per "
+                'layer, or "all"'
             )
-        if "layers" in tuned.get(design.contender, {}):
+        if "layers" in tuned.get(contender, {}):
             raise InputError(
-                f"{where}: given {training.fanout} while tuning.space.{design.contender} varies "
+                f"{where}: given {training.fanout} while tuning.space.{contender} varies "
                 'layers; allowed: fanout = "all", or a fixed layers count'
             )

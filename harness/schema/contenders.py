@@ -1,8 +1,8 @@
-"""Options of each model kind. Adding a kind: one options class here, one module in models/."""
+"""Options of each model kind; harness/schema/model_kinds.py registers each kind with its class."""
 
 from __future__ import annotations
 
-from typing import Annotated, Any, Literal
+from typing import Annotated, Any, Literal, get_args
 
 from pydantic import Field, model_validator
 
@@ -24,8 +24,6 @@ FeatureStart = Literal[
     "random_walk",
 ]
 
-ATTENTION_KINDS = ("gat", "gatv2", "dot_product")
-MODEL_KINDS = ("gat", "gatv2", "dot_product", "gcn", "sage", "mlp")
 # options only an attention layer has; on any other kind they are errors, not silently ignored
 ATTENTION_ONLY = (
     "heads",
@@ -65,9 +63,14 @@ class ContenderBase(StrictModel):
                 if key in data:
                     raise ValueError(
                         f"{UNKNOWN_KEY} '{key}' for model {data.get('model')!r}: it has no "
-                        f"attention; allowed only for {', '.join(ATTENTION_KINDS)}"
+                        f"attention; allowed only for {', '.join(_attention_kinds())}"
                     )
         return data
+
+
+def _attention_kinds() -> tuple[str, ...]:
+    """The kinds AttentionOptions serves (its `model` literal)."""
+    return get_args(AttentionOptions.model_fields["model"].annotation)
 
 
 class AttentionOptions(ContenderBase):
@@ -135,9 +138,3 @@ class MLPOptions(ContenderBase):
     """Multi-layer perceptron on node features alone: ignores edges."""
 
     model: Literal["mlp"]
-
-
-ContenderOptions = Annotated[
-    AttentionOptions | ConvolutionOptions | NeighbourMeanOptions | MLPOptions,
-    Field(discriminator="model"),
-]

@@ -10,9 +10,9 @@ from pydantic import ValidationInfo, field_validator
 from harness.schema.ablation import Ablation, HopSettings
 from harness.schema.analysis import Analysis, unknown_contenders
 from harness.schema.base import StrictModel
-from harness.schema.contenders import ContenderOptions
 from harness.schema.data import DataSection, FractionSplit, HomophilyMap, SplitSection
 from harness.schema.gate import GateOptions
+from harness.schema.model_kinds import ContenderOptions
 from harness.schema.training import Training
 from harness.schema.tuning import Tuning
 

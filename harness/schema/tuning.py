@@ -14,7 +14,7 @@ from pydantic import Field, ValidationError, model_validator
 
 from harness.errors import InputError
 from harness.schema.base import StrictModel, show
-from harness.schema.contenders import ATTENTION_KINDS
+from harness.schema.model_kinds import attends
 from harness.schema.training import Training
 
 
@@ -76,7 +76,7 @@ def default_space(model: str, equal_parameters: bool) -> dict[str, SpaceEntry]:
         "weight_decay": Range(low=1e-6, high=1e-2, log=True),
         "dropout": Range(low=0.0, high=0.7),
     }
-    if model in ATTENTION_KINDS:
+    if attends(model):
         space["heads"] = [1, 2, 4, 8]
         space["attention_dropout"] = Range(low=0.0, high=0.6)
         if not equal_parameters:

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import hashlib
 import json
 import time
 from pathlib import Path
@@ -13,6 +12,7 @@ from sqlalchemy import Column, Double, Table, Text
 from harness.data import load_graph
 from harness.data.assemble import cleaning_notes
 from harness.data.profile import DatasetProfile, profile_graph
+from harness.digest import text_digest
 from harness.storage.database import insert, opened, prepare, read_rows
 from harness.storage.store import METADATA, Store
 
@@ -29,8 +29,7 @@ PROFILES = Table(
 
 def data_key(section: BaseModel) -> str:
     """Hash of a data section (for table files it includes their content digest)."""
-    text = section.model_dump_json()
-    return hashlib.sha256(text.encode()).hexdigest()[:24]
+    return text_digest(section.model_dump_json())
 
 
 def save_profile(store: Store, suite: str, section: BaseModel, profile: DatasetProfile) -> None:

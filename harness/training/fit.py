@@ -19,7 +19,7 @@ from harness.data.inductive import measure_arrival, training_subgraph
 from harness.data.splits import Split, make_split
 from harness.models import build_model
 from harness.planning import RunSpec
-from harness.schema.contenders import ATTENTION_KINDS
+from harness.schema.model_kinds import MODEL_KINDS, attends
 from harness.schema.training import Training
 from harness.training.compiled import Forward, use_compile_cache
 from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
@@ -79,7 +79,8 @@ def snapshot(model: nn.Module) -> dict[str, torch.Tensor]:
 
 
 def step_loss(model: nn.Module, step: Step) -> torch.Tensor:
-    logits = model(step.x, step.edge_index, step.edge_weight)
+    extra = () if step.edge_weight is None else (step.edge_weight,)  # only GCN batches have it
+    logits = model(step.x, step.edge_index, *extra)
     return nn.functional.cross_entropy(logits[step.rows], step.labels)
 
 
@@ -261,10 +262,10 @@ def perform(
     )
     if inductive is not None and not validation_only:
         radius = spec.options.layers * getattr(spec.options, "hop_radius", 1)
-        radius += spec.model == "gcn"  # degree weights reach 1 hop more
+        radius += MODEL_KINDS[spec.model].extra_hops
         arrival = measure_arrival(model, started.data, split, radius, seed=spec.seed)
         result = replace(result, extras={**result.extras, "arrival": arrival.as_dict()})
-    if spec.model in ATTENTION_KINDS:
+    if attends(spec.model):
         graph = started.data
         diagnose = chunked_attention_diagnostics if spec.training.sampled else attention_diagnostics
         diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y)

@@ -17,12 +17,11 @@ import optuna
 from optuna.trial import FrozenTrial, Trial, TrialState
 
 from harness.execution.local import record_of
-from harness.planning import expand
+from harness.planning import expand, with_settings
 from harness.schema.suite import Suite
 from harness.storage import store
 from harness.training.fit import perform
 from harness.tuning.storage import fail_stale_trials
-from harness.tuning.study import with_settings
 from harness.tuning.trial_states import LIVE, POLL_SECONDS, SurplusTrial, trial_id, usage
 
 

@@ -14,9 +14,10 @@ import pandas as pd
 from optuna.trial import TrialState
 
 from harness.errors import InputError
+from harness.planning import with_settings
 from harness.schema.suite import Suite
 from harness.tuning.sizing import parameter_table, size_hidden, target_count
-from harness.tuning.study import best_settings, tuning_plan, with_settings
+from harness.tuning.study import best_settings, tuning_plan
 from harness.tuning.trial_states import FINISHED, usage
 
 

@@ -10,12 +10,10 @@ seeded repeats (harness/workers.py), and only those runs reach the result store.
 
 from __future__ import annotations
 
-import hashlib
-import json
 import os
 import socket
 from collections.abc import Callable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -24,11 +22,10 @@ import pandas as pd
 from optuna.samplers import BaseSampler, TPESampler
 from optuna.trial import FrozenTrial, Trial
 
-from harness.planning import RunSpec, expand
+from harness.digest import json_digest
+from harness.planning import RunSpec, expand, with_settings
 from harness.schema.suite import Suite
-from harness.schema.training import Training
 from harness.schema.tuning import (
-    TRAINING_KEYS,
     Range,
     SpaceEntry,
     Tuning,
@@ -97,11 +94,6 @@ def make_pruner(tuning: Tuning, epochs: int) -> optuna.pruners.BasePruner:
     return optuna.pruners.NopPruner()
 
 
-def digest(content: Any) -> str:
-    text = json.dumps(content, sort_keys=True, separators=(",", ":"), default=str)
-    return hashlib.sha256(text.encode()).hexdigest()[:16]
-
-
 def study_name(base: RunSpec, space: dict[str, SpaceEntry], tuning: Tuning) -> str:
     """Names the study by everything that shapes its trials; the budget may grow later."""
     shaping = {
@@ -109,7 +101,7 @@ def study_name(base: RunSpec, space: dict[str, SpaceEntry], tuning: Tuning) -> s
         "space": {k: v if isinstance(v, list) else v.model_dump() for k, v in space.items()},
         "tuning": tuning.model_dump(mode="json", include={"seed", "pruner", "equal_parameters"}),
     }
-    return f"{base.suite}:{base.contender}:{digest(shaping)}"
+    return f"{base.suite}:{base.contender}:{json_digest(shaping, 16)}"
 
 
 def suggest(trial: Trial, space: dict[str, SpaceEntry], options: Any) -> Settings:
@@ -126,15 +118,6 @@ def suggest(trial: Trial, space: dict[str, SpaceEntry], options: Any) -> Setting
         else:
             settings[key] = trial.suggest_categorical(key, list(entry))
     return settings
-
-
-def with_settings(base: RunSpec, settings: Settings) -> RunSpec:
-    """The spec with tuned options and training settings (validated by the schema)."""
-    option_changes = {k: v for k, v in settings.items() if k not in TRAINING_KEYS}
-    training_changes = {k: v for k, v in settings.items() if k in TRAINING_KEYS}
-    options = type(base.options).model_validate({**base.options.model_dump(), **option_changes})
-    training = Training.model_validate({**base.training.model_dump(), **training_changes})
-    return replace(base, options=options, training=training)
 
 
 def objective_for(
@@ -202,7 +185,7 @@ def tuning_plan(suite: Suite) -> list[Plan]:
 
 def repeats_study_name(suite: Suite, plans: list[Plan]) -> str:
     """The study whose enqueued trials are the seeded repeats of the tuned settings."""
-    return f"{suite.name}:repeats:{digest([[p.study for p in plans], suite.seed_list])}"
+    return f"{suite.name}:repeats:{json_digest([[p.study for p in plans], suite.seed_list], 16)}"
 
 
 def tuning_outline(suite: Suite) -> list[str]:

@@ -110,10 +110,8 @@ def settle(study: optuna.Study, objective: Callable[[Trial], float], tuning: Tun
 
 @dataclass(frozen=True)
 class WorkOutcome:
-    """What one worker saw at the end: study names and repeats stored locally."""
+    """What one worker saw at the end: the keys of the repeats it stored locally."""
 
-    studies: dict[str, str]
-    repeats_study: str
     keys: frozenset[str]
 
 
@@ -164,7 +162,7 @@ def work(suite: Suite, store_path: str | Path, storage_url: str) -> WorkOutcome:
     names = {p.contender: p.study for p in plans}
     run_repeats(suite, repeats, settings, names, resize, store_path)
     keys = sync_repeats(repeats, store_path)
-    return WorkOutcome({p.contender: p.study for p in plans}, repeats.study_name, keys)
+    return WorkOutcome(keys)
 
 
 def _worker_task(suite_path: str, store_path: str, storage_url: str) -> WorkOutcome:
@@ -183,7 +181,7 @@ def work_in_processes(
         torch.set_num_threads(threads)
         return work(suite, store_path, storage_url)
     context = multiprocessing.get_context("spawn")
-    pool = context.Pool(jobs, initializer=worker_setup, initargs=(threads,))
+    pool = context.Pool(jobs, initializer=worker_setup, initargs=(threads, (__name__,)))
     try:
         pending = [
             pool.apply_async(_worker_task, (suite_path, store_path, storage_url))

@@ -1,0 +1,131 @@
+"""`baseline` and `gate`: run (or reuse) a suite's runs, then save or compare a baseline."""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+from pathlib import Path
+from typing import TYPE_CHECKING
+
+from harness.commands.feedback import SILENT, Feedback
+from harness.commands.run import Executed, execute_specs
+from harness.execution.local import pending
+from harness.execution.pool import check_threads
+from harness.execution.preflight import preflight
+from harness.gate import history
+from harness.gate.baseline import (
+    build_baseline,
+    check_gateable,
+    check_matches,
+    contender_labels,
+    environment_differences,
+    environment_fingerprint,
+    read_baseline,
+    write_baseline,
+)
+from harness.gate.compare import GateOutcome, evaluate
+from harness.planning import RunSpec, expand, load_suite
+from harness.report.gate_markdown import gate_markdown
+from harness.report.junit import write_junit
+from harness.schema.suite import Suite
+from harness.storage.selection import spec_runs
+
+if TYPE_CHECKING:
+    from harness.storage.database import Location
+
+
+def _run_for_gate(
+    suite: Suite,
+    specs: list[RunSpec],
+    store_path: Location,
+    jobs: int,
+    threads: int,
+    feedback: Feedback,
+) -> Executed:
+    check_threads(jobs, threads)
+    todo = len(pending(specs, store_path))
+    if todo:
+        feedback.note(f"{suite.name}: training {todo} runs, reusing {len(specs) - todo}")
+    return execute_specs(specs, store_path, jobs, threads, SILENT)
+
+
+@dataclass(frozen=True)
+class BaselineOutcome:
+    suite: Suite
+    store: Location
+    executed: Executed
+    runs: int
+    saved: Path | None = None
+
+    @property
+    def status(self) -> int:
+        return self.executed.status
+
+
+def baseline(
+    suite_path: str,
+    save: Path,
+    store_path: Location,
+    jobs: int,
+    threads: int,
+    feedback: Feedback = SILENT,
+) -> BaselineOutcome:
+    suite = load_suite(suite_path)
+    check_gateable(suite, suite_path)
+    specs = expand(suite)
+    preflight(suite, suite_path)
+    executed = _run_for_gate(suite, specs, store_path, jobs, threads, feedback)
+    if executed.interrupted:
+        return BaselineOutcome(suite, store_path, executed, len(specs))
+    document = build_baseline(
+        suite, specs, spec_runs(store_path, specs), environment_fingerprint(threads)
+    )
+    write_baseline(save, document)
+    return BaselineOutcome(suite, store_path, executed, len(specs), save)
+
+
+@dataclass(frozen=True)
+class GateRun:
+    """A gate command: the execution, and the comparison with the baseline (None if cut off)."""
+
+    store: Location
+    executed: Executed
+    gate: GateOutcome | None = None
+
+    @property
+    def status(self) -> int:
+        return self.gate.exit_code if self.gate is not None else self.executed.status
+
+
+def gate(
+    suite_path: str,
+    baseline_path: Path,
+    store_path: Location,
+    jobs: int,
+    threads: int,
+    junit: Path | None = None,
+    markdown: Path | None = None,
+    feedback: Feedback = SILENT,
+) -> GateRun:
+
+    suite = load_suite(suite_path)
+    check_gateable(suite, suite_path)
+    stored = read_baseline(baseline_path)
+    specs = expand(suite)
+    check_matches(stored, suite, specs, baseline_path)
+    preflight(suite, suite_path)
+    executed = _run_for_gate(suite, specs, store_path, jobs, threads, feedback)
+    if executed.interrupted:
+        return GateRun(store_path, executed)
+    environment = environment_fingerprint(threads)
+    differences = environment_differences(stored.environment.model_dump(), environment)
+    runs = spec_runs(store_path, specs)
+    labels = contender_labels(specs)
+    outcome = evaluate(suite, labels, stored, runs, environment, differences, time.time())
+    history.append(store_path, outcome)
+    if junit:
+        write_junit(junit, outcome)
+    if markdown:
+        Path(markdown).parent.mkdir(parents=True, exist_ok=True)
+        Path(markdown).write_text(gate_markdown(outcome), encoding="utf-8")
+    return GateRun(store_path, executed, outcome)
