@@ -20,6 +20,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats as scipy_stats
 
+from harness.formatting import metric_label, p_phrase, signed
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 
 BETTER, WORSE, NO_DIFFERENCE, INCONCLUSIVE = (
@@ -29,7 +30,6 @@ BETTER, WORSE, NO_DIFFERENCE, INCONCLUSIVE = (
     "inconclusive",
 )
 SEED_CAP = 10_000
-METRIC_LABELS = {"accuracy": "accuracy", "macro_f1": "macro-F1", "roc_auc": "ROC-AUC"}
 
 
 @dataclass(frozen=True)
@@ -126,22 +126,6 @@ def judge_all(comparisons: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) 
     return out
 
 
-def signed(value: float, digits: int = 1) -> str:
-    return "nan" if not np.isfinite(value) else f"{value:+.{digits}f}"
-
-
-def p_phrase(p: float) -> str:
-    """`p = 0.012` or `p < 0.001`."""
-    text = p_text(p)
-    return f"p {text}" if text.startswith("<") else f"p = {text}"
-
-
-def p_text(p: float) -> str:
-    if not np.isfinite(p):
-        return "n/a"
-    return "< 0.001" if p < 0.001 else f"{p:.2g}" if p < 0.1 else f"{p:.2f}"
-
-
 def label(row: pd.Series) -> str:
     """A variant with its model kind and, for attention kinds, its heads."""
     heads = row.get("heads")
@@ -164,7 +148,7 @@ def headline(contenders: pd.DataFrame, judged: pd.DataFrame, settings: Analysis)
     row = judged[
         (judged["attention"] == best_a["variant"]) & (judged["baseline"] == best_b["variant"])
     ].iloc[0]
-    metric = METRIC_LABELS.get(best_a["metric"], best_a["metric"])
+    metric = metric_label(best_a["metric"])
     if row["seeds"] < 2:
         return (
             f"{label(best_a)} against the best baseline, {label(best_b)}: inconclusive, they "

@@ -2,19 +2,15 @@
 
 from __future__ import annotations
 
+from harness.formatting import as_points, metric_label
 from harness.gate.compare import PASS, GateOutcome
 from harness.report.markdown_text import escape
-from harness.report.terminal import METRIC_LABELS
 
 MARKS = {"pass": "pass", "warn": "⚠️ warn", "fail": "❌ fail", "skip": "skipped"}
 
 
-def _points(value: float) -> str:
-    return "-" if value != value else f"{100 * value:+.2f}"
-
-
 def gate_markdown(outcome: GateOutcome) -> str:
-    metric = METRIC_LABELS.get(outcome.metric, outcome.metric)
+    metric = metric_label(outcome.metric)
     level = round(100 * outcome.confidence)
     lines = [
         f"### Heedful gate `{outcome.suite}`: {outcome.status.upper()}",
@@ -30,8 +26,8 @@ def gate_markdown(outcome: GateOutcome) -> str:
         verdict = MARKS["fail"] if "fail" in worst else MARKS["warn"] if worst else MARKS["pass"]
         lines.append(
             f"| {escape(contender)} | {figures['baseline']:.4f} → {figures['current']:.4f} "
-            f"| {_points(figures['difference'])} "
-            f"| [{_points(figures['low'])}, {_points(figures['high'])}] "
+            f"| {as_points(figures['difference'])} "
+            f"| [{as_points(figures['low'])}, {as_points(figures['high'])}] "
             f"| ×{checks['time'].figures['ratio']:.2f} | ×{checks['memory'].figures['ratio']:.2f} "
             f"| {verdict} |"
         )

@@ -8,21 +8,16 @@ from rich.console import Console
 from rich.markup import escape
 from rich.table import Table
 
+from harness.formatting import as_points, fixed, metric_label, sparkline
 from harness.gate.compare import PASS, SKIP, GateOutcome
-from harness.report.terminal import METRIC_LABELS, number
 
 STYLES = {"pass": "green", "warn": "yellow", "fail": "bold red", "skip": "dim"}
 MARKS = {"pass": "✓", "warn": "!", "fail": "✗", "skip": "-"}
-BLOCKS = "▁▂▃▄▅▆▇█"
-
-
-def _points(value: float) -> str:
-    return "-" if value != value else f"{100 * value:+.2f}"
 
 
 def print_gate(outcome: GateOutcome, console: Console) -> None:
     """One row per contender, then every check that did not pass, then the verdict."""
-    metric = METRIC_LABELS.get(outcome.metric, outcome.metric)
+    metric = metric_label(outcome.metric)
     level = round(100 * outcome.confidence)
     table = Table(
         title=f"Gate: {escape(outcome.suite)} (test {metric})",
@@ -46,8 +41,8 @@ def print_gate(outcome: GateOutcome, console: Console) -> None:
             escape(contender),
             f"{figures['baseline']:.3f}",
             f"{figures['current']:.3f}",
-            f"{_points(figures['difference'])} "
-            f"[{_points(figures['low'])}, {_points(figures['high'])}]",
+            f"{as_points(figures['difference'])} "
+            f"[{as_points(figures['low'])}, {as_points(figures['high'])}]",
             f"{checks['time'].figures['ratio']:.2f}",
             f"{checks['memory'].figures['ratio']:.2f}",
             marks,
@@ -75,28 +70,12 @@ def print_gate(outcome: GateOutcome, console: Console) -> None:
     console.print(f"gate [{STYLES[outcome.status]}]{outcome.status.upper()}[/]")
 
 
-def sparkline(values: list[float], least_span: float = 0.0) -> str:
-    """One block character per value, from the row's lowest value over at least `least_span`.
-
-    The least span keeps changes far below what matters from filling the whole height.
-    """
-    finite = [v for v in values if v == v]
-    if not finite:
-        return ""
-    low = min(finite)
-    span = max(max(finite) - low, least_span)
-    top = len(BLOCKS) - 1
-    return "".join(
-        " " if v != v else BLOCKS[0 if span == 0 else round((v - low) / span * top)] for v in values
-    )
-
-
 def history_table(history: pd.DataFrame, suite: str, last: int = 20) -> Table:
     """Each contender's latest figures, each with a trend over its last `last` gate runs.
 
     Metric trends span at least 2 points, cost trends at least 10% of their largest value.
     """
-    metric = METRIC_LABELS.get(history["metric"].iloc[-1], history["metric"].iloc[-1])
+    metric = metric_label(history["metric"].iloc[-1])
     first = pd.Timestamp(history["gated_at"].min(), unit="s").strftime("%Y-%m-%d %H:%M")
     final = pd.Timestamp(history["gated_at"].max(), unit="s").strftime("%Y-%m-%d %H:%M")
     gates = history["gate_id"].nunique()
@@ -123,10 +102,10 @@ def history_table(history: pd.DataFrame, suite: str, last: int = 20) -> Table:
         table.add_row(
             escape(str(contender)),
             str(len(rows)),
-            f"{number(float(latest['metric_mean']), 3)} {sparkline(metric_values, 0.02)}",
-            f"{number(float(latest['seconds_per_epoch']), 4)} "
+            f"{fixed(float(latest['metric_mean']), 3)} {sparkline(metric_values, 0.02)}",
+            f"{fixed(float(latest['seconds_per_epoch']), 4)} "
             f"{sparkline(seconds, 0.1 * max(seconds))}",
-            f"{number(float(latest['peak_mb']), 2)} {sparkline(memory, 0.1 * max(memory))}",
+            f"{fixed(float(latest['peak_mb']), 2)} {sparkline(memory, 0.1 * max(memory))}",
             "".join(f"[{STYLES[s]}]{MARKS[s]}[/]" for s in rows["contender_status"]),
         )
     return table

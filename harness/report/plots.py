@@ -15,7 +15,7 @@ from matplotlib.figure import Figure
 
 from harness.analysis.suite_report import SuiteReport
 from harness.analysis.verdict import BETTER, INCONCLUSIVE, NO_DIFFERENCE, WORSE
-from harness.report.tables import metric_label
+from harness.report.tables import report_metric
 
 SIDE_COLOURS = {"attention": "#c2571a", "baseline": "#2f6f9f"}
 VERDICT_COLOURS = {
@@ -58,7 +58,7 @@ def contender_plot(report: SuiteReport) -> Figure:
     axes.set_yticks(range(len(table)), list(table["variant"]))
     axes.invert_yaxis()
     level = f"{report.settings.confidence:.0%}"
-    axes.set_xlabel(f"test {metric_label(report)} (dots: seeds; bar: {level} t-interval)")
+    axes.set_xlabel(f"test {report_metric(report)} (dots: seeds; bar: {level} t-interval)")
     axes.set_title("Contenders")
     return figure
 
@@ -82,7 +82,7 @@ def difference_plot(report: SuiteReport) -> Figure:
     handles, names = axes.get_legend_handles_labels()
     unique = dict(zip(names, handles, strict=True))
     axes.legend(unique.values(), unique.keys(), loc="best", fontsize=8, frameon=False)
-    axes.set_xlabel(f"difference in {metric_label(report)} points (attention minus baseline)")
+    axes.set_xlabel(f"difference in {report_metric(report)} points (attention minus baseline)")
     axes.set_title("Paired differences on shared seeds")
     return figure
 
@@ -103,7 +103,7 @@ def ablation_plot(report: SuiteReport) -> Figure:
         axes.set_xticks(x, list(group["level"]))
         axes.set_xlabel(axis)
         axes.set_title(str(contender), fontsize=9)
-        axes.set_ylabel(f"test {metric_label(report)}")
+        axes.set_ylabel(f"test {report_metric(report)}")
     for axes in grid[len(panels) :]:
         axes.set_visible(False)
     figure.suptitle("Ablation axes: level means with t-intervals")
@@ -143,7 +143,7 @@ def cost_plot(report: SuiteReport) -> Figure:
         front = table[table[mark]].sort_values(column)
         axes.step(front[column], front["mean"], where="post", color="#9e9e9e", lw=1, zorder=1)
         axes.set_xlabel(name)
-        axes.set_ylabel(f"mean test {metric_label(report)}")
+        axes.set_ylabel(f"mean test {report_metric(report)}")
     figure.suptitle("Cost trade-off (filled: Pareto-optimal)")
     figure.tight_layout()
     return figure
@@ -196,7 +196,7 @@ def _map_panel(axes, report: SuiteReport) -> None:
         textcoords="offset points",
     )
     axes.set_xlabel("edge homophily of matched synthetic graphs")
-    axes.set_ylabel(f"test {metric_label(report)}")
+    axes.set_ylabel(f"test {report_metric(report)}")
     axes.legend(fontsize=7, frameon=False)
     axes.set_title("contenders across homophily", fontsize=9)
 

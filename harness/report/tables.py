@@ -4,13 +4,12 @@ renderers. Formatting only: every figure comes from a SuiteReport
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import pandas as pd
 
 from harness.analysis.suite_report import SuiteReport
-from harness.analysis.verdict import METRIC_LABELS, p_text, signed
+from harness.formatting import fixed, interval, metric_label, p_text, signed, signed_interval
 
 
 @dataclass(frozen=True)
@@ -25,24 +24,6 @@ class TextTable:
     note: str = ""
 
 
-def fixed(value: float, digits: int = 3) -> str:
-    if value is None or (isinstance(value, float) and math.isnan(value)):
-        return "-"
-    return f"{value:.{digits}f}"
-
-
-def interval(low: float, high: float, digits: int = 3) -> str:
-    if any(v is None or (isinstance(v, float) and math.isnan(v)) for v in (low, high)):
-        return "-"
-    return f"{low:.{digits}f} to {high:.{digits}f}"
-
-
-def signed_interval(low: float, high: float) -> str:
-    if any(isinstance(v, float) and math.isnan(v) for v in (low, high)):
-        return "-"
-    return f"{signed(low)} to {signed(high)}"
-
-
 def points(value: float) -> str:
     return f"{value:g} point" + ("" if value == 1 else "s")
 
@@ -51,7 +32,7 @@ def facts(report: SuiteReport) -> str:
     """One paragraph: what was measured and with which settings."""
     settings = report.settings
     return (
-        f"Metric: test {metric_label(report)}; {report.runs['seed'].nunique()} seeds; minimum "
+        f"Metric: test {report_metric(report)}; {report.runs['seed'].nunique()} seeds; minimum "
         f"gain that matters: {points(settings.minimum_gain)}; confidence "
         f"{settings.confidence:.0%}; {settings.bootstrap_resamples} bootstrap resamples. "
         "Figures are estimates on this data under these splits and seeds, not guarantees "
@@ -59,8 +40,8 @@ def facts(report: SuiteReport) -> str:
     )
 
 
-def metric_label(report: SuiteReport) -> str:
-    return METRIC_LABELS.get(report.metric, report.metric)
+def report_metric(report: SuiteReport) -> str:
+    return metric_label(report.metric)
 
 
 def _table(name: str, title: str, header: list[str], rows: list[list[str]], note: str = ""):
@@ -94,7 +75,7 @@ def contender_table(report: SuiteReport) -> TextTable:
         ]
         for r in report.contenders.itertuples()
     ]
-    header = ["contender", "model", "side", "seeds", f"test {metric_label(report)} mean ± std"]
+    header = ["contender", "model", "side", "seeds", f"test {report_metric(report)} mean ± std"]
     header += ["median", "min to max", f"{level} t-interval", f"{level} bootstrap"]
     return _table("contenders", "Contenders over seeds", header, rows)
 
@@ -121,7 +102,7 @@ def comparison_table(report: SuiteReport) -> TextTable:
     header = ["attention", "baseline", "seeds", "difference (points)", f"{level} t-interval"]
     header += [f"{level} bootstrap", "t (df)", "p", "Holm p", "Wilcoxon p", "d_z", "verdict"]
     note = (
-        f"Differences are attention minus baseline in {metric_label(report)} points on shared "
+        f"Differences are attention minus baseline in {report_metric(report)} points on shared "
         f"seeds; minimum gain that matters: {points(report.settings.minimum_gain)}; Holm's "
         "adjustment runs over all comparisons of the suite."
     )
@@ -171,7 +152,7 @@ def level_table(report: SuiteReport) -> TextTable:
         ]
         for r in report.ablation.levels.itertuples()
     ]
-    header = ["contender", "axis", "level", "seeds", f"mean {metric_label(report)}"]
+    header = ["contender", "axis", "level", "seeds", f"mean {report_metric(report)}"]
     header += [f"{level} t-interval", "marginal effect (points)", f"{level} t-interval "]
     return _table("ablation_levels", "Ablation levels", header, rows)
 
@@ -217,7 +198,7 @@ def cost_table(report: SuiteReport) -> TextTable:
         ]
         for r in report.cost.itertuples()
     ]
-    header = ["contender", "model", f"mean {metric_label(report)}", "s/epoch", "params"]
+    header = ["contender", "model", f"mean {report_metric(report)}", "s/epoch", "params"]
     header += ["peak MB", "Pareto (all)", "Pareto (time)", "Pareto (params)", "Pareto (memory)"]
     note = "Pareto: no other contender is at least as good and at least as cheap."
     return _table("cost", "Cost trade-off", header, rows, note)
@@ -276,7 +257,7 @@ def homophily_map_table(report: SuiteReport) -> TextTable | None:
             ]
         )
     note = (
-        f"Mean test {metric_label(report)} (t-interval) on synthetic graphs matched to the "
+        f"Mean test {report_metric(report)} (t-interval) on synthetic graphs matched to the "
         f"suite's data; the data's edge homophily is {summary.data_edge_homophily:.3f}, "
         f"nearest level {summary.nearest_level:g}, where the best contender is "
         f"{summary.best_at_nearest}."

@@ -12,22 +12,13 @@ from rich.table import Table
 
 from harness.analysis.axes import AblationView
 from harness.analysis.suite_report import SuiteReport
+from harness.formatting import fixed, metric_label
 from harness.report.tables import TextTable, all_tables, comparison_table, reasons
-
-METRIC_LABELS = {"accuracy": "accuracy", "macro_f1": "macro-F1", "roc_auc": "ROC-AUC"}
-
-
-def number(value: float, digits: int = 3) -> str:
-    return (
-        "-"
-        if value is None or (isinstance(value, float) and math.isnan(value))
-        else f"{value:.{digits}f}"
-    )
 
 
 def summary_table(summary: pd.DataFrame, title: str) -> Table:
     """Contender, metric mean +- std, t-interval, costs; the best mean in bold green."""
-    metric = METRIC_LABELS.get(summary["metric"].iloc[0], summary["metric"].iloc[0])
+    metric = metric_label(summary["metric"].iloc[0])
     level = f"{summary['confidence'].iloc[0]:.0%}"
     table = Table(title=title, title_justify="left")
     for header in (
@@ -48,11 +39,11 @@ def summary_table(summary: pd.DataFrame, title: str) -> Table:
             escape(str(row["contender"])),  # variant labels hold [brackets]
             str(row["model"]),
             str(row["seeds"]),
-            f"{number(row['mean'])} ± {number(row['std'])}",
-            f"[{number(row['ci_low'])}, {number(row['ci_high'])}]",
-            number(row["seconds_per_epoch"], 4),
+            f"{fixed(row['mean'])} ± {fixed(row['std'])}",
+            f"[{fixed(row['ci_low'])}, {fixed(row['ci_high'])}]",
+            fixed(row["seconds_per_epoch"], 4),
             f"{row['params']:,}",
-            number(row["peak_mb"], 2),
+            fixed(row["peak_mb"], 2),
             style=style,
         )
     return table
@@ -68,7 +59,7 @@ def _share(value: float, chance: float) -> str:
     """A measured share with its uniform-attention value in brackets; "-" when not measured."""
     if value is None or (isinstance(value, float) and math.isnan(value)):
         return "-"
-    return f"{number(value)} ({number(chance)})"
+    return f"{fixed(value)} ({fixed(chance)})"
 
 
 def axis_level_table(
@@ -76,7 +67,7 @@ def axis_level_table(
 ) -> Table:
     """One section per axis: each level's test metric, its effect, and its attention."""
     first = levels.iloc[0]
-    label = METRIC_LABELS.get(metric, metric)
+    label = metric_label(metric)
     level = f"{confidence:.0%}"
     table = Table(
         title=f"Ablation of '{escape(str(first['contender']))}' by axis "
@@ -106,9 +97,9 @@ def axis_level_table(
                 escape(str(axis)) if index == 0 else "",
                 escape(str(row.level)),
                 str(row.runs),
-                f"{number(row.mean)} [{number(row.t_low)}, {number(row.t_high)}]",
+                f"{fixed(row.mean)} [{fixed(row.t_low)}, {fixed(row.t_high)}]",
                 f"{row.effect:+.1f} [{row.effect_low:+.1f}, {row.effect_high:+.1f}]",
-                number(diag["entropy_ratio"], 2) if found else "-",
+                fixed(diag["entropy_ratio"], 2) if found else "-",
                 _share(diag["same_label_share"], diag["neighbour_homophily"]) if found else "-",
             )
         table.add_section()
@@ -131,7 +122,7 @@ def attention_diagnostics_table(attention: pd.DataFrame) -> Table:
         table.add_row(
             escape(str(row.variant)),
             str(row.runs),
-            number(row.entropy_ratio),
+            fixed(row.entropy_ratio),
             _share(row.self_share, row.uniform_self_share),
             _share(row.same_label_share, row.neighbour_homophily),
         )

@@ -7,7 +7,7 @@ import io
 import pandas as pd
 from matplotlib.figure import Figure
 
-from harness.report.terminal import METRIC_LABELS
+from harness.formatting import metric_label
 
 
 def trend_figure(history: pd.DataFrame) -> Figure:
@@ -17,7 +17,7 @@ def trend_figure(history: pd.DataFrame) -> Figure:
     everyone else's matplotlib backend alone and keeps no figure open."""
     figure = Figure(figsize=(7, 5))
     top, bottom = figure.subplots(2, 1, sharex=True)
-    metric = METRIC_LABELS.get(history["metric"].iloc[-1], history["metric"].iloc[-1])
+    metric = metric_label(history["metric"].iloc[-1])
     for contender, rows in history.groupby("contender", sort=False):
         when = pd.to_datetime(rows["gated_at"], unit="s")
         line = top.plot(when, rows["metric_mean"], marker="o", label=str(contender))[0]

@@ -2,27 +2,12 @@
 
 from __future__ import annotations
 
-import math
-
 import pandas as pd
 from rich.console import Console, Group
 from rich.markup import escape
 from rich.table import Table
 
-from harness.report.terminal import number
-
-SPARK = "▁▂▃▄▅▆▇█"
-
-
-def sparkline(values: list[float], width: int = 40) -> str:
-    """The curve squeezed to `width` characters, low to high."""
-    if not values:
-        return ""
-    step = max(1, math.ceil(len(values) / width))
-    points = [max(values[i : i + step]) for i in range(0, len(values), step)]
-    low, high = min(points), max(points)
-    span = (high - low) or 1.0
-    return "".join(SPARK[int((p - low) / span * (len(SPARK) - 1))] for p in points)
+from harness.formatting import fixed, sparkline
 
 
 def budget_text(row: pd.Series) -> str:
@@ -57,9 +42,9 @@ def tuning_tables(
             curve_table.add_row(
                 escape(str(row["contender"])),
                 str(len(curve)),
-                number(curve[0]),
-                number(max(curve)),
-                sparkline(curve),
+                fixed(curve[0]),
+                fixed(max(curve)),
+                sparkline(curve, width=40),
             )
         used.add_row(
             escape(str(row["contender"])),
@@ -68,9 +53,9 @@ def tuning_tables(
             str(row["completed"]),
             str(row["pruned"]),
             str(row["failed"]),
-            number(row["seconds"], 1),
+            fixed(row["seconds"], 1),
             str(row["epochs"]),
-            number(row["best_validation"]),
+            fixed(row["best_validation"]),
         )
     chosen = Table(title="Best settings and their importance (fANOVA)", title_justify="left")
     for header in ("contender", "setting", "value", "importance"):
@@ -79,7 +64,7 @@ def tuning_tables(
         value = row["value"]
         shown = f"{value:.4g}" if isinstance(value, float) else str(value)
         chosen.add_row(
-            escape(row["contender"]), row["setting"], escape(shown), number(row["importance"], 2)
+            escape(row["contender"]), row["setting"], escape(shown), fixed(row["importance"], 2)
         )
     parts = [used, chosen, curve_table]
     if parameters is not None and not parameters.empty:
