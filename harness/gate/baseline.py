@@ -177,8 +177,14 @@ def read_baseline(path: str | Path) -> BaselineFile:
     try:
         raw = json.loads(text)
     except json.JSONDecodeError as error:
-        # a cut inside a string is reported at the string's start: it runs to the end too
-        if not text[error.pos :].strip() or error.msg.startswith("Unterminated string"):
+        # a cut inside a string is reported at the string's start, a cut inside a number or
+        # a literal on the file's last line, which a saved baseline ends with a line break
+        cut_last_line = not text.endswith("\n") and "\n" not in text[error.pos :]
+        if (
+            not text[error.pos :].strip()
+            or error.msg.startswith("Unterminated string")
+            or cut_last_line
+        ):
             raise InputError(
                 f"{path}: baseline file is truncated: the JSON ends at line {error.lineno} "
                 f"column {error.colno} before the document is complete"
