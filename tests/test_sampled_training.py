@@ -144,3 +144,19 @@ def test_a_tuned_layer_count_needs_fanout_all(write_suite):
     path = write_suite(text)
     with pytest.raises(Exception, match="varies layers"):
         parse_suite(read_suite_file(path), str(path))
+
+
+def test_a_tuned_suite_trains_its_trials_on_sampled_batches(write_suite, tmp_path):
+    text = suite_text().split("[contenders.attention]")[0] + (
+        '[contenders.attention]\nmodel = "gat"\nheads = 2\nhidden = 4\n'
+        '[contenders.convolution]\nmodel = "gcn"\nhidden = 8\n'
+        '[tuning]\ntrials = 3\npruner = "median"\n'
+        "[tuning.space.attention]\nlearning_rate = { low = 0.001, high = 0.05, log = true }\n"
+    )
+    db = tmp_path / "runs.db"
+    assert main(["run", str(write_suite(text)), "--store", str(db), "--quiet"]) == 0
+    runs = store.load_runs(db, ["sampled_depots"])
+    assert set(runs["contender"]) == {"attention", "convolution"}
+    for row in runs.itertuples():
+        extras = row.extras if isinstance(row.extras, dict) else json.loads(row.extras)
+        assert extras["batching"]["sampler"] == "heedful_uniform"

@@ -82,16 +82,26 @@ def make_sampler(tuning: Tuning) -> BaseSampler:
     return TrialSeededSampler(tuning.seed, startup_trials(tuning))
 
 
+def _warmup(epochs: int) -> int:
+    """The first epoch a pruner may judge: a tenth of the epochs, at least the third."""
+    return max(3, epochs // 10)
+
+
+# pruner name (the schema's `tuning.pruner`) -> pruner for trials of `epochs` epochs
+PRUNERS: dict[str, Callable[[Tuning, int], optuna.pruners.BasePruner]] = {
+    "median": lambda tuning, epochs: optuna.pruners.MedianPruner(
+        n_startup_trials=startup_trials(tuning), n_warmup_steps=_warmup(epochs)
+    ),
+    "halving": lambda tuning, epochs: optuna.pruners.SuccessiveHalvingPruner(
+        min_resource=_warmup(epochs), reduction_factor=3
+    ),
+    "none": lambda tuning, epochs: optuna.pruners.NopPruner(),
+}
+
+
 def make_pruner(tuning: Tuning, epochs: int) -> optuna.pruners.BasePruner:
-    """Median or successive halving; neither judges a trial in its first tenth of epochs."""
-    warmup = max(3, epochs // 10)
-    if tuning.pruner == "median":
-        return optuna.pruners.MedianPruner(
-            n_startup_trials=startup_trials(tuning), n_warmup_steps=warmup
-        )
-    if tuning.pruner == "halving":
-        return optuna.pruners.SuccessiveHalvingPruner(min_resource=warmup, reduction_factor=3)
-    return optuna.pruners.NopPruner()
+    """The suite's pruner; none judges a trial before its warm-up epoch (_warmup)."""
+    return PRUNERS[tuning.pruner](tuning, epochs)
 
 
 def study_name(base: RunSpec, space: dict[str, SpaceEntry], tuning: Tuning) -> str:
