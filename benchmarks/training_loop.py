@@ -38,22 +38,26 @@ from harness.training.fit import fit
 ROOT = Path(__file__).resolve().parents[1]
 
 
+def plain_epoch(model: nn.Module, network: nn.Module, optimizer, data, split) -> float:
+    """One epoch of a textbook full-batch PyG loop: train step, then validation accuracy.
+    `network` is the model itself, or the model compiled."""
+    model.train()
+    optimizer.zero_grad()
+    out = network(data.x, data.edge_index)
+    loss = nn.functional.cross_entropy(out[split.train], data.y[split.train])
+    loss.backward()
+    optimizer.step()
+    model.eval()
+    with torch.no_grad():
+        predicted = network(data.x, data.edge_index).argmax(1)[split.validation]
+    return float((predicted == data.y[split.validation]).double().mean())
+
+
 def plain_loop(model: nn.Module, data, split, learning_rate: float, weight_decay: float, epochs):
     """A textbook full-batch PyG loop: train step, then validation accuracy."""
     optimizer = torch.optim.Adam(model.parameters(), lr=learning_rate, weight_decay=weight_decay)
-    curve = []
     started = time.perf_counter()
-    for _ in range(epochs):
-        model.train()
-        optimizer.zero_grad()
-        out = model(data.x, data.edge_index)
-        loss = nn.functional.cross_entropy(out[split.train], data.y[split.train])
-        loss.backward()
-        optimizer.step()
-        model.eval()
-        with torch.no_grad():
-            predicted = model(data.x, data.edge_index).argmax(1)[split.validation]
-        curve.append(float((predicted == data.y[split.validation]).double().mean()))
+    curve = [plain_epoch(model, model, optimizer, data, split) for _ in range(epochs)]
     return (time.perf_counter() - started) / epochs, curve
 
 

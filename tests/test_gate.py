@@ -162,9 +162,9 @@ class Slowed(nn.Module):
         super().__init__()
         self.model, self.pause = model, pause
 
-    def forward(self, x, edge_index):
+    def forward(self, *inputs, **options):
         time.sleep(self.pause)
-        return self.model(x, edge_index)
+        return self.model(*inputs, **options)
 
 
 def test_slowed_contender_fails_time_check(saved, tmp_path, monkeypatch, capsys):
