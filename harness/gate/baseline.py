@@ -23,6 +23,7 @@ import harness
 from harness.digest import json_digest
 from harness.errors import InputError
 from harness.planning import RunSpec
+from harness.schema.ablation import point_label
 from harness.schema.base import format_validation_error
 from harness.schema.gate import BASELINE_FORMAT, BASELINE_FORMAT_VERSION, BaselineFile
 from harness.schema.suite import Suite
@@ -106,22 +107,35 @@ def _rounded(value: Any) -> Any:
     return round(float(value), 6)
 
 
+def run_labels(runs: pd.DataFrame) -> list[str]:
+    """Each run's contender label: the contender, with its ablation point when it has one."""
+    points = runs["point"] if "point" in runs.columns else [None] * len(runs)
+    return [
+        point_label(contender, point or {})
+        for contender, point in zip(runs["contender"], points, strict=True)
+    ]
+
+
 def contender_labels(specs: list[RunSpec]) -> list[str]:
     """Contender labels in suite order (one per contender, or per contender and ablation point)."""
-    return list(dict.fromkeys(spec.contender for spec in specs))
+    return list(dict.fromkeys(spec.label for spec in specs))
 
 
 def build_baseline(
     suite: Suite, specs: list[RunSpec], runs: pd.DataFrame, environment: dict[str, Any]
 ) -> dict[str, Any]:
-    """The baseline document of a suite's stored runs (one entry per contender and seed)."""
-    options = {spec.contender: spec.options for spec in specs}
+    """The baseline document of a suite's stored runs (suite_runs): one entry per contender,
+    or per contender and ablation point, each with one run per seed."""
+    by_label = {spec.label: spec for spec in specs}  # every seed of a label has its options
     contenders: dict[str, Any] = {}
     for name in contender_labels(specs):
-        group = runs[runs["contender"] == name].sort_values("seed")
+        group = runs[[label == name for label in run_labels(runs)]].sort_values("seed")
+        spec = by_label[name]
         contenders[name] = {
-            "model": options[name].model,
-            "options": options[name].model_dump(mode="json"),
+            "model": spec.options.model,
+            "options": spec.options.model_dump(mode="json"),
+            "contender": spec.contender,
+            "point": spec.point,
             "runs": [
                 {
                     "seed": int(row["seed"]),
@@ -227,7 +241,8 @@ def check_matches(
             f"{path}: suite hash differs (baseline {baseline.suite_hash}, suite {current_hash}): "
             f"{detail}; save a new baseline for the changed task"
         )
-    saved_names, suite_names = set(baseline.contenders), set(contender_labels(specs))
+    saved_names = {entry.contender or label for label, entry in baseline.contenders.items()}
+    suite_names = {spec.contender for spec in specs}
     for name in sorted(suite_names - saved_names):
         raise InputError(
             f"{path}: contenders.{name}: in the suite but missing from the baseline; baseline "
@@ -238,3 +253,12 @@ def check_matches(
             f"{path}: contenders.{name}: in the baseline but not in the suite; suite has "
             f"{', '.join(sorted(suite_names))}"
         )
+
+
+def unmatched_points(baseline: BaselineFile, specs: list[RunSpec]) -> list[tuple[str, str]]:
+    """(label, where) of each ablation point on one side only: 'suite' or 'baseline'."""
+    suite_labels = contender_labels(specs)
+    missing = [(label, "suite") for label in suite_labels if label not in baseline.contenders]
+    return missing + [
+        (label, "baseline") for label in baseline.contenders if label not in suite_labels
+    ]

@@ -52,10 +52,12 @@ class BaselineRun(StrictModel):
 
 
 class BaselineContender(StrictModel):
-    """A contender's model, options and per-seed figures."""
+    """A contender's (or one of its ablation points') model, options and per-seed figures."""
 
     model: str
     options: dict
+    contender: str | None = None  # the suite's contender; None: the entry's own name
+    point: dict = Field(default_factory=dict)  # ablation point: axis -> level
     runs: list[BaselineRun] = Field(min_length=1)
 
     @field_validator("runs")
