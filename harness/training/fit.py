@@ -17,6 +17,7 @@ from harness.data.feature_starts import contender_graph
 from harness.data.inductive import measure_arrival, training_subgraph
 from harness.data.splits import Split, make_split
 from harness.models import build_model
+from harness.models.generated import generated_modules_in
 from harness.planning import RunSpec
 from harness.schema.model_kinds import MODEL_KINDS, attends
 from harness.schema.training import Training
@@ -189,7 +190,8 @@ def perform(
     torch.manual_seed(spec.seed)
     classes = int(data.y.max()) + 1
     started = contender_graph(data, spec.options, spec.seed, spec.hop_cache)
-    model = build_model(spec.options, started.width, classes, started.embedding_rows)
+    with generated_modules_in(spec.hop_cache):
+        model = build_model(spec.options, started.width, classes, started.embedding_rows)
     inductive = None
     if spec.setting == "inductive":  # held-out nodes and their edges never reach training
         train_graph = training_subgraph(data, split)

@@ -16,6 +16,7 @@ from harness.data import load_graph
 from harness.data.feature_starts import start_features
 from harness.errors import InputError
 from harness.models import build_model
+from harness.models.generated import generated_modules_in
 from harness.planning import RunSpec
 
 TOLERANCE = 0.10
@@ -65,7 +66,8 @@ def size_hidden(spec: RunSpec, target: int) -> Sized:
     shape = dimensions(spec)
 
     def count(hidden: int) -> int:
-        return parameter_count(spec.options.model_copy(update={"hidden": hidden}), *shape)
+        with generated_modules_in(spec.hop_cache):
+            return parameter_count(spec.options.model_copy(update={"hidden": hidden}), *shape)
 
     low, high = 1, _valid_widths(spec.options)
     while low < high:  # smallest width with count >= target
@@ -91,7 +93,8 @@ def target_count(target: str | int, bases: dict[str, RunSpec]) -> int:
     if isinstance(target, int):
         return target
     spec = bases[target]
-    return parameter_count(spec.options, *dimensions(spec))
+    with generated_modules_in(spec.hop_cache):
+        return parameter_count(spec.options, *dimensions(spec))
 
 
 def sizer(target: int):  # noqa: ANN201 - returns Callable[[RunSpec], RunSpec]
