@@ -8,6 +8,7 @@ from dataclasses import dataclass
 
 import pandas as pd
 
+from harness.analysis.bounds import range_advice
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, interval, metric_label, p_text, signed, signed_interval
 
@@ -110,11 +111,35 @@ def comparison_table(report: SuiteReport) -> TextTable:
 
 
 def reasons(report: SuiteReport) -> list[str]:
-    """One line per comparison: the verdict and why."""
+    """One line per comparison: the verdict and why; then one per t-interval shown clipped."""
     return [
         f"{r.attention} vs {r.baseline}: {r.verdict} ({r.reason})"
         for r in report.comparisons.itertuples()
-    ]
+    ] + range_notes(report)
+
+
+def range_notes(report: SuiteReport) -> list[str]:
+    """Each t-interval that passed the metric's possible range (analysis.bounds)."""
+    level = f"{report.settings.confidence:.0%}"
+    notes = []
+    for r in report.contenders.itertuples():
+        if r.t_clipped:
+            notes.append(
+                f"{r.variant}: the {level} t-interval of its mean passes the possible range 0 to "
+                f"1 and is shown clipped; {range_advice(r.seeds, _count(r.seeds_for_range))}"
+            )
+    for r in report.comparisons.itertuples():
+        if r.t_clipped:
+            notes.append(
+                f"{r.attention} vs {r.baseline}: the {level} t-interval of the difference passes "
+                f"the possible ±100 points and is shown clipped; "
+                f"{range_advice(r.seeds, _count(r.seeds_for_range))}"
+            )
+    return notes
+
+
+def _count(value: object) -> int | None:
+    return None if value is None or pd.isna(value) else int(value)
 
 
 def axis_table(report: SuiteReport) -> TextTable:

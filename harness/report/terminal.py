@@ -40,7 +40,8 @@ def summary_table(summary: pd.DataFrame, title: str) -> Table:
             str(row["model"]),
             str(row["seeds"]),
             f"{fixed(row['mean'])} ± {fixed(row['std'])}",
-            f"[{fixed(row['ci_low'])}, {fixed(row['ci_high'])}]",
+            f"[{fixed(row['ci_low'])}, {fixed(row['ci_high'])}]"
+            + (" clipped" if row.get("ci_clipped", False) else ""),
             fixed(row["seconds_per_epoch"], 4),
             f"{row['params']:,}",
             fixed(row["peak_mb"], 2),
