@@ -10,6 +10,7 @@ from typing import TYPE_CHECKING
 import pandas as pd
 
 from harness.analysis.ablation_effects import AblationEffects, ablation_effects
+from harness.analysis.arrival import arrival_summary
 from harness.analysis.cost import cost_tradeoff
 from harness.analysis.stats import describe, paired_comparisons, with_variants
 from harness.analysis.verdict import headline, judge_all
@@ -38,6 +39,7 @@ class SuiteReport:
     cost: pd.DataFrame
     attention: pd.DataFrame  # harness.analysis.axes.attention_by_variant; empty without diagnostics
     homophily: pd.DataFrame  # graph homophily of the stored dataset profile; may be empty
+    arrival: pd.DataFrame  # analysis.arrival.arrival_summary; empty unless runs are inductive
     homophily_map: HomophilyMapSummary | None = None  # stored homophily-map runs, if any
 
 
@@ -143,6 +145,7 @@ def analyse(
         cost=cost_tradeoff(table),
         attention=attention_by_variant(runs),
         homophily=homophily if homophily is not None else pd.DataFrame(columns=["measure"]),
+        arrival=arrival_summary(runs, settings.confidence),
         homophily_map=homophily_map,
     )
 

@@ -8,6 +8,7 @@ from dataclasses import dataclass
 
 import pandas as pd
 
+from harness.analysis.arrival import DIFFERENCE_LIMIT
 from harness.analysis.bounds import range_advice
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, interval, metric_label, p_text, signed, signed_interval
@@ -291,13 +292,42 @@ def homophily_map_table(report: SuiteReport) -> TextTable | None:
     return _table("homophily_map", "Homophily map", header, rows, note)
 
 
+def arrival_table(report: SuiteReport) -> TextTable | None:
+    """New-node arrival of an inductive suite: update against full recompute, per variant."""
+    if report.arrival.empty:
+        return None
+    level = f"{report.settings.confidence:.0%}"
+    rows = [
+        [
+            r.variant,
+            str(r.seeds),
+            str(r.radius),
+            f"{fixed(r.update_ms)} ({interval(r.update_low, r.update_high)})",
+            f"{fixed(r.full_ms)} ({interval(r.full_low, r.full_high)})",
+            f"{fixed(r.speed_up, 2)}x",
+            f"{r.max_difference:.1e}" + (" over limit" if r.difference_flagged else ""),
+        ]
+        for r in report.arrival.itertuples()
+    ]
+    header = ["contender", "seeds", "radius", f"update ms/node ({level} t)"]
+    header += [f"full recompute ms/node ({level} t)", "speed-up", "largest difference"]
+    note = (
+        "Held-out nodes join the training graph in batches; after each, only outputs within the "
+        "radius are recomputed (update) and checked against a full recompute. Speed-up: mean "
+        f"full time over mean update time. A largest difference above {DIFFERENCE_LIMIT:g} "
+        "means the update did not reproduce the full recompute."
+    )
+    return _table("arrival", "New-node arrival", header, rows, note)
+
+
 def all_tables(report: SuiteReport) -> list[TextTable]:
     """The report's tables in reading order; absent analyses are left out."""
     tables = [contender_table(report), comparison_table(report)]
     if not report.ablation.axes.empty:
         tables += [axis_table(report), level_table(report), *interaction_tables(report)]
     tables.append(cost_table(report))
-    extra = [attention_table(report), homophily_table(report), homophily_map_table(report)]
+    extra = [attention_table(report), arrival_table(report), homophily_table(report)]
+    extra.append(homophily_map_table(report))
     return tables + [part for part in extra if part is not None]
 
 
@@ -311,6 +341,7 @@ def frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
         "ablation_interactions": report.ablation.interactions,
         "cost": report.cost,
         "attention": report.attention,
+        "arrival": report.arrival,
         "homophily": report.homophily,
         "homophily_map": (
             report.homophily_map.table if report.homophily_map is not None else pd.DataFrame()

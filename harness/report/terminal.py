@@ -13,7 +13,13 @@ from rich.table import Table
 from harness.analysis.axes import AblationView
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, metric_label
-from harness.report.tables import TextTable, all_tables, comparison_table, reasons
+from harness.report.tables import (
+    TextTable,
+    all_tables,
+    arrival_table,
+    comparison_table,
+    reasons,
+)
 
 
 def summary_table(summary: pd.DataFrame, title: str) -> Table:
@@ -200,6 +206,13 @@ def print_verdicts(report: SuiteReport, console: Console | None = None) -> None:
     for line in reasons(report):
         console.print(f"  {escape(line)}", highlight=False)
     console.print(f"[bold]Verdict:[/bold] {escape(report.headline)}", highlight=False)
+
+
+def print_arrival(report: SuiteReport, console: Console | None = None) -> None:
+    """The new-node arrival table of an inductive suite; nothing for other suites."""
+    part = arrival_table(report)
+    if part is not None:
+        (console or Console()).print(text_table(part))
 
 
 def print_report(report: SuiteReport, console: Console | None = None) -> None:
