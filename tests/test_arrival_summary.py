@@ -18,39 +18,21 @@ UPDATE = [0.0020, 0.0024, 0.0022]
 FULL = [0.0150, 0.0170, 0.0160]
 
 
-def run(contender: str, model: str, seed: int, difference: float) -> dict:
-    arrival = {
-        "update_seconds_per_new_node": UPDATE[seed],
-        "full_seconds_per_new_node": FULL[seed],
-        "max_difference": difference,
-        "radius": 2,
-        "batches": 10,
-        "new_nodes": 40,
-    }
-    return {
-        "suite": "sites",
-        "contender": contender,
-        "model": model,
-        "options": {"heads": 2} if model == "gat" else {},
-        "point": {},
-        "seed": seed,
-        "metric": "accuracy",
-        "test_metric": 0.7 + 0.01 * seed,
-        "seconds_per_epoch": 0.01,
-        "params": 100,
-        "peak_mb": 1.0,
-        "extras": {"arrival": arrival},
-    }
+def arrival(seed: int, difference: float) -> dict:
+    """extras.arrival of one inductive run on seed `seed`."""
+    figures = {"update_seconds_per_new_node": UPDATE[seed], "full_seconds_per_new_node": FULL[seed]}
+    return {"arrival": figures | {"max_difference": difference, "radius": 2, "batches": 10}}
 
 
-def crafted() -> pd.DataFrame:
-    rows = [run("attention", "gat", seed, 1e-7) for seed in range(3)]
-    rows += [run("convolution", "gcn", seed, [0.0, 3e-5, 0.0][seed]) for seed in range(3)]
+def crafted(run) -> pd.DataFrame:
+    rows = [run("attention", "gat", s, 0.7, extras=arrival(s, 1e-7)) for s in range(3)]
+    differences = [0.0, 3e-5, 0.0]
+    rows += [run("convolution", "gcn", s, 0.6, extras=arrival(s, differences[s])) for s in range(3)]
     return pd.DataFrame(rows)
 
 
-def test_arrival_summary_per_contender_with_intervals_speed_up_and_flag():
-    report = analyse(crafted())
+def test_arrival_summary_per_contender_with_intervals_speed_up_and_flag(crafted_run):
+    report = analyse(crafted(crafted_run))
     rows = report.arrival.set_index("variant")
     attention = rows.loc["attention"]
     update = 1000 * np.array(UPDATE)
@@ -69,8 +51,8 @@ def test_arrival_summary_per_contender_with_intervals_speed_up_and_flag():
     assert set(frames(report)["arrival"]["variant"]) == {"attention", "convolution"}
 
 
-def test_transductive_reports_have_no_arrival_table():
-    runs = crafted().assign(extras=[{}] * 6)
+def test_transductive_reports_have_no_arrival_table(crafted_run):
+    runs = crafted(crafted_run).assign(extras=[{}] * 6)
     report = analyse(runs)
     assert report.arrival.empty and "arrival" not in frames(report)
     assert all(part.name != "arrival" for part in all_tables(report))

@@ -18,24 +18,7 @@ ATTENTION = [0.90, 0.91, 0.89]
 BASELINE = [0.10, 0.12, 0.67]
 
 
-def run(contender: str, model: str, seed: int, value: float) -> dict:
-    return {
-        "suite": "spread",
-        "contender": contender,
-        "model": model,
-        "options": {"heads": 2} if model == "gat" else {},
-        "point": {},
-        "seed": seed,
-        "metric": "accuracy",
-        "test_metric": value,
-        "seconds_per_epoch": 0.01,
-        "params": 100,
-        "peak_mb": 1.0,
-        "extras": {},
-    }
-
-
-def spread_runs() -> pd.DataFrame:
+def spread_runs(run) -> pd.DataFrame:
     rows = [run("attention", "gat", s, v) for s, v in enumerate(ATTENTION)]
     rows += [run("convolution", "gcn", s, v) for s, v in enumerate(BASELINE)]
     return pd.DataFrame(rows)
@@ -49,8 +32,8 @@ def seeds_inside(spread: float, room: float) -> int:
     return n
 
 
-def test_a_difference_interval_past_100_points_is_clipped_and_flagged():
-    report = analyse(spread_runs())
+def test_a_difference_interval_past_100_points_is_clipped_and_flagged(crafted_run):
+    report = analyse(spread_runs(crafted_run))
     row = report.comparisons.iloc[0]
     d = 100 * (np.array(ATTENTION) - np.array(BASELINE))
     half = scipy_stats.t.ppf(0.975, 2) * d.std(ddof=1) / math.sqrt(3)
@@ -63,8 +46,8 @@ def test_a_difference_interval_past_100_points_is_clipped_and_flagged():
     assert f"about {row['seeds_for_range']} seeds would likely keep it inside" in report.headline
 
 
-def test_a_mean_interval_past_the_metric_range_is_clipped_and_explained():
-    report = analyse(spread_runs())
+def test_a_mean_interval_past_the_metric_range_is_clipped_and_explained(crafted_run):
+    report = analyse(spread_runs(crafted_run))
     baseline = report.contenders.set_index("variant").loc["convolution"]
     assert baseline["t_low"] == 0.0 and bool(baseline["t_clipped"])
     attention = report.contenders.set_index("variant").loc["attention"]

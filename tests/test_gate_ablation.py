@@ -10,51 +10,26 @@ import pytest
 
 from harness.cli import main
 
-# A fictional parcel-locker network: lockers are nodes, shared courier rounds are edges.
-SUITE = """
-name = "locker_points"
-seeds = [0, 1]
-metric = "accuracy"
-
-[data]
-source = "synthetic"
-nodes = 120
-classes = 3
-average_degree = 6
-edge_homophily = 0.8
-feature_dimension = 8
-feature_signal = 1.5
-graph_seed = 5
-
-[training]
-epochs = 8
-patience = 8
-
-[contenders.plain]
-model = "mlp"
-hidden = 8
-
-[contenders.convolution]
-model = "gcn"
-hidden = 8
-
-[ablation.plain]
+# the tiny courier suite of conftest, with the features-only contender's width ablated
+ABLATION = """
+[ablation.features_only]
 mode = "grid"
-[ablation.plain.axes]
+[ablation.features_only.axes]
 hidden = {levels}
 """
 
 
-def write(folder: Path, levels: str) -> Path:
+def write(folder: Path, suite_text: str, levels: str) -> Path:
     path = folder / f"suite-{len(list(folder.glob('suite-*.toml')))}.toml"
-    path.write_text(SUITE.format(levels=levels), encoding="utf-8")
+    path.write_text(suite_text + ABLATION.format(levels=levels), encoding="utf-8")
     return path
 
 
 @pytest.fixture(scope="module")
-def saved(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Path]:
+def saved(tmp_path_factory: pytest.TempPathFactory, tiny_suite_text: str) -> dict[str, Path]:
     folder = tmp_path_factory.mktemp("ablation_gate")
-    suite, store, baseline = write(folder, "[4, 16]"), folder / "store.db", folder / "base.json"
+    suite = write(folder, tiny_suite_text, "[4, 16]")
+    store, baseline = folder / "store.db", folder / "base.json"
     assert main(["baseline", str(suite), "--save", str(baseline), "--store", str(store)]) == 0
     return {"folder": folder, "suite": suite, "store": store, "baseline": baseline}
 
@@ -68,37 +43,43 @@ def gate(saved: dict[str, Path], suite: Path, tmp_path: Path) -> tuple[int, Elem
 
 def test_baseline_keeps_each_point_apart(saved):
     document = json.loads(saved["baseline"].read_text())
-    labels = ["plain[hidden=4]", "plain[hidden=16]", "convolution"]
+    labels = ["features_only[hidden=4]", "features_only[hidden=16]", "convolution", "attention"]
     assert sorted(document["contenders"]) == sorted(labels)
-    for label, hidden in (("plain[hidden=4]", 4), ("plain[hidden=16]", 16)):
+    for label, hidden in (("features_only[hidden=4]", 4), ("features_only[hidden=16]", 16)):
         entry = document["contenders"][label]
         assert entry["options"]["hidden"] == hidden and entry["point"] == {"hidden": hidden}
-        assert entry["contender"] == "plain"
+        assert entry["contender"] == "features_only"
         assert [run["seed"] for run in entry["runs"]] == [0, 1]
     keys = [run["key"] for entry in document["contenders"].values() for run in entry["runs"]]
-    assert len(set(keys)) == 6  # 3 configurations x 2 seeds, none merged
+    assert len(set(keys)) == 8  # 4 configurations x 2 seeds, none merged
 
 
 def test_gate_reads_its_baseline_back_and_compares_point_with_point(saved, tmp_path, capsys):
     status, root = gate(saved, saved["suite"], tmp_path)
     out = capsys.readouterr().out
     assert status == 0 and "gate PASS" in out
-    assert root.get("tests") == "12" and root.get("failures") == "0"  # 3 configurations x 4
-    for label in ("plain[hidden=4]", "plain[hidden=16]"):
+    assert root.get("tests") == "16" and root.get("failures") == "0"  # 4 configurations x 4
+    for label in ("features_only[hidden=4]", "features_only[hidden=16]"):
         case = next(
             c
             for c in root.iter("testcase")
-            if c.get("classname") == f"locker_points.{label}" and c.get("name") == "reproducibility"
+            if c.get("classname") == f"tiny_couriers.{label}" and c.get("name") == "reproducibility"
         )
         assert "2 runs with identical inputs gave identical metrics" in case.findtext("system-out")
 
 
-def test_a_point_missing_on_either_side_is_reported_not_merged(saved, tmp_path, capsys):
-    moved = write(saved["folder"], "[4, 32]")  # hidden=16 dropped, hidden=32 added
+def test_a_point_missing_on_either_side_is_reported_not_merged(
+    saved, tiny_suite_text, tmp_path, capsys
+):
+    moved = write(saved["folder"], tiny_suite_text, "[4, 32]")  # hidden=16 dropped, hidden=32 added
     status, root = gate(saved, moved, tmp_path)
     out = " ".join(capsys.readouterr().out.split())
     assert status == 0 and "gate WARN" in out
-    assert "plain[hidden=32]: in the suite but not in the baseline; not compared" in out
-    assert "plain[hidden=16]: in the baseline but not in the suite; not compared" in out
+    assert "features_only[hidden=32]: in the suite but not in the baseline; not compared" in out
+    assert "features_only[hidden=16]: in the baseline but not in the suite; not compared" in out
     classes = {c.get("classname") for c in root.iter("testcase") if c.get("name") == "metric"}
-    assert classes == {"locker_points.plain[hidden=4]", "locker_points.convolution"}
+    assert classes == {
+        "tiny_couriers.features_only[hidden=4]",
+        "tiny_couriers.convolution",
+        "tiny_couriers.attention",
+    }

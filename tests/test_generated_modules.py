@@ -12,31 +12,10 @@ from harness.models.generated import FOLDER, process_folder, remove_ended
 
 ROOT = Path(__file__).resolve().parents[1]
 
-SUITE = """
-name = "generated_modules"
-seeds = 1
-[data]
-source = "karate"
-[split]
-method = "per_class"
-train_per_class = 4
-validation_per_class = 4
-[training]
-epochs = 2
-patience = 2
-[contenders.attention]
-model = "gat"
-heads = 2
-hidden = 4
-[contenders.convolution]
-model = "gcn"
-hidden = 4
-"""
 
-
-def run_in_a_process(tmp_path: Path, store: str) -> None:
+def run_in_a_process(tmp_path: Path, store: str, suite_text: str) -> None:
     suite = tmp_path / "suite.toml"
-    suite.write_text(SUITE, encoding="utf-8")
+    suite.write_text(suite_text, encoding="utf-8")
     environment = {
         **os.environ,
         "PYTHONPATH": str(ROOT),
@@ -54,9 +33,11 @@ def run_in_a_process(tmp_path: Path, store: str) -> None:
     assert done.returncode == 0, done.stderr
 
 
-def test_generated_modules_stay_in_the_cache_and_ended_processes_leave_none(tmp_path):
+def test_generated_modules_stay_in_the_cache_and_ended_processes_leave_none(
+    tmp_path, tiny_suite_text
+):
     (tmp_path / "system-tmp").mkdir()
-    run_in_a_process(tmp_path, "first.db")
+    run_in_a_process(tmp_path, "first.db", tiny_suite_text)  # gat, gcn and mlp contenders
     assert list((tmp_path / "system-tmp").iterdir()) == []
     [first] = (tmp_path / "cache" / FOLDER).iterdir()
     expected = [  # PyG names each file after its module, plus a random suffix
@@ -67,7 +48,7 @@ def test_generated_modules_stay_in_the_cache_and_ended_processes_leave_none(tmp_
     generated = sorted(p.name for p in first.iterdir())
     assert len(generated) == 3
     assert all(name.startswith(prefix) for name, prefix in zip(generated, expected, strict=True))
-    run_in_a_process(tmp_path, "second.db")  # a new store: both runs train again
+    run_in_a_process(tmp_path, "second.db", tiny_suite_text)  # a new store: both runs train again
     [second] = (tmp_path / "cache" / FOLDER).iterdir()
     assert second != first and len(list(second.iterdir())) == 3
 
