@@ -17,7 +17,8 @@ from harness.execution.pool import start_workers
 from harness.models import load_builders
 from harness.planning import RunSpec
 from harness.storage import store
-from harness.training.fit import RunResult, perform
+from harness.training.fit import RunResult
+from harness.training.tasks import perform
 
 WORKER_MODULES = (__name__,)  # what a worker loads before its first run
 load_builders()  # the model layers too, so that forked workers inherit them
@@ -46,9 +47,7 @@ def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
         "metric": spec.metric,
         "val_metric": result.val_metric,
         "test_metric": result.test_metric,
-        "test_accuracy": result.test_scores["accuracy"],
-        "test_macro_f1": result.test_scores["macro_f1"],
-        "test_roc_auc": result.test_scores["roc_auc"],
+        **{f"test_{name}": result.test_scores.get(name) for name in store.TEST_METRICS},
         "epochs": result.epochs,
         "best_epoch": result.best_epoch,
         "seconds": result.seconds,

@@ -27,6 +27,7 @@ from harness.schema.ablation import point_label
 from harness.schema.base import format_validation_error
 from harness.schema.gate import BASELINE_FORMAT, BASELINE_FORMAT_VERSION, BaselineFile
 from harness.schema.suite import Suite
+from harness.schema.tasks import DEFAULT_TASK
 
 RUN_FIELDS = (
     "test_metric",
@@ -37,6 +38,8 @@ RUN_FIELDS = (
     "seconds_per_epoch",
     "peak_mb",
 )
+# link prediction metrics: recorded for runs that have them (node runs leave them out)
+LATER_RUN_FIELDS = ("test_average_precision", "test_hits_at_k")
 
 
 def cpu_model() -> str:
@@ -80,12 +83,16 @@ def environment_differences(saved: dict[str, Any], current: dict[str, Any]) -> l
 
 def suite_task(suite: Suite) -> dict[str, Any]:
     """What the figures are measured on; a baseline only compares with the same task."""
-    return {
+    task = {
         "data": suite.data.model_dump(mode="json"),
         "split": suite.split.model_dump(mode="json"),
         "setting": suite.setting,
         "metric": suite.metric,
     }
+    if suite.task != DEFAULT_TASK:  # node classification hashes stay as they were
+        task["task"] = suite.task
+        task["link"] = suite.link_options.model_dump(mode="json")
+    return task
 
 
 def suite_hash(suite: Suite) -> str:
@@ -143,6 +150,11 @@ def build_baseline(
                     "epochs": int(row["epochs"]),
                     "params": int(row["params"]),
                     **{field: _rounded(row[field]) for field in RUN_FIELDS},
+                    **{
+                        field: _rounded(row[field])
+                        for field in LATER_RUN_FIELDS
+                        if _rounded(row.get(field)) is not None
+                    },
                 }
                 for _, row in group.iterrows()
             ],

@@ -8,6 +8,7 @@ import math
 import pandas as pd
 
 from harness.report.markdown_text import escape
+from harness.storage.store import TEST_COLUMNS
 
 RECORD_FIELDS = (
     "suite",
@@ -19,9 +20,7 @@ RECORD_FIELDS = (
     "metric",
     "val_metric",
     "test_metric",
-    "test_accuracy",
-    "test_macro_f1",
-    "test_roc_auc",
+    *TEST_COLUMNS,
     "epochs",
     "best_epoch",
     "seconds",

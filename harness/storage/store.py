@@ -22,8 +22,11 @@ from harness.storage.database import Location, insert, locate, opened, prepare, 
 
 DEFAULT_STORE = Path("runs/heedful.db")
 JSON_COLUMNS = ("options", "point", "curve", "extras")
+# every test metric of every task has a column `test_NAME`; a run fills its task's, NULL elsewhere
+TEST_METRICS = ("accuracy", "macro_f1", "roc_auc", "average_precision", "hits_at_k")
+TEST_COLUMNS = tuple(f"test_{name}" for name in TEST_METRICS)
 # NaN is kept as NULL; read back, an all-NULL column would hold None instead of NaN
-NULLABLE_NUMBERS = ("val_metric", "test_metric", "test_accuracy", "test_macro_f1", "test_roc_auc")
+NULLABLE_NUMBERS = ("val_metric", "test_metric", *TEST_COLUMNS)
 
 METADATA = MetaData()
 RUNS = Table(
@@ -42,6 +45,8 @@ RUNS = Table(
     Column("test_accuracy", Double),
     Column("test_macro_f1", Double),
     Column("test_roc_auc", Double),
+    Column("test_average_precision", Double),  # link prediction; added to older stores
+    Column("test_hits_at_k", Double),
     Column("epochs", Integer, nullable=False),
     Column("best_epoch", Integer, nullable=False),
     Column("seconds", Double, nullable=False),
