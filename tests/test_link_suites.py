@@ -86,8 +86,14 @@ def test_a_link_suite_defaults_to_roc_auc_and_a_node_suite_keeps_accuracy():
 @pytest.mark.parametrize(
     ("changes", "expected"),
     [
-        ({"metric": "macro_f1"}, "s.toml: metric: given 'macro_f1'; not defined for task"),
-        ({"task": None, "metric": "hits_at_k"}, "s.toml: metric: given 'hits_at_k'; not defined"),
+        (
+            {"metric": "macro_f1"},
+            "s.toml: metric: given 'macro_f1'; allowed for task 'link_prediction'",
+        ),
+        (
+            {"task": None, "metric": "hits_at_k"},
+            "s.toml: metric: given 'hits_at_k'; allowed for task 'node_",
+        ),
         ({"task": None, "link": {"hits_k": 5}}, "s.toml: link: [link] is for task"),
         ({"homophily_map": {}}, "s.toml: homophily_map: not available for link prediction"),
         ({"setting": "inductive"}, "s.toml: setting: given 'inductive'; not available for link"),
