@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import json
 import random
+from pathlib import Path
 
 import pytest
 import torch
@@ -210,3 +211,31 @@ def test_tuning_with_pruning_and_an_ablation_grid_run_on_link_suites(write_suite
     assert main(["run", str(grid_path), "--store", str(runs_db), "--quiet"]) == 0
     points = store.load_runs(runs_db, ["grid_stations"])["point"]
     assert sorted(point.get("heads", 0) for point in points) == [0, 0, 1, 1, 2, 2]
+
+
+def test_a_label_column_in_a_link_suite_is_a_warning_not_an_error(write_suite, capsys):
+    examples = Path(__file__).resolve().parents[1] / "examples" / "courier"
+    text = f"""name = "courier_links"
+seeds = 1
+task = "link_prediction"
+[data]
+source = "tables"
+nodes = "{examples / "sites.csv"}"
+edges = "{examples / "routes.csv"}"
+id_column = "site_id"
+label_column = "service"
+feature_prefix = "site_"
+source_column = "from_site"
+target_column = "to_site"
+[split]
+train = 0.8
+validation = 0.1
+test = 0.1
+[contenders.convolution]
+model = "gcn"
+"""
+    assert main(["check", str(write_suite(text, "courier_links.toml"))]) == 0
+    warnings = [line for line in capsys.readouterr().out.splitlines() if "warning" in line]
+    assert (
+        len(warnings) == 1 and "data.label_column: warning: link prediction uses no" in warnings[0]
+    )

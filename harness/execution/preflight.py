@@ -79,5 +79,15 @@ def preflight(suite: Suite, source: str) -> DataFacts:
         data.num_features,
         measured.edge,
         measured.node,
-        tuple(cleaning_notes(data, f"{source}: data")),
+        tuple(cleaning_notes(data, f"{source}: data")) + unused_label_notes(suite, source),
     )
+
+
+def unused_label_notes(suite: Suite, source: str) -> tuple[str, ...]:
+    """A warning when a link suite names a label column: nothing in it uses labels."""
+    if suite.task == "link_prediction" and "label_column" in suite.data.model_fields_set:
+        return (
+            f"{source}: data.label_column: warning: link prediction uses no node labels; "
+            "the column only feeds the data profile",
+        )
+    return ()
