@@ -31,12 +31,19 @@ RECORD_FIELDS = (
     "extras",  # attention diagnostics, arrival figures, tuned settings, ...
 )
 
+# link prediction metrics appear only in the records of runs that have them
+LINK_ONLY = ("test_average_precision", "test_hits_at_k")
+
 
 def records(runs: pd.DataFrame) -> list[dict]:
     """One plain dict per run with the documented result fields."""
     out = []
     for row in runs.to_dict(orient="records"):
-        record = {field: _plain(row[field]) for field in RECORD_FIELDS}
+        record = {
+            field: _plain(row[field])
+            for field in RECORD_FIELDS
+            if field not in LINK_ONLY or _plain(row[field]) is not None
+        }
         record["val"] = record.pop("val_metric")
         record["test"] = record.pop("test_metric")
         out.append(record)
