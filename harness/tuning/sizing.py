@@ -38,10 +38,12 @@ class Sized:
 
 
 def dimensions(spec: RunSpec) -> tuple[int, int, int]:
-    """Input width, classes and embedding rows of the graph the contender starts from."""
+    """Input width, output width (classes, or a link suite's embedding width) and embedding
+    rows of the graph the contender starts from."""
     data = load_graph(spec.data)
     started = start_features(data, spec.options, spec.seed)
-    return started.width, int(data.y.max()) + 1, started.embedding_rows
+    outputs = spec.link.embedding_width if spec.link is not None else int(data.y.max()) + 1
+    return started.width, outputs, started.embedding_rows
 
 
 def parameter_count(options: BaseModel, in_dim: int, out_dim: int, embedding_rows: int = 0) -> int:
