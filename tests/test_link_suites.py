@@ -101,6 +101,10 @@ def test_a_link_suite_defaults_to_roc_auc_and_a_node_suite_keeps_accuracy():
         ({"split": {"method": "per_class"}}, "s.toml: split: method 'per_class' is for node"),
         ({"split": {"train": 0.5, "validation": 0.1, "test": 0.1}}, "s.toml: split: train +"),
         ({"link": {"decoder": "cosine"}}, "s.toml: link.decoder: given 'cosine'"),
+        (
+            {"training": {"batching": "sampled", "fanout": "all"}},
+            's.toml: training.batching: given "sampled"; sampled batches are not extended',
+        ),
     ],
 )
 def test_bad_link_suites_are_one_line_errors_naming_the_key(changes, expected):
