@@ -24,7 +24,7 @@ from harness.data.edge_splits import EdgeSplit, edge_split
 from harness.data.feature_starts import StartedGraph, contender_graph
 from harness.models.decoders import LinkModel, build_link_model
 from harness.planning import RunSpec
-from harness.schema.contenders import ATTENTION_KINDS
+from harness.schema.model_kinds import attends
 from harness.schema.training import Training
 from harness.training.diagnostics import attention_diagnostics
 from harness.training.fit import (
@@ -134,7 +134,7 @@ def perform_links(
     result = fit_links(
         model, seen.data, tested.data, split, spec.training, spec.metric, spec.link, on_epoch
     )
-    if spec.model in ATTENTION_KINDS:
+    if attends(spec.model):
         graph = tested.data
         unlabelled = torch.full((graph.num_nodes,), -1, dtype=torch.long)
         diagnostics = attention_diagnostics(model.encoder, graph.x, graph.edge_index, unlabelled)
