@@ -153,7 +153,10 @@ def show_runs(outcome: ShowOutcome, form: str) -> None:
             print_verdicts(report, console)
     else:
         writer = {"json": records.as_json, "csv": records.as_csv, "md": records.as_markdown}
-        sys.stdout.write(writer[form](outcome.runs).rstrip("\n") + "\n")
+        text = writer[form](outcome.runs)
+        if outcome.predictions is not None:
+            text = records.as_json(outcome.runs, outcome.predictions)
+        sys.stdout.write(text.rstrip("\n") + "\n")
 
 
 def show_baseline(outcome: BaselineOutcome) -> None:

@@ -121,18 +121,26 @@ def label(row: pd.Series) -> str:
     return f"{row['variant']} ({row['model']}{extra})"
 
 
+def best_pair(contenders: pd.DataFrame) -> tuple[pd.Series, pd.Series] | None:
+    """The rows (stats.describe of one suite) of the best attention variant and the best
+    baseline by mean test metric: the headline comparison; None when a side is missing."""
+    attention = contenders[contenders["side"] == "attention"]
+    baselines = contenders[contenders["side"] == "baseline"]
+    if attention.empty or baselines.empty:
+        return None
+    return attention.loc[attention["mean"].idxmax()], baselines.loc[baselines["mean"].idxmax()]
+
+
 def headline(contenders: pd.DataFrame, judged: pd.DataFrame, settings: Analysis) -> str:
     """One sentence: the best attention variant against the best baseline of a suite.
 
     `contenders` is stats.describe of one suite and `judged` its judge_all comparisons.
     """
-    attention = contenders[contenders["side"] == "attention"]
-    baselines = contenders[contenders["side"] == "baseline"]
-    if attention.empty or baselines.empty:
-        missing = "attention contender" if attention.empty else "baseline"
+    best = best_pair(contenders)
+    if best is None:
+        missing = "attention contender" if (contenders["side"] != "attention").all() else "baseline"
         return f"No comparison: the suite has no {missing}."
-    best_a = attention.loc[attention["mean"].idxmax()]
-    best_b = baselines.loc[baselines["mean"].idxmax()]
+    best_a, best_b = best
     row = judged[
         (judged["attention"] == best_a["variant"]) & (judged["baseline"] == best_b["variant"])
     ].iloc[0]

@@ -17,6 +17,7 @@ from harness.execution.pool import start_workers
 from harness.models import load_builders
 from harness.planning import RunSpec
 from harness.storage import store
+from harness.storage.predictions import encode, to_text
 from harness.training.fit import RunResult
 from harness.training.tasks import perform
 
@@ -35,8 +36,8 @@ class Outcome:
 
 
 def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
-    """The store row of a finished run."""
-    return {
+    """The store row of a finished run; its test predictions travel as text, when made."""
+    record = {
         "suite": spec.suite,
         "contender": spec.contender,
         "key": spec.key,
@@ -57,6 +58,9 @@ def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
         "curve": result.curve,
         "extras": result.extras,
     }
+    if result.predictions is not None:
+        record["predictions"] = to_text(encode(result.predictions))
+    return record
 
 
 def run_and_store(spec: RunSpec, store_path: store.Store) -> str:

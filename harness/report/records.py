@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import json
 import math
+from collections.abc import Mapping
 
 import pandas as pd
 
 from harness.report.markdown_text import escape
 from harness.storage.store import TEST_COLUMNS
+from harness.training.fit import NodePredictions
 
 RECORD_FIELDS = (
     "suite",
@@ -55,9 +57,15 @@ def _plain(value: object) -> object:
     return None if isinstance(value, float) and math.isnan(value) else value
 
 
-def as_json(runs: pd.DataFrame) -> str:
-    """A JSON array with one object per run."""
-    return json.dumps(records(runs), indent=1, default=float)
+def as_json(runs: pd.DataFrame, predictions: Mapping[str, NodePredictions] | None = None) -> str:
+    """A JSON array with one object per run; with `predictions` (by run key), each record
+    also holds its test nodes and their class probabilities (null when none are stored)."""
+    out = records(runs)
+    if predictions is not None:
+        for record in out:
+            stored = predictions.get(record["key"])
+            record["predictions"] = None if stored is None else stored.as_dict()
+    return json.dumps(out, indent=1, default=float)
 
 
 def flat(runs: pd.DataFrame) -> pd.DataFrame:

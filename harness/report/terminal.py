@@ -13,13 +13,8 @@ from rich.table import Table
 from harness.analysis.axes import AblationView
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, metric_label
-from harness.report.tables import (
-    TextTable,
-    all_tables,
-    arrival_table,
-    comparison_table,
-    reasons,
-)
+from harness.report.breakdown import TERMINAL_ROWS, headline_table, report_tables
+from harness.report.tables import TextTable, arrival_table, comparison_table, reasons
 
 
 def summary_table(summary: pd.DataFrame, title: str) -> Table:
@@ -190,8 +185,9 @@ def text_table(part: TextTable) -> Table:
     )
     for header, right in zip(part.header, part.right, strict=True):
         table.add_column(escape(header), justify="right" if right else "left")
+    verdicts = part.name in ("comparisons", "breakdown", "breakdown_headline")
     for row in part.rows:
-        style = VERDICT_STYLES.get(row[-1]) if part.name == "comparisons" else None
+        style = VERDICT_STYLES.get(row[-1]) if verdicts else None
         table.add_row(*(escape(cell) for cell in row), style=style)
     return table
 
@@ -206,6 +202,10 @@ def print_verdicts(report: SuiteReport, console: Console | None = None) -> None:
     for line in reasons(report):
         console.print(f"  {escape(line)}", highlight=False)
     console.print(f"[bold]Verdict:[/bold] {escape(report.headline)}", highlight=False)
+    nodes = headline_table(report, TERMINAL_ROWS, summary=False)
+    if nodes is not None:
+        console.print(text_table(nodes))
+        console.print(escape(report.breakdown.summary), highlight=False)
 
 
 def print_arrival(report: SuiteReport, console: Console | None = None) -> None:
@@ -218,7 +218,7 @@ def print_arrival(report: SuiteReport, console: Console | None = None) -> None:
 def print_report(report: SuiteReport, console: Console | None = None) -> None:
     """Every table of the report, then the verdicts."""
     console = console or Console()
-    for part in all_tables(report):
-        if part.name != "comparisons":
+    for part in report_tables(report):
+        if part.name not in ("comparisons", "breakdown_headline"):
             console.print(text_table(part))
     print_verdicts(report, console)

@@ -8,6 +8,7 @@ submitters race on the same suite.
 
 from __future__ import annotations
 
+import base64
 import json
 import time
 from collections.abc import Iterable
@@ -15,7 +16,7 @@ from pathlib import Path
 from typing import Any
 
 import pandas as pd
-from sqlalchemy import BigInteger, Column, Double, Integer, MetaData, Table, Text
+from sqlalchemy import BigInteger, Column, Double, Integer, LargeBinary, MetaData, Table, Text
 
 import harness
 from harness.storage.database import Location, insert, locate, opened, prepare, read_rows
@@ -58,6 +59,14 @@ RUNS = Table(
     Column("version", Text, nullable=False),
     Column("finished_at", Double, nullable=False),
 )
+# test-node probabilities of a run (storage/predictions.py); a key fixes the result, so runs
+# of one key in several suites share one row, and `show` reads them only when asked
+PREDICTIONS = Table(
+    "predictions",
+    METADATA,
+    Column("key", Text, primary_key=True),
+    Column("encoded", LargeBinary, nullable=False),
+)
 
 Store = str | Path | Location
 
@@ -73,8 +82,10 @@ def finished_keys(store: Store, suite: str) -> set[tuple[str, str]]:
 
 
 def save_run(store: Store, record: dict[str, Any]) -> bool:
-    """Insert one finished run and commit; False when it was stored already."""
+    """Insert one finished run (and its predictions, given as text) in one transaction;
+    False when it was stored already."""
     row = dict(record)
+    predictions = row.pop("predictions", None)
     for column in JSON_COLUMNS:
         row[column] = json.dumps(row.get(column, {} if column != "curve" else []), sort_keys=True)
     for column in NULLABLE_NUMBERS:
@@ -84,7 +95,12 @@ def save_run(store: Store, record: dict[str, Any]) -> bool:
     row.setdefault("finished_at", time.time())
     with opened(store, write=True) as connection:
         prepare(connection, RUNS)
-        return insert(connection, RUNS, row, replace=False)
+        stored = insert(connection, RUNS, row, replace=False)
+        if predictions is not None:
+            prepare(connection, PREDICTIONS)
+            encoded = {"key": row["key"], "encoded": base64.b64decode(predictions)}
+            insert(connection, PREDICTIONS, encoded, replace=False)
+        return stored
 
 
 def load_runs(store: Store, suites: Iterable[str] | None = None) -> pd.DataFrame:
@@ -98,3 +114,15 @@ def load_runs(store: Store, suites: Iterable[str] | None = None) -> pd.DataFrame
     for column in NULLABLE_NUMBERS:
         frame[column] = frame[column].astype(float)
     return frame
+
+
+def load_encoded_predictions(store: Store, keys: Iterable[str]) -> dict[str, bytes]:
+    """Stored prediction blobs of these run keys (keys without any are left out)."""
+    wanted = sorted(set(keys))
+    found: dict[str, bytes] = {}
+    with opened(store, write=False) as connection:
+        for start in range(0, len(wanted), 500):  # well below any bound-parameter limit
+            chunk = {"key": wanted[start : start + 500]}
+            rows = read_rows(connection, PREDICTIONS, chunk)
+            found.update((row["key"], bytes(row["encoded"])) for row in rows)
+    return found

@@ -8,6 +8,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from typing import Any
 
+import numpy as np
 import torch
 from torch import nn
 from torch_geometric.data import Data
@@ -31,6 +32,21 @@ ADAM_STATES = 2  # first and second moment per parameter
 
 
 @dataclass(frozen=True)
+class NodePredictions:
+    """Class probabilities (one row per node) of some nodes of a graph of `graph_nodes`."""
+
+    nodes: np.ndarray
+    probabilities: np.ndarray
+    graph_nodes: int
+
+    def as_dict(self) -> dict[str, list]:
+        return {
+            "nodes": self.nodes.tolist(),
+            "probabilities": self.probabilities.astype(float).round(4).tolist(),
+        }
+
+
+@dataclass(frozen=True)
 class RunResult:
     """What one run measured."""
 
@@ -45,6 +61,7 @@ class RunResult:
     peak_mb: float
     curve: list[float] = field(default_factory=list)
     extras: dict[str, Any] = field(default_factory=dict)
+    predictions: NodePredictions | None = None  # of the test nodes, for the per-node breakdown
 
 
 class ActivationMeter:
@@ -155,6 +172,10 @@ def fit(
         name: score(name, test_logits, test_y, classes) if len(test_y) else float("nan")
         for name in METRICS
     }  # no test nodes while tuning
+    predictions = None
+    if len(test_y):
+        probabilities = torch.softmax(test_logits, dim=1).numpy()
+        predictions = NodePredictions(split.test.numpy(), probabilities, data.num_nodes)
     params = sum(p.numel() for p in model.parameters())
     parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
     peak = parameter_bytes * (2 + ADAM_STATES) + inputs + meter.bytes
@@ -170,6 +191,7 @@ def fit(
         peak_mb=peak / MEBIBYTE,
         curve=curve,
         extras={"batching": feed.extras()} if training.sampled else {},
+        predictions=predictions,
     )
 
 
