@@ -19,6 +19,17 @@ def _grouping(name: str) -> str:
     return name.replace("_", " ")
 
 
+def _where(row: object) -> list[str]:
+    """Grouping, group and test nodes per seed of a breakdown row."""
+    return [_grouping(row.grouping), row.group, f"{row.nodes:.0f}"]
+
+
+def _difference(row: object) -> list[str]:
+    """Difference, interval, Holm p and verdict of a breakdown row."""
+    interval_text = signed_interval(row.low, row.high)
+    return [signed(row.difference, 2), interval_text, p_text(row.p_t_holm), row.verdict]
+
+
 def headline_table(
     report: SuiteReport, rows: int | None = None, summary: bool = True
 ) -> TextTable | None:
@@ -29,19 +40,12 @@ def headline_table(
         return None
     chosen = nodes.headline_rows()
     means = nodes.groups.set_index(["grouping", "group", "variant"])["mean"]
+    sides = (nodes.attention, nodes.baseline)
     level = f"{report.settings.confidence:.0%}"
     lines = [
-        [
-            _grouping(r.grouping),
-            r.group,
-            f"{r.nodes:.0f}",
-            fixed(means.get((r.grouping, r.group, nodes.attention), float("nan"))),
-            fixed(means.get((r.grouping, r.group, nodes.baseline), float("nan"))),
-            signed(r.difference, 2),
-            signed_interval(r.low, r.high),
-            p_text(r.p_t_holm),
-            r.verdict,
-        ]
+        _where(r)
+        + [fixed(means.get((r.grouping, r.group, side), float("nan"))) for side in sides]
+        + _difference(r)
         for r in chosen.itertuples()
     ]
     shown = lines if rows is None else lines[:rows]
@@ -63,17 +67,7 @@ def comparison_rows_table(report: SuiteReport) -> TextTable:
     """Every comparison in every node group."""
     level = f"{report.settings.confidence:.0%}"
     lines = [
-        [
-            r.attention,
-            r.baseline,
-            _grouping(r.grouping),
-            r.group,
-            f"{r.nodes:.0f}",
-            signed(r.difference, 2),
-            signed_interval(r.low, r.high),
-            p_text(r.p_t_holm),
-            r.verdict,
-        ]
+        [r.attention, r.baseline, *_where(r), *_difference(r)]
         for r in report.breakdown.comparisons.itertuples()
     ]
     header = ["attention", "baseline", "grouping", "group", "nodes", "difference (points)"]
