@@ -7,6 +7,7 @@
     api.ablation(runs).axes      # axes ranked by effect
     api.cost(runs)               # metric against costs, Pareto marks
     report = api.analyse(runs)   # everything at once, one suite
+    api.breakdown("runs/heedful.db", "suites/demo.toml")  # per node group and comparison
 
 Every function takes an optional `settings` (the suite's `[analysis]` table) and otherwise
 uses the defaults.
@@ -26,6 +27,7 @@ from harness.analysis.suite_report import (
     settings_of,
     stored_homophily_map,
 )
+from harness.analysis.suite_report import node_breakdown as breakdown
 
 __all__ = [
     "SuiteReport",
@@ -40,4 +42,5 @@ __all__ = [
     "analyse",
     "analyse_store",
     "analyse_each",
+    "breakdown",
 ]

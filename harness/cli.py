@@ -56,7 +56,9 @@ def command_describe(args: argparse.Namespace) -> int:
 def command_show(args: argparse.Namespace) -> int:
     from harness.commands.inspect import show
 
-    outcome = show(args.store, args.suite, analysed=args.format == "table")
+    if args.predictions and args.format != "json":
+        raise InputError(f"--predictions: given with --format {args.format}; allowed: json")
+    outcome = show(args.store, args.suite, args.format == "table", args.predictions)
     screen.show_runs(outcome, args.format)
     return outcome.status
 
@@ -222,6 +224,11 @@ def parser() -> argparse.ArgumentParser:
     show = commands.add_parser("show", help="print stored runs")
     show.add_argument("suite", nargs="?", help="suite file or suite name (default: all)")
     show.add_argument("--format", choices=("table", "json", "csv", "md"), default="table")
+    show.add_argument(
+        "--predictions",
+        action="store_true",
+        help="with --format json: add each run's test-node ids and class probabilities",
+    )
     with_store(show)
     show.set_defaults(handler=command_show)
 

@@ -5,7 +5,13 @@ from __future__ import annotations
 
 import math
 
-METRIC_LABELS = {"accuracy": "accuracy", "macro_f1": "macro-F1", "roc_auc": "ROC-AUC"}
+METRIC_LABELS = {
+    "accuracy": "accuracy",
+    "macro_f1": "macro-F1",
+    "roc_auc": "ROC-AUC",
+    "average_precision": "average precision",
+    "hits_at_k": "Hits@K",
+}
 BLOCKS = "▁▂▃▄▅▆▇█"
 
 

@@ -82,7 +82,12 @@ def show_check(outcome: CheckOutcome) -> None:
 
 
 def show_run(outcome: RunOutcome) -> None:
-    from harness.report.terminal import print_ablation, print_summary, print_verdicts
+    from harness.report.terminal import (
+        print_ablation,
+        print_arrival,
+        print_summary,
+        print_verdicts,
+    )
 
     if outcome.executed.interrupted:
         interrupted(outcome.executed, outcome.store)
@@ -94,6 +99,7 @@ def show_run(outcome: RunOutcome) -> None:
     )
     print_summary(outcome.summary, console)
     print_ablation(outcome.ablation, console)
+    print_arrival(outcome.report, console)
     print_verdicts(outcome.report, console)
 
 
@@ -132,16 +138,25 @@ def show_description(outcome: DescribeOutcome, form: str) -> None:
 
 def show_runs(outcome: ShowOutcome, form: str) -> None:
     from harness.report import records
-    from harness.report.terminal import print_ablation, print_summary, print_verdicts
+    from harness.report.terminal import (
+        print_ablation,
+        print_arrival,
+        print_summary,
+        print_verdicts,
+    )
 
     if form == "table":
         print_summary(outcome.summary, console)
         print_ablation(outcome.ablation, console)
         for report in outcome.reports:
+            print_arrival(report, console)
             print_verdicts(report, console)
     else:
         writer = {"json": records.as_json, "csv": records.as_csv, "md": records.as_markdown}
-        sys.stdout.write(writer[form](outcome.runs).rstrip("\n") + "\n")
+        text = writer[form](outcome.runs)
+        if outcome.predictions is not None:
+            text = records.as_json(outcome.runs, outcome.predictions)
+        sys.stdout.write(text.rstrip("\n") + "\n")
 
 
 def show_baseline(outcome: BaselineOutcome) -> None:

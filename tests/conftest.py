@@ -154,3 +154,28 @@ def any_store(request: pytest.FixtureRequest, tmp_path: Path) -> str | Path:
     if request.param == "sqlite":
         return tmp_path / "store" / "runs.db"
     return request.getfixturevalue("postgres_store")
+
+
+def stored_run(contender: str, model: str, seed: int, test_metric: float, **fields) -> dict:
+    """One run as the store gives it back (the fields analyses read), with crafted figures."""
+    return {
+        "suite": "crafted",
+        "contender": contender,
+        "model": model,
+        "options": {"heads": 2} if model in ("gat", "gatv2") else {},
+        "point": {},
+        "seed": seed,
+        "metric": "accuracy",
+        "test_metric": test_metric,
+        "seconds_per_epoch": 0.01,
+        "params": 100,
+        "peak_mb": 1.0,
+        "extras": {},
+        **fields,
+    }
+
+
+@pytest.fixture(scope="session")
+def crafted_run() -> Callable[..., dict]:
+    """crafted_run(contender, model, seed, test_metric, **fields): see stored_run."""
+    return stored_run

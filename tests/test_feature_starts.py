@@ -4,14 +4,20 @@ from __future__ import annotations
 
 import math
 from pathlib import Path
+from typing import get_args
 
 import pytest
 import torch
 from torch_geometric.data import Data
 
-from harness.data.feature_starts import check_feature_start, contender_graph, start_features
+from harness.data.feature_starts import (
+    STARTS,
+    check_feature_start,
+    contender_graph,
+    start_features,
+)
 from harness.errors import InputError
-from harness.schema.contenders import AttentionOptions, ConvolutionOptions
+from harness.schema.contenders import AttentionOptions, ConvolutionOptions, FeatureStart
 
 
 def star_graph() -> Data:
@@ -103,3 +109,24 @@ def test_contender_graph_swaps_in_hop_edges(tmp_path: Path) -> None:
     assert seen.data.x.size(1) == seen.width == 33
     near = contender_graph(data, AttentionOptions(model="gat"), 0, str(tmp_path))
     assert near.data is data
+
+
+def test_the_start_registry_covers_the_schema() -> None:
+    assert set(STARTS) == set(get_args(FeatureStart))
+
+
+@pytest.mark.parametrize("start", sorted(STARTS))
+def test_every_start_keeps_its_contract(start: str) -> None:
+    """One row per node; floats of the width it reports (node ids for an embedding table);
+    the same seed gives the same features, and other fields of the graph are kept."""
+    graph = star_graph()
+    chosen = options(start, start_width=3, degree_cap=4)
+    first, again = start_features(graph, chosen, 7), start_features(graph, chosen, 7)
+    x = first.data.x
+    assert x.size(0) == graph.num_nodes and torch.equal(x, again.data.x)
+    assert torch.equal(first.data.edge_index, graph.edge_index)
+    assert torch.equal(first.data.y, graph.y)
+    if first.embedding_rows:
+        assert x.dtype == torch.int64 and first.embedding_rows == graph.num_nodes
+    else:
+        assert x.is_floating_point() and x.dim() == 2 and x.size(1) == first.width

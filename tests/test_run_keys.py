@@ -36,6 +36,7 @@ SUITE_KEY_DIGESTS = {
     "ablation": ("5553af01757b4ce5", 66),
     "courier_sites": ("39e9166521e3cbaa", 12),
     "karate_club": ("b6586e000ea6e320", 15),
+    "links": ("45df8a732fd0d725", 25),  # added with link prediction suites
     "nightly": ("9f9a46dac667e410", 15),
     "tuned": ("51a7f3d236631249", 20),
 }

@@ -6,7 +6,7 @@ import pytest
 import torch
 from torch_geometric.data import Data
 
-from harness.data.splits import make_split
+from harness.data.splits import SPLITTERS, make_split
 from harness.errors import InputError
 from harness.planning import parse_suite
 from harness.schema.data import ColumnSplit, FractionSplit, PerClassSplit
@@ -104,3 +104,31 @@ def test_column_split_class_without_training_node() -> None:
     data.split_origin = "depots.csv: column 'split'"
     with pytest.raises(InputError, match=r"depots.csv: column 'split': class 'route_1' has no tr"):
         make_split(data, ColumnSplit(method="column"), 0)
+
+
+SECTIONS = {
+    "fractions": FractionSplit(),
+    "per_class": PerClassSplit(method="per_class", train_per_class=2, validation_per_class=2),
+    "column": ColumnSplit(method="column"),
+}
+
+
+def test_the_split_registry_has_a_case_for_every_method() -> None:
+    assert set(SECTIONS) == set(SPLITTERS)
+
+
+@pytest.mark.parametrize("method", sorted(SPLITTERS))
+def test_every_split_method_keeps_its_contract(method: str) -> None:
+    """Sorted, disjoint, non-empty parts of labelled nodes only; one seed, one split."""
+    data = labelled_graph([8, 8])
+    data.split_part = torch.tensor([0, 0, 1, 2] * 4 + [0, 0])  # used by the column method
+    first, again = (make_split(data, SECTIONS[method], 3) for _ in range(2))
+    sets = parts(first)
+    assert all(sets) and not (sets[0] & sets[1] or sets[0] & sets[2] or sets[1] & sets[2])
+    assert all(int(data.y[i]) >= 0 for part in sets for i in part)  # never an unlabelled node
+    for chosen, repeated in zip(
+        (first.train, first.validation, first.test),
+        (again.train, again.validation, again.test),
+        strict=True,
+    ):
+        assert torch.equal(chosen, repeated) and torch.equal(chosen, chosen.sort().values)

@@ -110,7 +110,7 @@ MALFORMED = [
         "unknown_metric",
         'metric = "accuracy"',
         'metric = "f1"',
-        ["metric: given 'f1'; Input should be 'accuracy', 'macro_f1' or 'roc_auc'"],
+        ["metric: given 'f1'; allowed for task 'node_classification': accuracy, macro_f1, roc_auc"],
     ),
     (
         "split_over_one",

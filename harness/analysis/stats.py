@@ -14,11 +14,13 @@ import numpy as np
 import pandas as pd
 from scipy import stats as scipy_stats
 
+from harness.analysis.bounds import within_range
 from harness.schema.ablation import point_label
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 from harness.schema.model_kinds import attends
 
 POINTS = 100.0  # one metric point is 0.01 of a metric on [0, 1]
+METRIC_RANGE = (0.0, 1.0)  # accuracy, macro-F1 and ROC-AUC
 BOOTSTRAP_SEED = 20_240  # fixed, so a report is reproducible
 
 
@@ -103,7 +105,14 @@ def describe(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.Da
         values = group["test_metric"].dropna().to_numpy(dtype=float)  # NaN: metric undefined
         if len(values) == 0:
             values = np.array([np.nan])
-        t_low, t_high = t_interval(values, settings.confidence)
+        spread = float(values.std(ddof=1)) if len(values) > 1 else float("nan")
+        bounded = within_range(
+            float(values.mean()),
+            spread,
+            t_interval(values, settings.confidence),
+            METRIC_RANGE,
+            settings.confidence,
+        )
         boot_low, boot_high = bootstrap_interval(
             values, settings.confidence, settings.bootstrap_resamples
         )
@@ -120,12 +129,14 @@ def describe(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.Da
                 "metric": first["metric"],
                 "seeds": int(np.isfinite(values).sum()),
                 "mean": float(values.mean()),
-                "std": float(values.std(ddof=1)) if len(values) > 1 else float("nan"),
+                "std": spread,
                 "median": float(np.median(values)),
                 "min": float(values.min()),
                 "max": float(values.max()),
-                "t_low": t_low,
-                "t_high": t_high,
+                "t_low": bounded.low,
+                "t_high": bounded.high,
+                "t_clipped": bounded.clipped,
+                "seeds_for_range": bounded.seeds_for_range,
                 "bootstrap_low": boot_low,
                 "bootstrap_high": boot_high,
                 "seconds_per_epoch": float(group["seconds_per_epoch"].mean()),
@@ -151,7 +162,15 @@ def paired_test(differences: np.ndarray, settings: Analysis = DEFAULT_ANALYSIS) 
         "mean_difference": float(d.mean()) if n else float("nan"),
         "std_difference": float(d.std(ddof=1)) if n > 1 else float("nan"),
     }
-    out["t_low"], out["t_high"] = t_interval(d, settings.confidence)
+    bounded = within_range(
+        out["mean_difference"],
+        out["std_difference"],
+        t_interval(d, settings.confidence),
+        (-POINTS, POINTS),
+        settings.confidence,
+    )
+    out.update(t_low=bounded.low, t_high=bounded.high, t_clipped=bounded.clipped)
+    out["seeds_for_range"] = bounded.seeds_for_range
     out["bootstrap_low"], out["bootstrap_high"] = bootstrap_interval(
         d, settings.confidence, settings.bootstrap_resamples
     )
@@ -213,7 +232,10 @@ def summarise(runs: pd.DataFrame, confidence: float = 0.95) -> pd.DataFrame:
     rows = []
     for (suite, contender), group in runs.groupby(["suite", "contender"], sort=False):
         values = group["test_metric"].to_numpy(dtype=float)
-        low, high = t_interval(values, confidence)
+        spread = float(values.std(ddof=1)) if len(values) > 1 else float("nan")
+        bounded = within_range(
+            float(values.mean()), spread, t_interval(values, confidence), METRIC_RANGE, confidence
+        )
         rows.append(
             {
                 "suite": suite,
@@ -222,9 +244,10 @@ def summarise(runs: pd.DataFrame, confidence: float = 0.95) -> pd.DataFrame:
                 "metric": group["metric"].iloc[0],
                 "seeds": len(values),
                 "mean": float(values.mean()),
-                "std": float(values.std(ddof=1)) if len(values) > 1 else float("nan"),
-                "ci_low": low,
-                "ci_high": high,
+                "std": spread,
+                "ci_low": bounded.low,
+                "ci_high": bounded.high,
+                "ci_clipped": bounded.clipped,
                 "confidence": confidence,
                 "seconds_per_epoch": float(group["seconds_per_epoch"].mean()),
                 "params": int(group["params"].iloc[0]),

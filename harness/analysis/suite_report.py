@@ -8,16 +8,22 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 import pandas as pd
+from torch_geometric.data import Data
 
 from harness.analysis.ablation_effects import AblationEffects, ablation_effects
+from harness.analysis.arrival import arrival_summary
+from harness.analysis.breakdown import Breakdown, breakdown
 from harness.analysis.cost import cost_tradeoff
 from harness.analysis.stats import describe, paired_comparisons, with_variants
-from harness.analysis.verdict import headline, judge_all
+from harness.analysis.verdict import best_pair, headline, judge_all
+from harness.data import load_graph
 from harness.errors import InputError
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 from harness.schema.suite import Suite
 from harness.storage import store
+from harness.storage.predictions import load_predictions
 from harness.storage.selection import spec_runs
+from harness.training.fit import NodePredictions
 
 if TYPE_CHECKING:
     from harness.analysis.homophily_map import HomophilyMapSummary
@@ -38,7 +44,9 @@ class SuiteReport:
     cost: pd.DataFrame
     attention: pd.DataFrame  # harness.analysis.axes.attention_by_variant; empty without diagnostics
     homophily: pd.DataFrame  # graph homophily of the stored dataset profile; may be empty
+    arrival: pd.DataFrame  # analysis.arrival.arrival_summary; empty unless runs are inductive
     homophily_map: HomophilyMapSummary | None = None  # stored homophily-map runs, if any
+    breakdown: Breakdown | None = None  # per node group; needs stored predictions and the data
 
 
 def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFrame:
@@ -119,9 +127,12 @@ def analyse(
     settings: Analysis = DEFAULT_ANALYSIS,
     homophily: pd.DataFrame | None = None,
     homophily_map: HomophilyMapSummary | None = None,
+    predictions: dict[str, NodePredictions] | None = None,
+    data: Data | None = None,
 ) -> SuiteReport:
     """Every analysis of the runs of one suite; the graph's homophily measures and homophily
-    map come from the store (graph_homophily, stored_homophily_map) when known."""
+    map come from the store (graph_homophily, stored_homophily_map) when known, and the
+    per-node breakdown needs the runs' stored predictions and the suite's input graph."""
     from harness.analysis.axes import attention_by_variant
 
     names = runs["suite"].unique()
@@ -131,6 +142,11 @@ def analyse(
         )
     table = describe(runs, settings)
     judged = judge_all(paired_comparisons(runs, settings), settings)
+    nodes = None
+    if predictions and data is not None:
+        best = best_pair(table)
+        pair = None if best is None else (best[0]["variant"], best[1]["variant"])
+        nodes = breakdown(with_variants(runs), predictions, data, settings, pair)
     return SuiteReport(
         suite=str(names[0]),
         metric=str(runs["metric"].iloc[0]),
@@ -143,25 +159,50 @@ def analyse(
         cost=cost_tradeoff(table),
         attention=attention_by_variant(runs),
         homophily=homophily if homophily is not None else pd.DataFrame(columns=["measure"]),
+        arrival=arrival_summary(runs, settings.confidence),
         homophily_map=homophily_map,
+        breakdown=nodes,
     )
 
 
 def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
     """Load a suite's stored runs and analyse them with the suite's settings.
 
-    Given a suite file, its homophily map is included when its runs are stored.
+    Given a suite file, its homophily map and per-node breakdown are included when their runs
+    and predictions are stored.
     """
     loaded = runs(store_path, suite)
     if loaded.empty:
         raise InputError(f"{store_path}: no stored runs for suite '{suite}'; run it first")
     name = str(loaded["suite"].iloc[0])
-    mapped = None
+    mapped, predictions, data = None, None, None
     if Path(suite).is_file():
         from harness.planning import load_suite
 
-        mapped = stored_homophily_map(store_path, load_suite(suite))
-    return analyse(loaded, settings_of(suite), graph_homophily(store_path, name), mapped)
+        source = load_suite(suite)
+        mapped = stored_homophily_map(store_path, source)
+        predictions = load_predictions(store_path, loaded["key"])
+        data = load_graph(source.data) if predictions else None
+    homophily = graph_homophily(store_path, name)
+    return analyse(loaded, settings_of(suite), homophily, mapped, predictions, data)
+
+
+def analyse_suite_runs(store_path: str | Path, runs: pd.DataFrame, suite: Suite) -> SuiteReport:
+    """analyse() of a suite's runs, with the per-node breakdown when predictions are stored."""
+    predictions = load_predictions(store_path, runs["key"])
+    data = load_graph(suite.data) if predictions else None
+    return analyse(runs, suite.analysis, predictions=predictions, data=data)
+
+
+def node_breakdown(store_path: str | Path, suite: str | Path) -> pd.DataFrame:
+    """Per node group and comparison of a suite file's stored runs: the columns of
+    csv/breakdown.csv, then seeds, p-values and verdicts."""
+    if not Path(suite).is_file():
+        raise InputError(f"{suite}: suite file not found; the breakdown reads the suite's data")
+    report = analyse_store(store_path, suite)
+    if report.breakdown is None:
+        raise InputError(f"{store_path}: no per-node predictions stored for suite '{suite}'")
+    return report.breakdown.comparisons
 
 
 def analyse_each(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> list[SuiteReport]:

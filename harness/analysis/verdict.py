@@ -13,13 +13,12 @@ confidence:
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy import stats as scipy_stats
 
+from harness.analysis.bounds import SEED_CAP, range_advice, smallest_seed_count
 from harness.formatting import metric_label, p_phrase, signed
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 
@@ -29,7 +28,6 @@ BETTER, WORSE, NO_DIFFERENCE, INCONCLUSIVE = (
     "no difference that matters",
     "inconclusive",
 )
-SEED_CAP = 10_000
 
 
 @dataclass(frozen=True)
@@ -39,16 +37,6 @@ class Verdict:
     verdict: str
     reason: str
     seeds_needed: int | None
-
-
-def _smallest_n(spread: float, target: float, level: float) -> int:
-    """Smallest n >= 2 with t_{level, n-1} * spread / sqrt(n) < target, capped at SEED_CAP."""
-    if spread == 0:
-        return 2
-    n = max(2, math.ceil((scipy_stats.norm.ppf(level) * spread / target) ** 2))
-    while n < SEED_CAP and scipy_stats.t.ppf(level, n - 1) * spread / math.sqrt(n) >= target:
-        n += 1
-    return min(n, SEED_CAP)
 
 
 def seeds_to_settle(
@@ -76,9 +64,9 @@ def seeds_to_settle(
         return None
     candidates = []
     if d > 0:
-        candidates.append(_smallest_n(s, d, 1 - alpha / (2 * max(1, comparisons))))
+        candidates.append(smallest_seed_count(s, d, 1 - alpha / (2 * max(1, comparisons))))
     if minimum_gain - d > 0:
-        candidates.append(_smallest_n(s, minimum_gain - d, 1 - alpha / 2))
+        candidates.append(smallest_seed_count(s, minimum_gain - d, 1 - alpha / 2))
     return min(candidates) if candidates else None
 
 
@@ -133,18 +121,26 @@ def label(row: pd.Series) -> str:
     return f"{row['variant']} ({row['model']}{extra})"
 
 
+def best_pair(contenders: pd.DataFrame) -> tuple[pd.Series, pd.Series] | None:
+    """The rows (stats.describe of one suite) of the best attention variant and the best
+    baseline by mean test metric: the headline comparison; None when a side is missing."""
+    attention = contenders[contenders["side"] == "attention"]
+    baselines = contenders[contenders["side"] == "baseline"]
+    if attention.empty or baselines.empty:
+        return None
+    return attention.loc[attention["mean"].idxmax()], baselines.loc[baselines["mean"].idxmax()]
+
+
 def headline(contenders: pd.DataFrame, judged: pd.DataFrame, settings: Analysis) -> str:
     """One sentence: the best attention variant against the best baseline of a suite.
 
     `contenders` is stats.describe of one suite and `judged` its judge_all comparisons.
     """
-    attention = contenders[contenders["side"] == "attention"]
-    baselines = contenders[contenders["side"] == "baseline"]
-    if attention.empty or baselines.empty:
-        missing = "attention contender" if attention.empty else "baseline"
+    best = best_pair(contenders)
+    if best is None:
+        missing = "attention contender" if (contenders["side"] != "attention").all() else "baseline"
         return f"No comparison: the suite has no {missing}."
-    best_a = attention.loc[attention["mean"].idxmax()]
-    best_b = baselines.loc[baselines["mean"].idxmax()]
+    best_a, best_b = best
     row = judged[
         (judged["attention"] == best_a["variant"]) & (judged["baseline"] == best_b["variant"])
     ].iloc[0]
@@ -160,6 +156,23 @@ def headline(contenders: pd.DataFrame, judged: pd.DataFrame, settings: Analysis)
         f"{p_phrase(row['p_t_holm'])}, {row['seeds']} seeds"
     )
     a, b, d = label(best_a), label(best_b), signed(row["mean_difference"])
+    return _sentence(a, b, d, metric, facts, row, settings) + _range_warning(row)
+
+
+def _range_warning(row: pd.Series) -> str:
+    """A clipped t-interval (analysis.bounds) is said to be unreliable, after the sentence."""
+    if not row.get("t_clipped", False):
+        return ""
+    seeds = row["seeds_for_range"]
+    needed = None if pd.isna(seeds) else int(seeds)
+    return (
+        " The t-interval passes the possible ±100 points and is shown clipped: "
+        + range_advice(int(row["seeds"]), needed)
+        + "."
+    )
+
+
+def _sentence(a: str, b: str, d: str, metric: str, facts: str, row, settings) -> str:
     if row["verdict"] == BETTER:
         return f"{a} beats the best baseline, {b}, by {d} {metric} points ({facts})."
     if row["verdict"] == WORSE:

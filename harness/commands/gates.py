@@ -21,6 +21,7 @@ from harness.gate.baseline import (
     environment_differences,
     environment_fingerprint,
     read_baseline,
+    unmatched_points,
     write_baseline,
 )
 from harness.gate.compare import GateOutcome, evaluate
@@ -120,8 +121,11 @@ def gate(
     environment = environment_fingerprint(threads)
     differences = environment_differences(stored.environment.model_dump(), environment)
     runs = spec_runs(store_path, specs)
-    labels = contender_labels(specs)
-    outcome = evaluate(suite, labels, stored, runs, environment, differences, time.time())
+    unmatched = unmatched_points(stored, specs)
+    labels = [label for label in contender_labels(specs) if label in stored.contenders]
+    outcome = evaluate(
+        suite, labels, stored, runs, environment, differences, time.time(), unmatched
+    )
     history.append(store_path, outcome)
     if junit:
         write_junit(junit, outcome)

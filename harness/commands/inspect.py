@@ -94,13 +94,18 @@ class ShowOutcome:
     ablation: Any = None  # harness.analysis.axes.AblationView
     reports: tuple = ()  # one SuiteReport per suite
     status: int = 0
+    predictions: dict | None = None  # run key -> NodePredictions, when asked for
 
 
-def show(store_path: Location, suite_argument: str | None, analysed: bool) -> ShowOutcome:
+def show(
+    store_path: Location, suite_argument: str | None, analysed: bool, predictions: bool = False
+) -> ShowOutcome:
+    """Stored runs of a suite (or all); `predictions` adds their test-node probabilities."""
     from harness.analysis.axes import ablation_view, label_points
     from harness.analysis.stats import summarise
     from harness.analysis.suite_report import analyse_each, settings_of
     from harness.storage import store
+    from harness.storage.predictions import load_predictions
 
     runs = store.load_runs(store_path, suite_names(suite_argument))
     if runs.empty:
@@ -109,7 +114,8 @@ def show(store_path: Location, suite_argument: str | None, analysed: bool) -> Sh
             + (f" for suite '{suite_argument}'" if suite_argument else "")
         )
     if not analysed:
-        return ShowOutcome(runs)
+        kept = load_predictions(store_path, runs["key"]) if predictions else None
+        return ShowOutcome(runs, predictions=kept)
     settings = settings_of(suite_argument)
     reports = tuple(analyse_each(runs, settings))
     summary = summarise(label_points(runs), settings.confidence)

@@ -147,7 +147,7 @@ def run_fixed(
 ) -> RunOutcome:
     from harness.analysis.axes import ablation_view, label_points
     from harness.analysis.stats import summarise
-    from harness.analysis.suite_report import analyse
+    from harness.analysis.suite_report import analyse_suite_runs
     from harness.execution.memory import check_suite_memory
     from harness.execution.preflight import preflight
     from harness.planning import expand
@@ -168,7 +168,7 @@ def run_fixed(
         executed,
         summarise(label_points(runs), suite.analysis.confidence),
         ablation_view(runs, suite.analysis.confidence),
-        analyse(runs, suite.analysis),
+        analyse_suite_runs(store_path, runs, suite),
         profile,
     )
 
@@ -228,7 +228,7 @@ def run_tuned(
 ) -> TunedOutcome:
     """Tune every contender with one budget, then run the seeded repeats (shared storage)."""
     from harness.analysis.stats import summarise
-    from harness.analysis.suite_report import analyse
+    from harness.analysis.suite_report import analyse_suite_runs
     from harness.execution.memory import check_suite_memory
     from harness.execution.preflight import preflight
     from harness.storage import store
@@ -247,5 +247,5 @@ def run_tuned(
     frames = tuning_frames(suite, url)
     runs = store.load_runs(store_path, [suite.name])
     runs = runs[runs["key"].isin(work.keys)]
-    report = analyse(runs, suite.analysis) if not runs.empty else None
+    report = analyse_suite_runs(store_path, runs, suite) if not runs.empty else None
     return TunedOutcome(suite, url, frames, summarise(runs, suite.analysis.confidence), report)

@@ -18,6 +18,7 @@ Degree counts incoming edges of the undirected edge list, so it is the usual deg
 from __future__ import annotations
 
 import copy
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -80,35 +81,33 @@ def random_walk_encoding(data: Data, steps: int) -> torch.Tensor:
     return AddRandomWalkPE(steps)(plain).random_walk_pe.float()
 
 
+# feature start (the schema's `feature_start`) -> x of the started graph from (data, options,
+# seed); "given" keeps the graph as it is and "identity" gives node ids for an embedding
+STARTS: dict[str, Callable[[Data, BaseModel, int], torch.Tensor]] = {
+    "given": lambda data, options, seed: data.x,
+    "identity": lambda data, options, seed: torch.arange(data.num_nodes),
+    "degree": lambda data, options, seed: degree_one_hot(data, options.degree_cap).float(),
+    "log_degree": lambda data, options, seed: torch.log1p(degrees(data).float()).unsqueeze(1),
+    "random": lambda data, options, seed: random_features(data, options.start_width, seed),
+    "constant": lambda data, options, seed: torch.ones(data.num_nodes, 1),
+    "given_degree": lambda data, options, seed: torch.cat(
+        [data.x, degree_one_hot(data, options.degree_cap).float()], dim=1
+    ),
+    "laplacian": lambda data, options, seed: laplacian_encoding(data, options.start_width, seed),
+    "random_walk": lambda data, options, seed: random_walk_encoding(data, options.start_width),
+}
+
+
 def start_features(data: Data, options: BaseModel, seed: int) -> StartedGraph:
     """The graph with `x` replaced by the contender's feature start (other fields shared)."""
     kind = options.feature_start
     if kind == "given":
         return StartedGraph(data, data.num_features)
-    nodes = data.num_nodes
-    if kind == "identity":
-        x = torch.arange(nodes)
-    elif kind == "degree":
-        x = degree_one_hot(data, options.degree_cap).float()
-    elif kind == "log_degree":
-        x = torch.log1p(degrees(data).float()).unsqueeze(1)
-    elif kind == "random":
-        x = random_features(data, options.start_width, seed)
-    elif kind == "constant":
-        x = torch.ones(nodes, 1)
-    elif kind == "given_degree":
-        x = torch.cat([data.x, degree_one_hot(data, options.degree_cap).float()], dim=1)
-    elif kind == "laplacian":
-        x = laplacian_encoding(data, options.start_width, seed)
-    elif kind == "random_walk":
-        x = random_walk_encoding(data, options.start_width)
-    else:
-        raise ValueError(f"unknown feature start {kind!r}")  # the schema allows no other
     started = copy.copy(data)
-    started.x = x
+    started.x = STARTS[kind](data, options, seed)
     if kind == "identity":
-        return StartedGraph(started, options.start_width, embedding_rows=nodes)
-    return StartedGraph(started, x.size(1))
+        return StartedGraph(started, options.start_width, embedding_rows=data.num_nodes)
+    return StartedGraph(started, started.x.size(1))
 
 
 def check_feature_start(nodes: int, options: BaseModel, where: str) -> None:

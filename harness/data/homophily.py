@@ -13,7 +13,8 @@ edge twice), which leaves every ratio below unchanged.
   where D_k is the summed degree of class k's nodes and 2|E| the summed degree of all nodes:
   0 means edges join classes as often as a degree-preserving random graph would.
 The first three come from PyG (`torch_geometric.utils.homophily`); the adjusted one is
-computed here, from the paper's formula.
+computed here, from the paper's formula. `local_homophily` gives Pei et al.'s per-node term
+itself, for the analysis only (it reads every node's label; no model ever sees it).
 """
 
 from __future__ import annotations
@@ -51,6 +52,21 @@ def adjusted_homophily(edge_index: torch.Tensor, y: torch.Tensor) -> float:
     if expected >= 1.0:
         return float("nan")
     return (same - expected) / (1.0 - expected)
+
+
+def local_homophily(edge_index: torch.Tensor, y: torch.Tensor) -> np.ndarray:
+    """Per node v: |{u in N(v) labelled : y_u = y_v}| / |{u in N(v) labelled}| (Pei et al., 2020,
+    the term inside h_node), N(v) the sources of the edges into v; NaN for an unlabelled node
+    or one without labelled neighbours."""
+    sources, targets = edge_index.numpy()
+    labels = y.numpy()
+    keep = (labels[sources] >= 0) & (labels[targets] >= 0)
+    sources, targets = sources[keep], targets[keep]
+    nodes = len(labels)
+    same = np.bincount(targets, weights=labels[sources] == labels[targets], minlength=nodes)
+    counted = np.bincount(targets, minlength=nodes).astype(float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(counted > 0, same / counted, np.nan)
 
 
 def measure_homophily(edge_index: torch.Tensor, y: torch.Tensor) -> Homophily:

@@ -18,7 +18,9 @@ from harness.execution.pool import available_cores, start_workers
 from harness.models import load_builders
 from harness.planning import COMPILE_MIN_EDGES, RunSpec, declared_edges
 from harness.storage import store
-from harness.training.fit import RunResult, as_trained, perform
+from harness.storage.predictions import encode, to_text
+from harness.training.fit import RunResult, as_trained
+from harness.training.tasks import perform
 
 # a graph this large gives a lone last run every core (README, Processes and threads)
 LARGE_GRAPH_EDGES = COMPILE_MIN_EDGES
@@ -38,9 +40,10 @@ class Outcome:
 
 
 def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
-    """The store row of a finished run, keyed by the compile mode it actually used."""
+    """The store row of a finished run, keyed by the compile mode it actually used; its test
+    predictions travel as text, when made."""
     spec = as_trained(spec, result)
-    return {
+    record = {
         "suite": spec.suite,
         "contender": spec.contender,
         "key": spec.key,
@@ -51,9 +54,7 @@ def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
         "metric": spec.metric,
         "val_metric": result.val_metric,
         "test_metric": result.test_metric,
-        "test_accuracy": result.test_scores["accuracy"],
-        "test_macro_f1": result.test_scores["macro_f1"],
-        "test_roc_auc": result.test_scores["roc_auc"],
+        **{f"test_{name}": result.test_scores.get(name) for name in store.TEST_METRICS},
         "epochs": result.epochs,
         "best_epoch": result.best_epoch,
         "seconds": result.seconds,
@@ -63,6 +64,9 @@ def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
         "curve": result.curve,
         "extras": result.extras,
     }
+    if result.predictions is not None:
+        record["predictions"] = to_text(encode(result.predictions))
+    return record
 
 
 def run_and_store(spec: RunSpec, store_path: store.Store) -> str:

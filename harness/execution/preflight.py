@@ -5,9 +5,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+from torch_geometric.data import Data
 
 from harness.data import load_graph
 from harness.data.assemble import cleaning_notes, edge_count
+from harness.data.edge_splits import edge_split
 from harness.data.feature_starts import check_contender_graphs
 from harness.data.homophily import measure_homophily
 from harness.data.splits import make_split
@@ -34,10 +36,8 @@ class DataFacts:
         return GraphSize(self.nodes, 2 * self.edges, self.features, self.classes)
 
 
-def preflight(suite: Suite, source: str) -> DataFacts:
-    """Load the graph and draw every seed's split; errors name the suite file and key."""
-    data = load_graph(suite.data)
-    classes = int(data.y.max()) + 1
+def check_node_splits(suite: Suite, data: Data, source: str) -> None:
+    """Two label classes, and every seed's node split (ROC-AUC needs two classes in test)."""
     labelled = data.y[data.y >= 0]
     if len(np.unique(labelled.numpy())) < 2:
         raise InputError(f"{source}: data: fewer than two label classes; allowed: two or more")
@@ -51,6 +51,25 @@ def preflight(suite: Suite, source: str) -> DataFacts:
                 f"{source}: metric: 'roc_auc' is not defined when the test split of seed {seed} "
                 "holds one class; allowed: accuracy or macro_f1, or a larger test split"
             )
+
+
+def check_edge_splits(suite: Suite, data: Data, source: str) -> None:
+    """Every seed's edge split: enough edges for each share and enough non-edges."""
+    for seed in suite.seed_list:
+        try:
+            edge_split(data, suite.split, suite.link_options, seed)
+        except InputError as error:
+            raise InputError(f"{source}: {error}") from None
+
+
+SPLIT_CHECKS = {"node_classification": check_node_splits, "link_prediction": check_edge_splits}
+
+
+def preflight(suite: Suite, source: str) -> DataFacts:
+    """Load the graph and draw every seed's split; errors name the suite file and key."""
+    data = load_graph(suite.data)
+    classes = int(data.y.max()) + 1
+    SPLIT_CHECKS[suite.task](suite, data, source)
     check_contender_graphs(design_points(suite), data, suite.hops.memory_budget_mb, source)
     measured = measure_homophily(data.edge_index, data.y)
     return DataFacts(
@@ -60,5 +79,15 @@ def preflight(suite: Suite, source: str) -> DataFacts:
         data.num_features,
         measured.edge,
         measured.node,
-        tuple(cleaning_notes(data, f"{source}: data")),
+        tuple(cleaning_notes(data, f"{source}: data")) + unused_label_notes(suite, source),
     )
+
+
+def unused_label_notes(suite: Suite, source: str) -> tuple[str, ...]:
+    """A warning when a link suite names a label column: nothing in it uses labels."""
+    if suite.task == "link_prediction" and "label_column" in suite.data.model_fields_set:
+        return (
+            f"{source}: data.label_column: warning: link prediction uses no node labels; "
+            "the column only feeds the data profile",
+        )
+    return ()

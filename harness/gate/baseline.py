@@ -23,9 +23,11 @@ import harness
 from harness.digest import json_digest
 from harness.errors import InputError
 from harness.planning import RunSpec
+from harness.schema.ablation import point_label
 from harness.schema.base import format_validation_error
 from harness.schema.gate import BASELINE_FORMAT, BASELINE_FORMAT_VERSION, BaselineFile
 from harness.schema.suite import Suite
+from harness.schema.tasks import DEFAULT_TASK
 
 RUN_FIELDS = (
     "test_metric",
@@ -36,6 +38,8 @@ RUN_FIELDS = (
     "seconds_per_epoch",
     "peak_mb",
 )
+# link prediction metrics: recorded for runs that have them (node runs leave them out)
+LATER_RUN_FIELDS = ("test_average_precision", "test_hits_at_k")
 
 
 def cpu_model() -> str:
@@ -79,12 +83,16 @@ def environment_differences(saved: dict[str, Any], current: dict[str, Any]) -> l
 
 def suite_task(suite: Suite) -> dict[str, Any]:
     """What the figures are measured on; a baseline only compares with the same task."""
-    return {
+    task = {
         "data": suite.data.model_dump(mode="json"),
         "split": suite.split.model_dump(mode="json"),
         "setting": suite.setting,
         "metric": suite.metric,
     }
+    if suite.task != DEFAULT_TASK:  # node classification hashes stay as they were
+        task["task"] = suite.task
+        task["link"] = suite.link_options.model_dump(mode="json")
+    return task
 
 
 def suite_hash(suite: Suite) -> str:
@@ -106,22 +114,35 @@ def _rounded(value: Any) -> Any:
     return round(float(value), 6)
 
 
+def run_labels(runs: pd.DataFrame) -> list[str]:
+    """Each run's contender label: the contender, with its ablation point when it has one."""
+    points = runs["point"] if "point" in runs.columns else [None] * len(runs)
+    return [
+        point_label(contender, point or {})
+        for contender, point in zip(runs["contender"], points, strict=True)
+    ]
+
+
 def contender_labels(specs: list[RunSpec]) -> list[str]:
     """Contender labels in suite order (one per contender, or per contender and ablation point)."""
-    return list(dict.fromkeys(spec.contender for spec in specs))
+    return list(dict.fromkeys(spec.label for spec in specs))
 
 
 def build_baseline(
     suite: Suite, specs: list[RunSpec], runs: pd.DataFrame, environment: dict[str, Any]
 ) -> dict[str, Any]:
-    """The baseline document of a suite's stored runs (one entry per contender and seed)."""
-    options = {spec.contender: spec.options for spec in specs}
+    """The baseline document of a suite's stored runs (suite_runs): one entry per contender,
+    or per contender and ablation point, each with one run per seed."""
+    by_label = {spec.label: spec for spec in specs}  # every seed of a label has its options
     contenders: dict[str, Any] = {}
     for name in contender_labels(specs):
-        group = runs[runs["contender"] == name].sort_values("seed")
+        group = runs[[label == name for label in run_labels(runs)]].sort_values("seed")
+        spec = by_label[name]
         contenders[name] = {
-            "model": options[name].model,
-            "options": options[name].model_dump(mode="json"),
+            "model": spec.options.model,
+            "options": spec.options.model_dump(mode="json"),
+            "contender": spec.contender,
+            "point": spec.point,
             "runs": [
                 {
                     "seed": int(row["seed"]),
@@ -129,6 +150,11 @@ def build_baseline(
                     "epochs": int(row["epochs"]),
                     "params": int(row["params"]),
                     **{field: _rounded(row[field]) for field in RUN_FIELDS},
+                    **{
+                        field: _rounded(row[field])
+                        for field in LATER_RUN_FIELDS
+                        if _rounded(row.get(field)) is not None
+                    },
                 }
                 for _, row in group.iterrows()
             ],
@@ -233,7 +259,8 @@ def check_matches(
             f"{path}: suite hash differs (baseline {baseline.suite_hash}, suite {current_hash}): "
             f"{detail}; save a new baseline for the changed task"
         )
-    saved_names, suite_names = set(baseline.contenders), set(contender_labels(specs))
+    saved_names = {entry.contender or label for label, entry in baseline.contenders.items()}
+    suite_names = {spec.contender for spec in specs}
     for name in sorted(suite_names - saved_names):
         raise InputError(
             f"{path}: contenders.{name}: in the suite but missing from the baseline; baseline "
@@ -244,3 +271,12 @@ def check_matches(
             f"{path}: contenders.{name}: in the baseline but not in the suite; suite has "
             f"{', '.join(sorted(suite_names))}"
         )
+
+
+def unmatched_points(baseline: BaselineFile, specs: list[RunSpec]) -> list[tuple[str, str]]:
+    """(label, where) of each ablation point on one side only: 'suite' or 'baseline'."""
+    suite_labels = contender_labels(specs)
+    missing = [(label, "suite") for label in suite_labels if label not in baseline.contenders]
+    return missing + [
+        (label, "baseline") for label in baseline.contenders if label not in suite_labels
+    ]

@@ -24,6 +24,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats as scipy_stats
 
+from harness.gate.baseline import run_labels
 from harness.schema.gate import BaselineFile, GateOptions
 from harness.schema.suite import Suite
 
@@ -221,17 +222,21 @@ def evaluate(
     environment: dict[str, Any],
     environment_differences: list[str],
     gated_at: float,
+    unmatched: list[tuple[str, str]] | None = None,
 ) -> GateOutcome:
-    """Every check of every contender (label of `expand`), in the order given."""
+    """Every check of every contender label (contender, or contender and ablation point; the
+    runs' contender and point) in the order given; an ablation point on one side only
+    (`unmatched`: label and 'suite' or 'baseline') is reported, not compared."""
     options = suite.gate
     checks: list[Check] = []
+    labels = run_labels(runs)
     seconds: dict[str, float] = {}
     costs = (
         ("time", "seconds_per_epoch", options.time_ratio, options.time_action),
         ("memory", "peak_mb", options.memory_ratio, options.memory_action),
     )
     for name in contenders:
-        now = runs[runs["contender"] == name]
+        now = runs[[label == name for label in labels]]
         saved = pd.DataFrame([run.model_dump() for run in baseline.contenders[name].runs])
         seconds[name] = float(now["seconds"].sum())
         comparison = compare_metric(
@@ -252,6 +257,11 @@ def evaluate(
                 options.reproducibility_action,
             )
         )
+    for name, side in unmatched or []:
+        other = "baseline" if side == "suite" else "suite"
+        advice = "; save a new baseline to compare it" if side == "suite" else ""
+        message = f"{name}: in the {side} but not in the {other}; not compared{advice}"
+        checks.append(Check(name, "compared", WARN, message))
     return GateOutcome(
         suite=suite.name,
         metric=suite.metric,

@@ -8,7 +8,7 @@ from pathlib import Path
 import pandas as pd
 
 from harness.analysis.suite_report import SuiteReport
-from harness.report.tables import frames
+from harness.report.breakdown import report_frames
 
 
 def _cell(value: object) -> object:
@@ -20,7 +20,7 @@ def write(report: SuiteReport, folder: Path) -> list[Path]:
     """One CSV per non-empty analysis table in `folder`; returns the paths written."""
     folder.mkdir(parents=True, exist_ok=True)
     written = []
-    for name, frame in frames(report).items():
+    for name, frame in report_frames(report).items():
         path = folder / f"{name}.csv"
         plain = frame.apply(lambda column: column.map(_cell)) if not frame.empty else frame
         pd.DataFrame(plain).to_csv(path, index=False)

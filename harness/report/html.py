@@ -6,8 +6,9 @@ import base64
 from html import escape
 
 from harness.analysis.suite_report import SuiteReport
+from harness.report.breakdown import report_tables
 from harness.report.plots import PLOT_TITLES
-from harness.report.tables import TextTable, all_tables, facts, reasons
+from harness.report.tables import TextTable, facts, reasons
 from harness.report.trend import TREND_TITLE
 
 STYLE = """
@@ -57,7 +58,7 @@ def trend_section(trend: bytes | None) -> str:
 def render(report: SuiteReport, plots: dict[str, bytes], trend: bytes | None = None) -> str:
     """The page; `plots` maps plot names to PNG bytes (embedded, no outside files)."""
     sections = []
-    for part in all_tables(report):
+    for part in report_tables(report):
         sections.append(table(part))
         if part.name == "comparisons":
             items = "".join(f"<li>{escape(line)}</li>" for line in reasons(report))

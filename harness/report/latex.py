@@ -3,7 +3,8 @@
 from __future__ import annotations
 
 from harness.analysis.suite_report import SuiteReport
-from harness.report.tables import TextTable, all_tables
+from harness.report.breakdown import report_tables
+from harness.report.tables import TextTable
 
 _SPECIAL = {
     "\\": r"\textbackslash{}",
@@ -52,7 +53,7 @@ def table(part: TextTable) -> str:
 
 def render(report: SuiteReport) -> str:
     """A standalone document; copy the table environments into a paper as they are."""
-    body = "\n\n".join(table(part) for part in all_tables(report))
+    body = "\n\n".join(table(part) for part in report_tables(report))
     return "\n".join(
         [
             r"\documentclass{article}",

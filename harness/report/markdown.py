@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 from harness.analysis.suite_report import SuiteReport
+from harness.report.breakdown import report_tables
 from harness.report.markdown_text import escape
 from harness.report.plots import PLOT_TITLES
-from harness.report.tables import TextTable, all_tables, facts, reasons
+from harness.report.tables import TextTable, facts, reasons
 
 
 def table(part: TextTable) -> str:
@@ -29,7 +30,7 @@ def render(report: SuiteReport, plots: list[str]) -> str:
         "",
         escape(facts(report)),
     ]
-    for part in all_tables(report):
+    for part in report_tables(report):
         parts += ["", table(part)]
         if part.name == "comparisons":
             parts += ["", "Verdicts:", ""] + [f"- {escape(line)}" for line in reasons(report)]

@@ -252,6 +252,33 @@ def homophily_plot(report: SuiteReport) -> Figure:
     return figure
 
 
+def breakdown_plot(report: SuiteReport) -> Figure:
+    """The headline comparison per node group, one panel per grouping, lowest group left."""
+    nodes = report.breakdown
+    rows = nodes.headline_rows()
+    panels = list(rows.groupby("grouping", sort=True))
+    figure = Figure(figsize=(5.2 * len(panels), 3.4))
+    grid = np.atleast_1d(figure.subplots(1, len(panels), squeeze=False)).ravel()
+    gain = report.settings.minimum_gain
+    for axes, (grouping, group) in zip(grid, panels, strict=True):
+        axes.axhspan(-gain, gain, color="#eceff1", zorder=0)
+        axes.axhline(0, color="#455a64", lw=0.8)
+        for position, row in enumerate(group.itertuples()):
+            colour = VERDICT_COLOURS[row.verdict]
+            if np.isfinite(row.low):
+                axes.plot([position, position], [row.low, row.high], color=colour, lw=2.5)
+            axes.plot(position, row.difference, "o", color=colour, label=row.verdict)
+        axes.set_xticks(range(len(group)), list(group["group"]), rotation=30, ha="right")
+        axes.set_xlabel(grouping.replace("_", " "))
+        axes.set_ylabel(f"{report_metric(report)} points")
+        handles, names = axes.get_legend_handles_labels()
+        unique = dict(zip(names, handles, strict=True))
+        axes.legend(unique.values(), unique.keys(), loc="best", fontsize=7, frameon=False)
+    figure.suptitle(f"{nodes.attention} minus {nodes.baseline} by node group (t-intervals)")
+    figure.tight_layout()
+    return figure
+
+
 def _present(report: SuiteReport) -> dict[str, Callable[[SuiteReport], Figure]]:
     plots: dict[str, Callable[[SuiteReport], Figure]] = {"contenders": contender_plot}
     if not report.comparisons.empty:
@@ -263,6 +290,8 @@ def _present(report: SuiteReport) -> dict[str, Callable[[SuiteReport], Figure]]:
         plots["attention"] = attention_plot
     if report.homophily_map is not None or not report.homophily.empty or not report.attention.empty:
         plots["homophily"] = homophily_plot
+    if report.breakdown is not None and report.breakdown.attention is not None:
+        plots["breakdown"] = breakdown_plot
     return plots
 
 
@@ -273,6 +302,7 @@ PLOT_TITLES = {
     "cost": "Cost trade-off",
     "attention": "Attention diagnostics",
     "homophily": "Homophily map",
+    "breakdown": "Headline comparison by node group",
 }
 
 

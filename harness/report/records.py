@@ -4,10 +4,13 @@ from __future__ import annotations
 
 import json
 import math
+from collections.abc import Mapping
 
 import pandas as pd
 
 from harness.report.markdown_text import escape
+from harness.storage.store import TEST_COLUMNS
+from harness.training.fit import NodePredictions
 
 RECORD_FIELDS = (
     "suite",
@@ -19,9 +22,7 @@ RECORD_FIELDS = (
     "metric",
     "val_metric",
     "test_metric",
-    "test_accuracy",
-    "test_macro_f1",
-    "test_roc_auc",
+    *TEST_COLUMNS,
     "epochs",
     "best_epoch",
     "seconds",
@@ -32,12 +33,19 @@ RECORD_FIELDS = (
     "extras",  # attention diagnostics, arrival figures, tuned settings, ...
 )
 
+# link prediction metrics appear only in the records of runs that have them
+LINK_ONLY = ("test_average_precision", "test_hits_at_k")
+
 
 def records(runs: pd.DataFrame) -> list[dict]:
     """One plain dict per run with the documented result fields."""
     out = []
     for row in runs.to_dict(orient="records"):
-        record = {field: _plain(row[field]) for field in RECORD_FIELDS}
+        record = {
+            field: _plain(row[field])
+            for field in RECORD_FIELDS
+            if field not in LINK_ONLY or _plain(row[field]) is not None
+        }
         record["val"] = record.pop("val_metric")
         record["test"] = record.pop("test_metric")
         out.append(record)
@@ -49,9 +57,15 @@ def _plain(value: object) -> object:
     return None if isinstance(value, float) and math.isnan(value) else value
 
 
-def as_json(runs: pd.DataFrame) -> str:
-    """A JSON array with one object per run."""
-    return json.dumps(records(runs), indent=1, default=float)
+def as_json(runs: pd.DataFrame, predictions: Mapping[str, NodePredictions] | None = None) -> str:
+    """A JSON array with one object per run; with `predictions` (by run key), each record
+    also holds its test nodes and their class probabilities (null when none are stored)."""
+    out = records(runs)
+    if predictions is not None:
+        for record in out:
+            stored = predictions.get(record["key"])
+            record["predictions"] = None if stored is None else stored.as_dict()
+    return json.dumps(out, indent=1, default=float)
 
 
 def flat(runs: pd.DataFrame) -> pd.DataFrame:

@@ -8,6 +8,8 @@ from dataclasses import dataclass
 
 import pandas as pd
 
+from harness.analysis.arrival import DIFFERENCE_LIMIT
+from harness.analysis.bounds import range_advice
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, interval, metric_label, p_text, signed, signed_interval
 
@@ -110,11 +112,35 @@ def comparison_table(report: SuiteReport) -> TextTable:
 
 
 def reasons(report: SuiteReport) -> list[str]:
-    """One line per comparison: the verdict and why."""
+    """One line per comparison: the verdict and why; then one per t-interval shown clipped."""
     return [
         f"{r.attention} vs {r.baseline}: {r.verdict} ({r.reason})"
         for r in report.comparisons.itertuples()
-    ]
+    ] + range_notes(report)
+
+
+def range_notes(report: SuiteReport) -> list[str]:
+    """Each t-interval that passed the metric's possible range (analysis.bounds)."""
+    level = f"{report.settings.confidence:.0%}"
+    notes = []
+    for r in report.contenders.itertuples():
+        if r.t_clipped:
+            notes.append(
+                f"{r.variant}: the {level} t-interval of its mean passes the possible range 0 to "
+                f"1 and is shown clipped; {range_advice(r.seeds, _count(r.seeds_for_range))}"
+            )
+    for r in report.comparisons.itertuples():
+        if r.t_clipped:
+            notes.append(
+                f"{r.attention} vs {r.baseline}: the {level} t-interval of the difference passes "
+                f"the possible ±100 points and is shown clipped; "
+                f"{range_advice(r.seeds, _count(r.seeds_for_range))}"
+            )
+    return notes
+
+
+def _count(value: object) -> int | None:
+    return None if value is None or pd.isna(value) else int(value)
 
 
 def axis_table(report: SuiteReport) -> TextTable:
@@ -266,13 +292,42 @@ def homophily_map_table(report: SuiteReport) -> TextTable | None:
     return _table("homophily_map", "Homophily map", header, rows, note)
 
 
+def arrival_table(report: SuiteReport) -> TextTable | None:
+    """New-node arrival of an inductive suite: update against full recompute, per variant."""
+    if report.arrival.empty:
+        return None
+    level = f"{report.settings.confidence:.0%}"
+    rows = [
+        [
+            r.variant,
+            str(r.seeds),
+            str(r.radius),
+            f"{fixed(r.update_ms)} ({interval(r.update_low, r.update_high)})",
+            f"{fixed(r.full_ms)} ({interval(r.full_low, r.full_high)})",
+            f"{fixed(r.speed_up, 2)}x",
+            f"{r.max_difference:.1e}" + (" over limit" if r.difference_flagged else ""),
+        ]
+        for r in report.arrival.itertuples()
+    ]
+    header = ["contender", "seeds", "radius", f"update ms/node ({level} t)"]
+    header += [f"full recompute ms/node ({level} t)", "speed-up", "largest difference"]
+    note = (
+        "Held-out nodes join the training graph in batches; after each, only outputs within the "
+        "radius are recomputed (update) and checked against a full recompute. Speed-up: mean "
+        f"full time over mean update time. A largest difference above {DIFFERENCE_LIMIT:g} "
+        "means the update did not reproduce the full recompute."
+    )
+    return _table("arrival", "New-node arrival", header, rows, note)
+
+
 def all_tables(report: SuiteReport) -> list[TextTable]:
     """The report's tables in reading order; absent analyses are left out."""
     tables = [contender_table(report), comparison_table(report)]
     if not report.ablation.axes.empty:
         tables += [axis_table(report), level_table(report), *interaction_tables(report)]
     tables.append(cost_table(report))
-    extra = [attention_table(report), homophily_table(report), homophily_map_table(report)]
+    extra = [attention_table(report), arrival_table(report), homophily_table(report)]
+    extra.append(homophily_map_table(report))
     return tables + [part for part in extra if part is not None]
 
 
@@ -286,6 +341,7 @@ def frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
         "ablation_interactions": report.ablation.interactions,
         "cost": report.cost,
         "attention": report.attention,
+        "arrival": report.arrival,
         "homophily": report.homophily,
         "homophily_map": (
             report.homophily_map.table if report.homophily_map is not None else pd.DataFrame()

@@ -13,7 +13,8 @@ from rich.table import Table
 from harness.analysis.axes import AblationView
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, metric_label
-from harness.report.tables import TextTable, all_tables, comparison_table, reasons
+from harness.report.breakdown import TERMINAL_ROWS, headline_table, report_tables
+from harness.report.tables import TextTable, arrival_table, comparison_table, reasons
 
 
 def summary_table(summary: pd.DataFrame, title: str) -> Table:
@@ -40,7 +41,8 @@ def summary_table(summary: pd.DataFrame, title: str) -> Table:
             str(row["model"]),
             str(row["seeds"]),
             f"{fixed(row['mean'])} ± {fixed(row['std'])}",
-            f"[{fixed(row['ci_low'])}, {fixed(row['ci_high'])}]",
+            f"[{fixed(row['ci_low'])}, {fixed(row['ci_high'])}]"
+            + (" clipped" if row.get("ci_clipped", False) else ""),
             fixed(row["seconds_per_epoch"], 4),
             f"{row['params']:,}",
             fixed(row["peak_mb"], 2),
@@ -183,8 +185,9 @@ def text_table(part: TextTable) -> Table:
     )
     for header, right in zip(part.header, part.right, strict=True):
         table.add_column(escape(header), justify="right" if right else "left")
+    verdicts = part.name in ("comparisons", "breakdown", "breakdown_headline")
     for row in part.rows:
-        style = VERDICT_STYLES.get(row[-1]) if part.name == "comparisons" else None
+        style = VERDICT_STYLES.get(row[-1]) if verdicts else None
         table.add_row(*(escape(cell) for cell in row), style=style)
     return table
 
@@ -199,12 +202,23 @@ def print_verdicts(report: SuiteReport, console: Console | None = None) -> None:
     for line in reasons(report):
         console.print(f"  {escape(line)}", highlight=False)
     console.print(f"[bold]Verdict:[/bold] {escape(report.headline)}", highlight=False)
+    nodes = headline_table(report, TERMINAL_ROWS, summary=False)
+    if nodes is not None:
+        console.print(text_table(nodes))
+        console.print(escape(report.breakdown.summary), highlight=False)
+
+
+def print_arrival(report: SuiteReport, console: Console | None = None) -> None:
+    """The new-node arrival table of an inductive suite; nothing for other suites."""
+    part = arrival_table(report)
+    if part is not None:
+        (console or Console()).print(text_table(part))
 
 
 def print_report(report: SuiteReport, console: Console | None = None) -> None:
     """Every table of the report, then the verdicts."""
     console = console or Console()
-    for part in all_tables(report):
-        if part.name != "comparisons":
+    for part in report_tables(report):
+        if part.name not in ("comparisons", "breakdown_headline"):
             console.print(text_table(part))
     print_verdicts(report, console)

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from pydantic import Field, model_validator
+from pydantic import Field, field_validator, model_validator
 
 from harness.schema.base import StrictModel
 
@@ -21,6 +21,24 @@ class Analysis(StrictModel):
     bootstrap_resamples: int = Field(2000, ge=100, le=100_000)
     attention: list[str] = []
     baselines: list[str] = []
+    local_homophily_edges: list[float] = [0.0, 0.2, 0.4, 0.6, 0.8, 1.0]
+    degree_edges: list[int] = []
+
+    @field_validator("local_homophily_edges")
+    @classmethod
+    def _bins_cover_zero_to_one(cls, edges: list[float]) -> list[float]:
+        rising = all(low < high for low, high in zip(edges, edges[1:], strict=False))
+        if len(edges) < 2 or edges[0] != 0 or edges[-1] != 1 or not rising:
+            raise ValueError("allowed: rising bin edges from 0 to 1, e.g. [0, 0.5, 1]")
+        return edges
+
+    @field_validator("degree_edges")
+    @classmethod
+    def _degree_edges_rise(cls, edges: list[int]) -> list[int]:
+        rising = all(low < high for low, high in zip(edges, edges[1:], strict=False))
+        if any(edge < 1 for edge in edges) or not rising:
+            raise ValueError("allowed: rising degrees of at least 1, e.g. [3, 6, 12], or []")
+        return edges
 
     @model_validator(mode="after")
     def _sides_do_not_overlap(self) -> Analysis:

@@ -27,6 +27,13 @@ def check_batching(suite: Suite, source: str) -> None:
         training = options.training.apply(suite.training)
         if not training.sampled:
             continue
+        if suite.task == "link_prediction":
+            own = suite.contenders[contender].training.batching is not None
+            key = f"contenders.{contender}.training" if own else "training"
+            raise InputError(
+                f'{source}: {key}.batching: given "sampled"; sampled batches are not extended '
+                'to link prediction; allowed: "full"'
+            )
         where = f"{source}: {_fanout_source(suite, contender)}"
         layers = options.layers
         if training.fanout is None:

@@ -45,6 +45,8 @@ class BaselineRun(StrictModel):
     test_accuracy: float | None = Field(None, ge=0, le=1)
     test_macro_f1: float | None = Field(None, ge=0, le=1)
     test_roc_auc: float | None = Field(None, ge=0, le=1)
+    test_average_precision: float | None = Field(None, ge=0, le=1)
+    test_hits_at_k: float | None = Field(None, ge=0, le=1)
     epochs: int = Field(ge=1)
     seconds_per_epoch: float = Field(gt=0)
     peak_mb: float = Field(gt=0)
@@ -52,10 +54,12 @@ class BaselineRun(StrictModel):
 
 
 class BaselineContender(StrictModel):
-    """A contender's model, options and per-seed figures."""
+    """A contender's (or one of its ablation points') model, options and per-seed figures."""
 
     model: str
     options: dict
+    contender: str | None = None  # the suite's contender; None: the entry's own name
+    point: dict = Field(default_factory=dict)  # ablation point: axis -> level
     runs: list[BaselineRun] = Field(min_length=1)
 
     @field_validator("runs")
@@ -86,7 +90,7 @@ class BaselineFile(StrictModel):
     suite: str = Field(min_length=1)
     suite_hash: str = Field(min_length=1)
     task: dict
-    metric: Literal["accuracy", "macro_f1", "roc_auc"]
+    metric: Literal["accuracy", "macro_f1", "roc_auc", "average_precision", "hits_at_k"]
     harness_version: str
     saved_at: str
     environment: Environment

@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import re
-from typing import Literal
+from typing import Any, ClassVar, Literal
 
-from pydantic import ValidationInfo, field_validator
+from pydantic import ValidationInfo, field_validator, model_validator
 
 from harness.schema.ablation import Ablation, HopSettings
 from harness.schema.analysis import Analysis, unknown_contenders
@@ -13,10 +13,10 @@ from harness.schema.base import StrictModel
 from harness.schema.data import DataSection, FractionSplit, HomophilyMap, SplitSection
 from harness.schema.gate import GateOptions
 from harness.schema.model_kinds import ContenderOptions
+from harness.schema.tasks import DEFAULT_TASK, NOT_FOR_LINKS, TASK_METRICS, LinkOptions, Task
 from harness.schema.training import Training
 from harness.schema.tuning import Tuning
 
-Metric = Literal["accuracy", "macro_f1", "roc_auc"]
 Setting = Literal["transductive", "inductive"]
 # names become table cells, JUnit class names (where a dot splits) and file-name parts
 NAME_PATTERN = re.compile(r"[A-Za-z0-9_-]{1,64}")
@@ -33,10 +33,13 @@ def check_name(name: str) -> str:
 class Suite(StrictModel):
     """A declarative benchmark: data, contenders, training defaults and seeds."""
 
+    keyed_when_set: ClassVar[frozenset[str]] = frozenset({"task", "link"})
+
     name: str
     description: str = ""
     seeds: int | list[int] = 5
-    metric: Metric = "accuracy"
+    task: Task = DEFAULT_TASK
+    metric: str = "accuracy"  # one of the task's TASK_METRICS
     data: DataSection
     split: SplitSection = FractionSplit()
     setting: Setting = "transductive"
@@ -48,6 +51,67 @@ class Suite(StrictModel):
     analysis: Analysis = Analysis()
     tuning: Tuning | None = None
     homophily_map: HomophilyMap | None = None
+    link: LinkOptions | None = None
+
+    @model_validator(mode="before")
+    @classmethod
+    def _task_default_metric(cls, data: Any) -> Any:
+        if isinstance(data, dict) and "metric" not in data and data.get("task") in TASK_METRICS:
+            return {**data, "metric": TASK_METRICS[data["task"]][0]}
+        return data
+
+    @field_validator("metric")
+    @classmethod
+    def _metric_of_task(cls, metric: str, info: ValidationInfo) -> str:
+        task = info.data.get("task", DEFAULT_TASK)
+        if metric not in TASK_METRICS[task]:
+            raise ValueError(f"allowed for task '{task}': {', '.join(TASK_METRICS[task])}")
+        return metric
+
+    @field_validator("link")
+    @classmethod
+    def _link_needs_link_task(cls, link: LinkOptions | None, info: ValidationInfo) -> Any:
+        task = info.data.get("task", DEFAULT_TASK)
+        if link is not None and task != "link_prediction":
+            raise ValueError(
+                f"[link] is for task = 'link_prediction'; this suite's task is '{task}'"
+            )
+        return link
+
+    @field_validator("split")
+    @classmethod
+    def _edge_shares(cls, split: SplitSection, info: ValidationInfo) -> SplitSection:
+        if info.data.get("task") != "link_prediction":
+            return split
+        if split.method != "fractions":
+            raise ValueError(
+                f"method '{split.method}' is for node classification; allowed for link "
+                "prediction: fractions (shares of the edges)"
+            )
+        total = split.train + split.validation + split.test
+        if abs(total - 1) > 1e-9:
+            raise ValueError(
+                f"train + validation + test = {total:g}; allowed for link prediction: shares "
+                "of the edges that sum to 1"
+            )
+        return split
+
+    @field_validator("setting")
+    @classmethod
+    def _link_setting(cls, setting: str, info: ValidationInfo) -> str:
+        if info.data.get("task") == "link_prediction" and setting != "transductive":
+            raise ValueError(
+                "not available for link prediction (new-node arrival is not extended to link "
+                "suites); allowed: transductive"
+            )
+        return setting
+
+    @field_validator(*NOT_FOR_LINKS)
+    @classmethod
+    def _not_for_links(cls, value: Any, info: ValidationInfo) -> Any:
+        if value is not None and info.data.get("task") == "link_prediction":
+            raise ValueError(f"not available for link prediction: {NOT_FOR_LINKS[info.field_name]}")
+        return value
 
     @field_validator("name")
     @classmethod
@@ -84,6 +148,11 @@ class Suite(StrictModel):
         if problem:
             raise ValueError(problem)
         return analysis
+
+    @property
+    def link_options(self) -> LinkOptions:
+        """The `[link]` table, or its defaults."""
+        return self.link or LinkOptions()
 
     @property
     def seed_list(self) -> list[int]:

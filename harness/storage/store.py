@@ -8,6 +8,7 @@ submitters race on the same suite.
 
 from __future__ import annotations
 
+import base64
 import json
 import time
 from collections.abc import Iterable
@@ -15,15 +16,18 @@ from pathlib import Path
 from typing import Any
 
 import pandas as pd
-from sqlalchemy import BigInteger, Column, Double, Integer, MetaData, Table, Text
+from sqlalchemy import BigInteger, Column, Double, Integer, LargeBinary, MetaData, Table, Text
 
 import harness
 from harness.storage.database import Location, insert, locate, opened, prepare, read_rows
 
 DEFAULT_STORE = Path("runs/heedful.db")
 JSON_COLUMNS = ("options", "point", "curve", "extras")
+# every test metric of every task has a column `test_NAME`; a run fills its task's, NULL elsewhere
+TEST_METRICS = ("accuracy", "macro_f1", "roc_auc", "average_precision", "hits_at_k")
+TEST_COLUMNS = tuple(f"test_{name}" for name in TEST_METRICS)
 # NaN is kept as NULL; read back, an all-NULL column would hold None instead of NaN
-NULLABLE_NUMBERS = ("val_metric", "test_metric", "test_accuracy", "test_macro_f1", "test_roc_auc")
+NULLABLE_NUMBERS = ("val_metric", "test_metric", *TEST_COLUMNS)
 
 METADATA = MetaData()
 RUNS = Table(
@@ -42,6 +46,8 @@ RUNS = Table(
     Column("test_accuracy", Double),
     Column("test_macro_f1", Double),
     Column("test_roc_auc", Double),
+    Column("test_average_precision", Double),  # link prediction; added to older stores
+    Column("test_hits_at_k", Double),
     Column("epochs", Integer, nullable=False),
     Column("best_epoch", Integer, nullable=False),
     Column("seconds", Double, nullable=False),
@@ -52,6 +58,14 @@ RUNS = Table(
     Column("extras", Text, nullable=False),
     Column("version", Text, nullable=False),
     Column("finished_at", Double, nullable=False),
+)
+# test-node probabilities of a run (storage/predictions.py); a key fixes the result, so runs
+# of one key in several suites share one row, and `show` reads them only when asked
+PREDICTIONS = Table(
+    "predictions",
+    METADATA,
+    Column("key", Text, primary_key=True),
+    Column("encoded", LargeBinary, nullable=False),
 )
 
 Store = str | Path | Location
@@ -68,8 +82,10 @@ def finished_keys(store: Store, suite: str) -> set[tuple[str, str]]:
 
 
 def save_run(store: Store, record: dict[str, Any]) -> bool:
-    """Insert one finished run and commit; False when it was stored already."""
+    """Insert one finished run (and its predictions, given as text) in one transaction;
+    False when it was stored already."""
     row = dict(record)
+    predictions = row.pop("predictions", None)
     for column in JSON_COLUMNS:
         row[column] = json.dumps(row.get(column, {} if column != "curve" else []), sort_keys=True)
     for column in NULLABLE_NUMBERS:
@@ -79,7 +95,12 @@ def save_run(store: Store, record: dict[str, Any]) -> bool:
     row.setdefault("finished_at", time.time())
     with opened(store, write=True) as connection:
         prepare(connection, RUNS)
-        return insert(connection, RUNS, row, replace=False)
+        stored = insert(connection, RUNS, row, replace=False)
+        if predictions is not None:
+            prepare(connection, PREDICTIONS)
+            encoded = {"key": row["key"], "encoded": base64.b64decode(predictions)}
+            insert(connection, PREDICTIONS, encoded, replace=False)
+        return stored
 
 
 def load_runs(store: Store, suites: Iterable[str] | None = None) -> pd.DataFrame:
@@ -93,3 +114,15 @@ def load_runs(store: Store, suites: Iterable[str] | None = None) -> pd.DataFrame
     for column in NULLABLE_NUMBERS:
         frame[column] = frame[column].astype(float)
     return frame
+
+
+def load_encoded_predictions(store: Store, keys: Iterable[str]) -> dict[str, bytes]:
+    """Stored prediction blobs of these run keys (keys without any are left out)."""
+    wanted = sorted(set(keys))
+    found: dict[str, bytes] = {}
+    with opened(store, write=False) as connection:
+        for start in range(0, len(wanted), 500):  # well below any bound-parameter limit
+            chunk = {"key": wanted[start : start + 500]}
+            rows = read_rows(connection, PREDICTIONS, chunk)
+            found.update((row["key"], bytes(row["encoded"])) for row in rows)
+    return found

@@ -9,6 +9,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from typing import Any
 
+import numpy as np
 import torch
 from torch import nn
 from torch_geometric.data import Data
@@ -18,6 +19,7 @@ from harness.data.feature_starts import contender_graph
 from harness.data.inductive import measure_arrival, training_subgraph
 from harness.data.splits import Split, make_split
 from harness.models import build_model
+from harness.models.generated import generated_modules_in
 from harness.planning import RunSpec
 from harness.schema.model_kinds import MODEL_KINDS, attends
 from harness.schema.training import Training
@@ -30,6 +32,21 @@ from harness.training.resources import peak_resident_mb, reset_peak_resident
 
 MEBIBYTE = 2**20
 ADAM_STATES = 2  # first and second moment per parameter
+
+
+@dataclass(frozen=True)
+class NodePredictions:
+    """Class probabilities (one row per node) of some nodes of a graph of `graph_nodes`."""
+
+    nodes: np.ndarray
+    probabilities: np.ndarray
+    graph_nodes: int
+
+    def as_dict(self) -> dict[str, list]:
+        return {
+            "nodes": self.nodes.tolist(),
+            "probabilities": self.probabilities.astype(float).round(4).tolist(),
+        }
 
 
 @dataclass(frozen=True)
@@ -48,6 +65,7 @@ class RunResult:
     curve: list[float] = field(default_factory=list)
     extras: dict[str, Any] = field(default_factory=dict)
     compiled: bool = False  # whether training ran compiled to the end (no fall-back)
+    predictions: NodePredictions | None = None  # of the test nodes, for the per-node breakdown
 
 
 class ActivationMeter:
@@ -181,6 +199,10 @@ def fit(
         name: score(name, test_logits, test_y, classes) if len(test_y) else float("nan")
         for name in METRICS
     }  # no test nodes while tuning
+    predictions = None
+    if len(test_y):
+        probabilities = torch.softmax(test_logits, dim=1).numpy()
+        predictions = NodePredictions(split.test.numpy(), probabilities, data.num_nodes)
     params = sum(p.numel() for p in model.parameters())
     parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
     peak = parameter_bytes * (2 + ADAM_STATES) + inputs + meter.bytes
@@ -201,6 +223,7 @@ def fit(
         curve=curve,
         extras=extras,
         compiled=compiled,
+        predictions=predictions,
     )
 
 
@@ -252,7 +275,8 @@ def perform(
     torch.manual_seed(spec.seed)
     classes = int(data.y.max()) + 1
     started = contender_graph(data, spec.options, spec.seed, spec.hop_cache)
-    model = build_model(spec.options, started.width, classes, started.embedding_rows)
+    with generated_modules_in(spec.hop_cache):
+        model = build_model(spec.options, started.width, classes, started.embedding_rows)
     inductive = None
     if spec.setting == "inductive":  # held-out nodes and their edges never reach training
         train_graph = training_subgraph(data, split)

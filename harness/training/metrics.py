@@ -16,7 +16,22 @@ def score(name: str, logits: torch.Tensor, labels: torch.Tensor, classes: int) -
         return float(accuracy_score(truth, logits.argmax(1).numpy()))
     if name == "macro_f1":
         return float(f1_score(truth, logits.argmax(1).numpy(), average="macro"))
-    probabilities = torch.softmax(logits, dim=1).double().numpy()
+    return roc_auc(torch.softmax(logits, dim=1).double().numpy(), truth, classes)
+
+
+def score_probabilities(
+    name: str, probabilities: np.ndarray, labels: np.ndarray, classes: int
+) -> float:
+    """Metric `name` from stored class probabilities (rows: nodes), as `score` from logits."""
+    if name == "accuracy":
+        return float(accuracy_score(labels, probabilities.argmax(1)))
+    if name == "macro_f1":
+        return float(f1_score(labels, probabilities.argmax(1), average="macro"))
+    return roc_auc(probabilities.astype(np.float64), labels, classes)
+
+
+def roc_auc(probabilities: np.ndarray, truth: np.ndarray, classes: int) -> float:
+    """One-vs-rest ROC-AUC; NaN when fewer than two classes are present."""
     if len(np.unique(truth)) < 2:
         return float("nan")  # ROC-AUC needs both classes; suites are checked for this up front
     if classes == 2:

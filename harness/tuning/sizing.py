@@ -16,6 +16,7 @@ from harness.data import load_graph
 from harness.data.feature_starts import start_features
 from harness.errors import InputError
 from harness.models import build_model
+from harness.models.generated import generated_modules_in
 from harness.planning import RunSpec
 
 TOLERANCE = 0.10
@@ -37,10 +38,12 @@ class Sized:
 
 
 def dimensions(spec: RunSpec) -> tuple[int, int, int]:
-    """Input width, classes and embedding rows of the graph the contender starts from."""
+    """Input width, output width (classes, or a link suite's embedding width) and embedding
+    rows of the graph the contender starts from."""
     data = load_graph(spec.data)
     started = start_features(data, spec.options, spec.seed)
-    return started.width, int(data.y.max()) + 1, started.embedding_rows
+    outputs = spec.link.embedding_width if spec.link is not None else int(data.y.max()) + 1
+    return started.width, outputs, started.embedding_rows
 
 
 def parameter_count(options: BaseModel, in_dim: int, out_dim: int, embedding_rows: int = 0) -> int:
@@ -65,7 +68,8 @@ def size_hidden(spec: RunSpec, target: int) -> Sized:
     shape = dimensions(spec)
 
     def count(hidden: int) -> int:
-        return parameter_count(spec.options.model_copy(update={"hidden": hidden}), *shape)
+        with generated_modules_in(spec.hop_cache):
+            return parameter_count(spec.options.model_copy(update={"hidden": hidden}), *shape)
 
     low, high = 1, _valid_widths(spec.options)
     while low < high:  # smallest width with count >= target
@@ -91,7 +95,8 @@ def target_count(target: str | int, bases: dict[str, RunSpec]) -> int:
     if isinstance(target, int):
         return target
     spec = bases[target]
-    return parameter_count(spec.options, *dimensions(spec))
+    with generated_modules_in(spec.hop_cache):
+        return parameter_count(spec.options, *dimensions(spec))
 
 
 def sizer(target: int):  # noqa: ANN201 - returns Callable[[RunSpec], RunSpec]

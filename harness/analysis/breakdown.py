@@ -1,0 +1,181 @@
+"""Per-node breakdown: every contender and comparison within groups of test nodes.
+
+For each grouping (degree, local homophily) and group, the suite's metric is computed per run
+from its stored test-node probabilities restricted to the group's nodes. Per group and
+variant: mean over seeds with a t-interval. Per group and comparison: the paired difference
+over seeds (attention minus baseline, metric points), judged by the suite-level rule
+(analysis/verdict.py) with Holm's adjustment over every group and comparison at once.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+import pandas as pd
+from torch_geometric.data import Data
+
+from harness.analysis.node_groups import NodeGroups, node_groups
+from harness.analysis.stats import POINTS, attention_side, holm, paired_test, t_interval
+from harness.analysis.verdict import BETTER, WORSE, judge_all, signed
+from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
+from harness.training.fit import NodePredictions
+from harness.training.metrics import score_probabilities
+
+COLUMNS = ["grouping", "group", "nodes", "attention", "baseline", "difference", "low", "high"]
+
+
+@dataclass(frozen=True)
+class Breakdown:
+    """Per-group metrics (`groups`), per-group comparisons (`comparisons`, the columns of
+    csv/breakdown.csv first) and one sentence on the headline comparison (`summary`)."""
+
+    groups: pd.DataFrame
+    comparisons: pd.DataFrame
+    summary: str
+    attention: str | None = None  # the headline comparison's sides
+    baseline: str | None = None
+
+    def headline_rows(self) -> pd.DataFrame:
+        """The rows of the headline comparison, lowest group first within each grouping."""
+        rows = self.comparisons
+        return rows[(rows["attention"] == self.attention) & (rows["baseline"] == self.baseline)]
+
+
+def group_scores(
+    runs: pd.DataFrame,
+    predictions: Mapping[str, NodePredictions],
+    data: Data,
+    groups: list[NodeGroups],
+) -> pd.DataFrame:
+    """One row per run and non-empty group: the run's metric on the group's test nodes."""
+    labels = data.y.numpy()
+    classes = int(labels.max()) + 1
+    rows = []
+    for run in runs.itertuples(index=False):
+        stored = predictions.get(run.key)
+        if stored is None:
+            continue
+        truth = labels[stored.nodes]
+        for grouping in groups:
+            members = grouping.of_node[stored.nodes]
+            for index, name in enumerate(grouping.labels):
+                chosen = members == index
+                if not chosen.any():
+                    continue
+                value = score_probabilities(
+                    run.metric, stored.probabilities[chosen], truth[chosen], classes
+                )
+                rows.append(
+                    {
+                        "grouping": grouping.grouping,
+                        "order": index,
+                        "group": name,
+                        "variant": run.variant,
+                        "attention_side": run.attention_side,
+                        "seed": run.seed,
+                        "nodes": int(chosen.sum()),
+                        "value": value,
+                    }
+                )
+    return pd.DataFrame(rows)
+
+
+def per_group(scores: pd.DataFrame, confidence: float) -> pd.DataFrame:
+    """Per grouping, group and variant: the metric over seeds with its t-interval."""
+    rows = []
+    keys = ["grouping", "order", "group", "variant"]
+    for (grouping, order, group, variant), chosen in scores.groupby(keys, sort=True):
+        values = chosen["value"].dropna().to_numpy(dtype=float)
+        low, high = t_interval(values, confidence)
+        rows.append(
+            {
+                "grouping": grouping,
+                "order": order,
+                "group": group,
+                "variant": variant,
+                "nodes": float(chosen["nodes"].mean()),
+                "seeds": len(values),
+                "mean": float(values.mean()) if len(values) else float("nan"),
+                "low": low,
+                "high": high,
+            }
+        )
+    return pd.DataFrame(rows)
+
+
+def per_group_comparisons(scores: pd.DataFrame, settings: Analysis) -> pd.DataFrame:
+    """Paired differences per group and comparison, judged, Holm over all of them."""
+    sides = scores.drop_duplicates("variant").set_index("variant")["attention_side"]
+    attention = [variant for variant, is_attention in sides.items() if is_attention]
+    baselines = [variant for variant, is_attention in sides.items() if not is_attention]
+    rows = []
+    for (grouping, order, group), chosen in scores.groupby(["grouping", "order", "group"]):
+        table = chosen.pivot(index="seed", columns="variant", values="value")
+        nodes = chosen.groupby("seed")["nodes"].first().mean()
+        for a in [v for v in attention if v in table]:
+            for b in [v for v in baselines if v in table]:
+                both = table[[a, b]].dropna()
+                differences = POINTS * (both[a] - both[b]).to_numpy()
+                rows.append(
+                    {"suite": "", "grouping": grouping, "group": group, "nodes": float(nodes)}
+                    | {"attention": a, "baseline": b, "order": order}
+                    | paired_test(differences, settings)
+                )
+    frame = pd.DataFrame(rows)
+    if frame.empty:
+        return pd.DataFrame(columns=[*COLUMNS, "seeds", "p_t_holm", "verdict"])
+    frame["p_t_holm"] = holm(frame["p_t"].to_numpy())
+    judged = judge_all(frame, settings)  # one family: every group and comparison
+    judged = judged.rename(columns={"mean_difference": "difference", "t_low": "low"})
+    judged = judged.rename(columns={"t_high": "high"})
+    judged = judged.sort_values(["attention", "baseline", "grouping", "order"], kind="stable")
+    rest = ["seeds", "std_difference", "p_t", "p_t_holm", "effect_size", "verdict", "reason"]
+    return judged[COLUMNS + rest].reset_index(drop=True)
+
+
+def summary_line(rows: pd.DataFrame, attention: str, baseline: str) -> str:
+    """Where the headline comparison's gain concentrates, in one sentence."""
+
+    def listed(chosen: pd.DataFrame) -> str:
+        ordered = chosen.reindex(chosen["difference"].abs().sort_values(ascending=False).index)
+        return ", ".join(
+            f"{r.grouping.replace('_', ' ')} {r.group} ({signed(r.difference)} points, "
+            f"{signed(r.low)} to {signed(r.high)})"
+            for r in ordered.itertuples()
+        )
+
+    gains, losses = rows[rows["verdict"] == BETTER], rows[rows["verdict"] == WORSE]
+    lead = f"{attention} against {baseline} by node group: "
+    if gains.empty and losses.empty:
+        return lead + "no group differs (each is inconclusive or within the minimum gain)."
+    parts = []
+    if not gains.empty:
+        parts.append(f"the gain concentrates in {listed(gains)}")
+    if not losses.empty:
+        parts.append(f"it loses in {listed(losses)}")
+    return lead + "; ".join(parts) + "; no other group differs."
+
+
+def breakdown(
+    runs: pd.DataFrame,
+    predictions: Mapping[str, NodePredictions],
+    data: Data,
+    settings: Analysis = DEFAULT_ANALYSIS,
+    headline: tuple[str, str] | None = None,
+) -> Breakdown:
+    """The per-node breakdown of one suite's runs (with a `variant` column, as
+    stats.with_variants gives) on its input graph; `headline` names the comparison the
+    summary is about (default: the first attention variant against the first baseline)."""
+    runs = runs.assign(attention_side=attention_side(runs, settings).to_numpy())
+    scores = group_scores(runs, predictions, data, node_groups(data, settings))
+    if scores.empty:
+        empty = pd.DataFrame(columns=COLUMNS)
+        return Breakdown(empty, empty, "No per-node predictions are stored for these runs.")
+    judged = per_group_comparisons(scores, settings)
+    groups = per_group(scores, settings.confidence)
+    if judged.empty:
+        return Breakdown(groups, judged, "No comparison: the suite lacks one of the two sides.")
+    attention, baseline = headline or (judged["attention"].iloc[0], judged["baseline"].iloc[0])
+    chosen = judged[(judged["attention"] == attention) & (judged["baseline"] == baseline)]
+    return Breakdown(groups, judged, summary_line(chosen, attention, baseline), attention, baseline)

@@ -1,0 +1,94 @@
+"""Seeded edge splits for link prediction, without leakage (PyG's RandomLinkSplit).
+
+The seed fixes which edges are held out and which non-edges are their negatives, so every
+contender scores the same pairs. An undirected edge is held out with both its directions.
+Training passes messages over the training edges only; validation is scored on that graph,
+and test on it too (plus the validation edges when the suite asks for it). Negatives of
+validation and test are non-edges of the whole graph, drawn once per seed.
+"""
+
+from __future__ import annotations
+
+import random
+import warnings
+from dataclasses import dataclass
+
+import torch
+from pydantic import BaseModel
+from torch_geometric.data import Data
+from torch_geometric.transforms import RandomLinkSplit
+from torch_geometric.utils import is_undirected
+
+from harness.errors import InputError
+
+
+@dataclass(frozen=True)
+class EdgeSplit:
+    """Message-passing graphs and scored pairs of one seed.
+
+    `train_positive` lists each training edge once (one direction of an undirected pair);
+    `*_pairs` are [2, n] node pairs with `*_labels` 1 for an edge and 0 for a negative.
+    """
+
+    train_graph: torch.Tensor
+    train_positive: torch.Tensor
+    validation_pairs: torch.Tensor
+    validation_labels: torch.Tensor
+    test_graph: torch.Tensor
+    test_pairs: torch.Tensor
+    test_labels: torch.Tensor
+    undirected: bool
+
+
+def edge_split(
+    data: Data, split: BaseModel, link: BaseModel, seed: int, tuning: bool = False
+) -> EdgeSplit:
+    """The edge split of a link suite for this seed; `tuning` leaves out the test pairs."""
+    undirected = is_undirected(data.edge_index, num_nodes=data.num_nodes)
+    pairs = data.edge_index.size(1) // (2 if undirected else 1)
+    for part in ("validation", "test"):
+        if int(getattr(split, part) * pairs) < 1:
+            raise InputError(
+                f"split.{part}: a {getattr(split, part):g} share of {pairs} edges holds no edge; "
+                "allowed: a graph with more edges or a larger share"
+            )
+    if pairs - int(split.validation * pairs) - int(split.test * pairs) < 1:
+        raise InputError(
+            f"split.train: {pairs} edges leave none for training; allowed: a larger train share"
+        )
+    splitter = RandomLinkSplit(
+        num_val=split.validation,
+        num_test=split.test,
+        is_undirected=undirected,
+        add_negative_train_samples=False,
+        neg_sampling_ratio=float(link.negatives_per_positive),
+    )
+    plain = Data(edge_index=data.edge_index, num_nodes=data.num_nodes)
+    state = random.getstate()  # PyG's negative sampling draws from Python's generator
+    try:
+        random.seed(seed)
+        with torch.random.fork_rng(), warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # too few non-edges: the shortfall is checked below
+            torch.manual_seed(seed)
+            train, validation, test = splitter(plain)
+    finally:
+        random.setstate(state)
+    for part, scored in (("validation", validation), ("test", test)):
+        positives = int(scored.edge_label.sum())
+        if int(len(scored.edge_label)) - positives < positives * link.negatives_per_positive:
+            raise InputError(
+                f"link.negatives_per_positive: the graph has too few non-edges for "
+                f"{link.negatives_per_positive} negatives per {part} edge; allowed: fewer"
+            )
+    test_graph = test.edge_index if link.validation_edges_at_test else train.edge_index
+    empty = test.edge_label_index[:, :0]
+    return EdgeSplit(
+        train_graph=train.edge_index,
+        train_positive=train.edge_label_index,
+        validation_pairs=validation.edge_label_index,
+        validation_labels=validation.edge_label,
+        test_graph=test_graph,
+        test_pairs=empty if tuning else test.edge_label_index,
+        test_labels=test.edge_label[:0] if tuning else test.edge_label,
+        undirected=undirected,
+    )

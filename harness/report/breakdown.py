@@ -1,0 +1,112 @@
+"""The per-node breakdown as report tables, and the report's tables and CSV frames with it.
+
+Formatting only: every figure comes from the SuiteReport's Breakdown
+(harness.analysis.breakdown).
+"""
+
+from __future__ import annotations
+
+import pandas as pd
+
+from harness.analysis.suite_report import SuiteReport
+from harness.formatting import fixed, interval, p_text, signed, signed_interval
+from harness.report.tables import TextTable, _table, all_tables, frames, report_metric
+
+TERMINAL_ROWS = 12
+
+
+def _grouping(name: str) -> str:
+    return name.replace("_", " ")
+
+
+def _where(row: object) -> list[str]:
+    """Grouping, group and test nodes per seed of a breakdown row."""
+    return [_grouping(row.grouping), row.group, f"{row.nodes:.0f}"]
+
+
+def _difference(row: object) -> list[str]:
+    """Difference, interval, Holm p and verdict of a breakdown row."""
+    interval_text = signed_interval(row.low, row.high)
+    return [signed(row.difference, 2), interval_text, p_text(row.p_t_holm), row.verdict]
+
+
+def headline_table(
+    report: SuiteReport, rows: int | None = None, summary: bool = True
+) -> TextTable | None:
+    """The headline comparison per node group (the first `rows` rows, all when None); its
+    note starts with the breakdown's summary sentence unless `summary` is False."""
+    nodes = report.breakdown
+    if nodes is None or nodes.attention is None:
+        return None
+    chosen = nodes.headline_rows()
+    means = nodes.groups.set_index(["grouping", "group", "variant"])["mean"]
+    sides = (nodes.attention, nodes.baseline)
+    level = f"{report.settings.confidence:.0%}"
+    lines = [
+        _where(r)
+        + [fixed(means.get((r.grouping, r.group, side), float("nan"))) for side in sides]
+        + _difference(r)
+        for r in chosen.itertuples()
+    ]
+    shown = lines if rows is None else lines[:rows]
+    header = ["grouping", "group", "nodes", nodes.attention, nodes.baseline]
+    header += ["difference (points)", f"{level} t-interval", "Holm p", "verdict"]
+    more = len(lines) - len(shown)
+    note = (
+        (f"{nodes.summary} " if summary else "")
+        + "nodes: test nodes of the group per seed (mean). Columns 4 and 5: "
+        f"test {report_metric(report)} of each side on the group's nodes; difference: attention "
+        "minus baseline on shared seeds; Holm's adjustment runs over every group and comparison."
+        + (f" {more} more rows in csv/breakdown.csv." if more else "")
+    )
+    title = f"Per-node breakdown: {nodes.attention} against {nodes.baseline}"
+    return _table("breakdown_headline", title, header, shown, note)
+
+
+def comparison_rows_table(report: SuiteReport) -> TextTable:
+    """Every comparison in every node group."""
+    level = f"{report.settings.confidence:.0%}"
+    lines = [
+        [r.attention, r.baseline, *_where(r), *_difference(r)]
+        for r in report.breakdown.comparisons.itertuples()
+    ]
+    header = ["attention", "baseline", "grouping", "group", "nodes", "difference (points)"]
+    header += [f"{level} t-interval", "Holm p", "verdict"]
+    return _table("breakdown", "Per-node breakdown, every comparison", header, lines)
+
+
+def group_table(report: SuiteReport) -> TextTable:
+    """Each variant's metric per node group with its t-interval."""
+    groups = report.breakdown.groups
+    variants = list(dict.fromkeys(groups["variant"]))
+    lines = []
+    for (grouping, _, group), chosen in groups.groupby(["grouping", "order", "group"]):
+        by_variant = {r.variant: r for r in chosen.itertuples()}
+        cells = [
+            f"{fixed(by_variant[v].mean)} ({interval(by_variant[v].low, by_variant[v].high)})"
+            if v in by_variant
+            else "-"
+            for v in variants
+        ]
+        lines.append([_grouping(grouping), group, f"{chosen['nodes'].mean():.0f}", *cells])
+    note = f"Mean test {report_metric(report)} over seeds on the group's test nodes (t-interval)."
+    header = ["grouping", "group", "nodes", *variants]
+    return _table("breakdown_groups", "Contenders by node group", header, lines, note)
+
+
+def report_tables(report: SuiteReport) -> list[TextTable]:
+    """The report's tables in reading order, the per-node breakdown last when present."""
+    tables = all_tables(report)
+    headline = headline_table(report)
+    if headline is None:
+        return tables
+    return [*tables, headline, group_table(report), comparison_rows_table(report)]
+
+
+def report_frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
+    """The analysis DataFrames by CSV file stem; breakdown.csv holds every group comparison."""
+    out = frames(report)
+    if report.breakdown is not None and not report.breakdown.comparisons.empty:
+        out["breakdown"] = report.breakdown.comparisons
+        out["breakdown_groups"] = report.breakdown.groups.drop(columns=["order"])
+    return out
