@@ -176,6 +176,7 @@ def test_a_link_suite_runs_stores_every_metric_and_passes_its_own_gate(
     assert main(["run", str(suite), "--store", str(runs_db), "--quiet"]) == 0
     out = capsys.readouterr().out
     assert "test average precision" in out and "Verdict:" in out
+    assert "Same label skipped: these runs used no node labels." in " ".join(out.split())
     runs = store.load_runs(runs_db, ["tiny_stations"])
     assert len(runs) == 4 and runs["metric"].eq("average_precision").all()
     assert runs["test_metric"].equals(runs["test_average_precision"])

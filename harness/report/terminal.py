@@ -110,12 +110,14 @@ def axis_level_table(
 
 def attention_diagnostics_table(attention: pd.DataFrame) -> Table:
     """Per variant: does its attention differ from neighbour averaging?"""
+    unlabelled = bool(attention["same_label_share"].isna().all())
     table = Table(
         title="Attention diagnostics (mean over layers, heads and seeds)",
         title_justify="left",
         caption="entropy: relative to uniform attention over the same neighbourhood (1 = "
         "uniform). Shares: attention on the self-loop, and on same-label neighbours; in "
-        "brackets what uniform attention would give.",
+        "brackets what uniform attention would give."
+        + (" Same label skipped: these runs used no node labels." if unlabelled else ""),
         caption_justify="left",
     )
     for header in ("contender", "runs", "entropy", "self share", "same label"):

@@ -16,7 +16,7 @@ from optuna.trial import TrialState
 from harness.errors import InputError
 from harness.planning import with_settings
 from harness.schema.suite import Suite
-from harness.tuning.sizing import parameter_table, size_hidden, target_count
+from harness.tuning.sizing import attribute_frame, parameter_table, size_hidden, target_count
 from harness.tuning.study import best_settings, tuning_plan
 from harness.tuning.trial_states import FINISHED, usage
 
@@ -99,23 +99,9 @@ def tuning_summary(suite: Suite, storage: optuna.storages.BaseStorage) -> list[C
 
 def summary_frame(summaries: list[ContenderTuning]) -> pd.DataFrame:
     """One row per contender: budget, trials completed, pruned and failed, time, best score."""
-    return pd.DataFrame(
-        [
-            {
-                "contender": s.contender,
-                "model": s.model,
-                "budget_trials": s.budget_trials,
-                "budget_seconds": s.budget_seconds,
-                "completed": s.completed,
-                "pruned": s.pruned,
-                "failed": s.failed,
-                "seconds": s.seconds,
-                "epochs": s.epochs,
-                "best_validation": s.best_value,
-            }
-            for s in summaries
-        ]
-    )
+    names = ("contender", "model", "budget_trials", "budget_seconds", "completed", "pruned")
+    columns = {name: name for name in (*names, "failed", "seconds", "epochs")}
+    return attribute_frame(summaries, columns | {"best_validation": "best_value"})
 
 
 def settings_frame(summaries: list[ContenderTuning]) -> pd.DataFrame:

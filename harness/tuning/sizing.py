@@ -8,6 +8,7 @@ freshly built models. A contender matches when |count - target| <= 10% of the ta
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from typing import Any
 
 import pandas as pd
 from pydantic import BaseModel
@@ -109,17 +110,14 @@ def sizer(target: int):  # noqa: ANN201 - returns Callable[[RunSpec], RunSpec]
     return resize
 
 
+def attribute_frame(items: list[Any], columns: dict[str, str]) -> pd.DataFrame:
+    """One row per item: each column (key) holds the item's attribute of that name (value)."""
+    return pd.DataFrame(
+        [{column: getattr(item, name) for column, name in columns.items()} for item in items]
+    )
+
+
 def parameter_table(sized: list[Sized]) -> pd.DataFrame:
     """Contender, hidden width, parameters, target and relative deviation."""
-    return pd.DataFrame(
-        [
-            {
-                "contender": s.contender,
-                "hidden": s.hidden,
-                "params": s.params,
-                "target": s.target,
-                "deviation": s.deviation,
-            }
-            for s in sized
-        ]
-    )
+    names = ("contender", "hidden", "params", "target", "deviation")
+    return attribute_frame(sized, {name: name for name in names})
