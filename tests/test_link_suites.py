@@ -97,7 +97,6 @@ def test_a_link_suite_defaults_to_roc_auc_and_a_node_suite_keeps_accuracy():
         ),
         ({"task": None, "link": {"hits_k": 5}}, "s.toml: link: [link] is for task"),
         ({"homophily_map": {}}, "s.toml: homophily_map: not available for link prediction"),
-        ({"setting": "inductive"}, "s.toml: setting: given 'inductive'; not available for link"),
         ({"split": {"method": "per_class"}}, "s.toml: split: method 'per_class' is for node"),
         ({"split": {"train": 0.5, "validation": 0.1, "test": 0.1}}, "s.toml: split: train +"),
         ({"link": {"decoder": "cosine"}}, "s.toml: link.decoder: given 'cosine'"),

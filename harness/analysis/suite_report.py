@@ -199,6 +199,13 @@ def node_breakdown(store_path: str | Path, suite: str | Path) -> pd.DataFrame:
     csv/breakdown.csv, then seeds, p-values and verdicts."""
     if not Path(suite).is_file():
         raise InputError(f"{suite}: suite file not found; the breakdown reads the suite's data")
+    from harness.planning import load_suite
+
+    if load_suite(suite).task == "link_prediction":
+        raise InputError(
+            f"{suite}: task: given 'link_prediction'; the per-node breakdown groups scored test "
+            "nodes, which a link suite has not; allowed: a node classification suite"
+        )
     report = analyse_store(store_path, suite)
     if report.breakdown is None:
         raise InputError(f"{store_path}: no per-node predictions stored for suite '{suite}'")

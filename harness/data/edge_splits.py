@@ -28,6 +28,7 @@ class EdgeSplit:
 
     `train_positive` lists each training edge once (one direction of an undirected pair);
     `*_pairs` are [2, n] node pairs with `*_labels` 1 for an edge and 0 for a negative.
+    `train_nodes` (inductive splits) are the nodes training negatives are drawn among.
     """
 
     train_graph: torch.Tensor
@@ -38,6 +39,7 @@ class EdgeSplit:
     test_pairs: torch.Tensor
     test_labels: torch.Tensor
     undirected: bool
+    train_nodes: torch.Tensor | None = None  # inductive: training pairs only among these
 
 
 def edge_split(

@@ -9,9 +9,9 @@ from torch_geometric.data import Data
 
 from harness.data import load_graph
 from harness.data.assemble import cleaning_notes, edge_count
-from harness.data.edge_splits import edge_split
 from harness.data.feature_starts import check_contender_graphs
 from harness.data.homophily import measure_homophily
+from harness.data.inductive_edges import EDGE_SPLITS
 from harness.data.splits import make_split
 from harness.errors import InputError
 from harness.execution.memory import GraphSize
@@ -57,7 +57,7 @@ def check_edge_splits(suite: Suite, data: Data, source: str) -> None:
     """Every seed's edge split: enough edges for each share and enough non-edges."""
     for seed in suite.seed_list:
         try:
-            edge_split(data, suite.split, suite.link_options, seed)
+            EDGE_SPLITS[suite.setting](data, suite.split, suite.link_options, seed)
         except InputError as error:
             raise InputError(f"{source}: {error}") from None
 

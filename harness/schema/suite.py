@@ -96,16 +96,6 @@ class Suite(StrictModel):
             )
         return split
 
-    @field_validator("setting")
-    @classmethod
-    def _link_setting(cls, setting: str, info: ValidationInfo) -> str:
-        if info.data.get("task") == "link_prediction" and setting != "transductive":
-            raise ValueError(
-                "not available for link prediction (new-node arrival is not extended to link "
-                "suites); allowed: transductive"
-            )
-        return setting
-
     @field_validator(*NOT_FOR_LINKS)
     @classmethod
     def _not_for_links(cls, value: Any, info: ValidationInfo) -> Any:
@@ -140,6 +130,19 @@ class Suite(StrictModel):
             if not NAME_PATTERN.fullmatch(name):
                 raise ValueError(f"contender name {name!r} is not allowed; {NAMES_ALLOWED}")
         return contenders
+
+    @field_validator("analysis")
+    @classmethod
+    def _no_breakdown_bins_for_links(cls, analysis: Analysis, info: ValidationInfo) -> Analysis:
+        if info.data.get("task") != "link_prediction":
+            return analysis
+        for key in ("local_homophily_edges", "degree_edges"):
+            if key in analysis.model_fields_set:
+                raise ValueError(
+                    f"{key} is for the per-node breakdown, not available for link prediction "
+                    "(it groups scored test nodes); allowed: leave it out"
+                )
+        return analysis
 
     @field_validator("analysis")
     @classmethod

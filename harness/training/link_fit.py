@@ -20,8 +20,9 @@ from torch_geometric.data import Data
 from torch_geometric.utils import negative_sampling
 
 from harness.data import load_graph
-from harness.data.edge_splits import EdgeSplit, edge_split
+from harness.data.edge_splits import EdgeSplit
 from harness.data.feature_starts import StartedGraph, contender_graph
+from harness.data.inductive_edges import EDGE_SPLITS
 from harness.models.decoders import LinkModel, build_link_model
 from harness.planning import RunSpec
 from harness.schema.model_kinds import attends
@@ -41,9 +42,18 @@ LABELS_NOTE = "same-label share skipped: link prediction uses no node labels"
 
 
 def training_pairs(split: EdgeSplit, nodes: int, ratio: int) -> tuple[torch.Tensor, torch.Tensor]:
-    """The training edges and fresh negatives drawn from the torch generator, with labels."""
+    """The training edges and fresh negatives, among the training nodes alone when the split
+    names them (inductive), with labels."""
     positive = split.train_positive
-    negative = negative_sampling(split.train_graph, nodes, positive.size(1) * ratio)
+    if split.train_nodes is None:
+        negative = negative_sampling(split.train_graph, nodes, positive.size(1) * ratio)
+    else:
+        local = torch.full((nodes,), -1, dtype=torch.long)
+        local[split.train_nodes] = torch.arange(len(split.train_nodes))
+        drawn = negative_sampling(
+            local[split.train_graph], len(split.train_nodes), positive.size(1) * ratio
+        )
+        negative = split.train_nodes[drawn]
     pairs = torch.cat([positive, negative], dim=1)
     labels = torch.cat([torch.ones(positive.size(1)), torch.zeros(negative.size(1))])
     return pairs, labels
@@ -125,7 +135,8 @@ def perform_links(
     """Data, edge split, initialisation from the spec's seed, then fit; test pairs are never
     scored with `validation_only` (tuning)."""
     data = load_graph(spec.data)
-    split = edge_split(data, spec.split, spec.link, spec.seed, tuning=validation_only)
+    splitter = EDGE_SPLITS[spec.setting]
+    split = splitter(data, spec.split, spec.link, spec.seed, tuning=validation_only)
     torch.manual_seed(spec.seed)
     random.seed(spec.seed)  # PyG draws the fresh training negatives from Python's generator
     seen = graph_view(data, split.train_graph, spec)  # features and hops from training edges
