@@ -86,13 +86,13 @@ class Suite(StrictModel):
         if split.method != "fractions":
             raise ValueError(
                 f"method '{split.method}' is for node classification; allowed for link "
-                "prediction: fractions (shares of the edges)"
+                "prediction: fractions (shares of the edges, or of the nodes when inductive)"
             )
         total = split.train + split.validation + split.test
         if abs(total - 1) > 1e-9:
             raise ValueError(
                 f"train + validation + test = {total:g}; allowed for link prediction: shares "
-                "of the edges that sum to 1"
+                "of the edges (of the nodes when inductive) that sum to 1"
             )
         return split
 
