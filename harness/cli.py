@@ -21,19 +21,27 @@ def command_check(args: argparse.Namespace) -> int:
 
 
 def command_run(args: argparse.Namespace) -> int:
-    from harness.commands.run import RunOutcome, run_homophily_map, run_suite
+    from harness.commands.run import RunOutcome, connected_cluster, run_homophily_map, run_suite
 
     feedback = screen.feedback(args.quiet)
-    outcome = run_suite(
-        args.suite, args.store, args.jobs, args.threads, args.storage, args.memory_limit, feedback
-    )
-    if not isinstance(outcome, RunOutcome):
-        screen.show_tuned(outcome)
-        return outcome.status
-    screen.show_run(outcome)
-    if outcome.status or outcome.suite.homophily_map is None:
-        return outcome.status
-    mapped = run_homophily_map(outcome, args.jobs, args.threads, feedback)
+    with connected_cluster(checked_cluster(args)) as cluster:
+        outcome = run_suite(
+            args.suite,
+            args.store,
+            args.jobs,
+            args.threads,
+            args.storage,
+            args.memory_limit,
+            feedback,
+            cluster,
+        )
+        if not isinstance(outcome, RunOutcome):
+            screen.show_tuned(outcome)
+            return outcome.status
+        screen.show_run(outcome)
+        if outcome.status or outcome.suite.homophily_map is None:
+            return outcome.status
+        mapped = run_homophily_map(outcome, args.jobs, args.threads, feedback, cluster)
     screen.show_map(mapped)
     return mapped.status
 
@@ -65,27 +73,32 @@ def command_show(args: argparse.Namespace) -> int:
 
 def command_baseline(args: argparse.Namespace) -> int:
     from harness.commands.gates import baseline
+    from harness.commands.run import connected_cluster
 
-    outcome = baseline(
-        args.suite, args.save, args.store, args.jobs, args.threads, screen.feedback()
-    )
+    with connected_cluster(checked_cluster(args)) as cluster:
+        outcome = baseline(
+            args.suite, args.save, args.store, args.jobs, args.threads, screen.feedback(), cluster
+        )
     screen.show_baseline(outcome)
     return outcome.status
 
 
 def command_gate(args: argparse.Namespace) -> int:
     from harness.commands.gates import gate
+    from harness.commands.run import connected_cluster
 
-    outcome = gate(
-        args.suite,
-        args.baseline,
-        args.store,
-        args.jobs,
-        args.threads,
-        args.junit,
-        args.markdown,
-        screen.feedback(),
-    )
+    with connected_cluster(checked_cluster(args)) as cluster:
+        outcome = gate(
+            args.suite,
+            args.baseline,
+            args.store,
+            args.jobs,
+            args.threads,
+            args.junit,
+            args.markdown,
+            screen.feedback(),
+            cluster,
+        )
     screen.show_gate(outcome)
     return outcome.status
 
@@ -104,6 +117,27 @@ def command_report(args: argparse.Namespace) -> int:
     outcome = report(args.store, args.suite, args.out)
     screen.show_report(outcome)
     return outcome.status
+
+
+def checked_cluster(args: argparse.Namespace) -> str | None:
+    """--cluster or --jobs, not both."""
+    if args.cluster is not None and args.jobs > 1:
+        raise InputError("--cluster and --jobs: given both; allowed: one of them")
+    return args.cluster
+
+
+def cluster_address(text: str) -> str:
+    """local:N with N >= 1, or a scheduler address such as tcp://10.0.0.5:8786."""
+    kind, _, rest = text.partition(":")
+    if kind == "local":
+        if rest.isdigit() and int(rest) >= 1:
+            return text
+        raise argparse.ArgumentTypeError(f"given {text!r}; allowed: local:N with N >= 1")
+    if not rest or any(character.isspace() for character in text):
+        raise argparse.ArgumentTypeError(
+            f"given {text!r}; allowed: a scheduler address such as tcp://10.0.0.5:8786, or local:N"
+        )
+    return text
 
 
 def positive_int(text: str) -> int:
@@ -170,6 +204,13 @@ def parser() -> argparse.ArgumentParser:
 
     def with_jobs(sub: argparse.ArgumentParser) -> None:
         sub.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
+        sub.add_argument(
+            "--cluster",
+            type=cluster_address,
+            metavar="ADDRESS",
+            help="run on the Dask scheduler at ADDRESS (tcp://host:8786), or on a throw-away "
+            "local cluster of N worker processes (local:N); this process stores every result",
+        )
         sub.add_argument(
             "--threads",
             type=positive_int,

@@ -50,6 +50,11 @@ def feedback(quiet: bool = False) -> Feedback:
 
 
 def interrupted(executed: Executed, store: object) -> None:
+    """Why an execution stopped: Ctrl-C, or one line per run that could not finish."""
+    if not executed.interrupted:
+        for line in executed.failures:
+            errors.print(f"heedful: error: {line}", soft_wrap=True)
+        return
     errors.print(
         f"interrupted: {executed.trained} runs finished and stored in {store}; "
         "run the same command again to continue"
@@ -89,7 +94,7 @@ def show_run(outcome: RunOutcome) -> None:
         print_verdicts,
     )
 
-    if outcome.executed.interrupted:
+    if outcome.executed.stopped:
         interrupted(outcome.executed, outcome.store)
         return
     executed = outcome.executed
@@ -106,8 +111,11 @@ def show_run(outcome: RunOutcome) -> None:
 def show_map(outcome: MapOutcome) -> None:
     from harness.report.homophily_map import print_homophily_map
 
-    if outcome.executed.interrupted:
-        errors.print(f"interrupted: homophily map runs so far are stored in {outcome.store}")
+    if outcome.executed.failures:
+        interrupted(outcome.executed, outcome.store)
+    if outcome.executed.stopped:
+        if outcome.executed.interrupted:
+            errors.print(f"interrupted: homophily map runs so far are stored in {outcome.store}")
         return
     print_homophily_map(outcome.summary, console)
 
@@ -160,7 +168,7 @@ def show_runs(outcome: ShowOutcome, form: str) -> None:
 
 
 def show_baseline(outcome: BaselineOutcome) -> None:
-    if outcome.executed.interrupted:
+    if outcome.executed.stopped:
         interrupted(outcome.executed, outcome.store)
         return
     console.print(

@@ -42,12 +42,13 @@ def _run_for_gate(
     jobs: int,
     threads: int,
     feedback: Feedback,
+    cluster=None,
 ) -> Executed:
     check_threads(jobs, threads)
     todo = len(pending(specs, store_path))
     if todo:
         feedback.note(f"{suite.name}: training {todo} runs, reusing {len(specs) - todo}")
-    return execute_specs(specs, store_path, jobs, threads, SILENT)
+    return execute_specs(specs, store_path, jobs, threads, SILENT, cluster=cluster)
 
 
 @dataclass(frozen=True)
@@ -70,13 +71,14 @@ def baseline(
     jobs: int,
     threads: int,
     feedback: Feedback = SILENT,
+    cluster=None,
 ) -> BaselineOutcome:
     suite = load_suite(suite_path)
     check_gateable(suite, suite_path)
     specs = expand(suite)
     preflight(suite, suite_path)
-    executed = _run_for_gate(suite, specs, store_path, jobs, threads, feedback)
-    if executed.interrupted:
+    executed = _run_for_gate(suite, specs, store_path, jobs, threads, feedback, cluster)
+    if executed.stopped:
         return BaselineOutcome(suite, store_path, executed, len(specs))
     document = build_baseline(
         suite, specs, spec_runs(store_path, specs), environment_fingerprint(threads)
@@ -107,6 +109,7 @@ def gate(
     junit: Path | None = None,
     markdown: Path | None = None,
     feedback: Feedback = SILENT,
+    cluster=None,
 ) -> GateRun:
 
     suite = load_suite(suite_path)
@@ -115,8 +118,8 @@ def gate(
     specs = expand(suite)
     check_matches(stored, suite, specs, baseline_path)
     preflight(suite, suite_path)
-    executed = _run_for_gate(suite, specs, store_path, jobs, threads, feedback)
-    if executed.interrupted:
+    executed = _run_for_gate(suite, specs, store_path, jobs, threads, feedback, cluster)
+    if executed.stopped:
         return GateRun(store_path, executed)
     environment = environment_fingerprint(threads)
     differences = environment_differences(stored.environment.model_dump(), environment)

@@ -6,12 +6,15 @@ start before them, so that their imports overlap this process's.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+from contextlib import contextmanager
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 
 from harness.commands.feedback import SILENT, Feedback
+from harness.errors import InputError
 from harness.planning import load_suite
 from harness.schema.suite import Suite
 
@@ -19,19 +22,46 @@ if TYPE_CHECKING:
     from harness.storage.database import Location
 
 INTERRUPTED = 130
+RUNS_FAILED = 3
 
 
 @dataclass(frozen=True)
 class Executed:
-    """What an execution did: runs trained, reused from the store, and whether it was cut off."""
+    """What an execution did: runs trained, reused from the store, whether it was cut off, and
+    one line per run that could not finish (naming its spec)."""
 
     trained: int
     reused: int
     interrupted: bool
+    failures: tuple[str, ...] = ()
+
+    @property
+    def stopped(self) -> bool:
+        return self.interrupted or bool(self.failures)
 
     @property
     def status(self) -> int:
-        return INTERRUPTED if self.interrupted else 0
+        if self.interrupted:
+            return INTERRUPTED
+        return RUNS_FAILED if self.failures else 0
+
+
+@contextmanager
+def connected_cluster(address: str | None) -> Iterator[Any]:
+    """The Dask cluster of `--cluster` (its workers checked before anything is stored), or
+    None without one; the cluster is handed to the command functions below."""
+    if address is None:
+        yield None
+        return
+    try:
+        from harness.execution.cluster import connected
+    except ImportError:
+        raise InputError(
+            "--cluster: Dask's distributed is not installed; allowed: install Heedful's "
+            "`cluster` extra (pip install 'heedful[cluster]')"
+        ) from None
+    with connected(address) as cluster:
+        yield cluster
 
 
 @dataclass(frozen=True)
@@ -88,15 +118,27 @@ class MapOutcome:
 
 
 def execute_specs(
-    specs: list, store_path: Location, jobs: int, threads: int, feedback: Feedback, workers=None
+    specs: list,
+    store_path: Location,
+    jobs: int,
+    threads: int,
+    feedback: Feedback,
+    workers=None,
+    cluster=None,
 ) -> Executed:
-    """Run the specs not stored yet, counting each finished run in the feedback's progress."""
+    """Run the specs not stored yet on local processes (or on the cluster of `cluster`),
+    counting each finished run in the feedback's progress."""
     from harness.execution.local import execute, pending
 
     todo = len(pending(specs, store_path))
     with feedback.progress(specs[0].suite if specs else "", todo) as advance:
-        done = execute(specs, store_path, jobs, lambda _: advance(), workers, threads)
-    return Executed(done.finished, done.skipped, done.interrupted)
+        if cluster is None:
+            done = execute(specs, store_path, jobs, lambda _: advance(), workers, threads)
+        else:
+            from harness.execution.cluster import execute_on_cluster
+
+            done = execute_on_cluster(specs, store_path, cluster, threads, lambda _: advance())
+    return Executed(done.finished, done.skipped, done.interrupted, done.failures)
 
 
 def run_suite(
@@ -107,6 +149,7 @@ def run_suite(
     storage: str | None,
     memory_limit: float | None = None,
     feedback: Feedback = SILENT,
+    cluster=None,
 ) -> RunOutcome | TunedOutcome:
     """Run or tune a suite file, reusing stored runs; stops before training when a run's
     estimated peak memory (times `jobs`) exceeds `memory_limit` GiB (default: the machine's)."""
@@ -117,7 +160,7 @@ def run_suite(
     check_threads(jobs, threads)
     if suite.tuning is not None:
         return run_tuned(
-            suite, suite_path, store_path, jobs, threads, storage, memory_limit, feedback
+            suite, suite_path, store_path, jobs, threads, storage, memory_limit, feedback, cluster
         )
     check_suite_memory(suite, suite_path, jobs, memory_limit)  # synthetic: before data
     # spawned workers start before the heavy imports below, so that theirs overlap this
@@ -127,7 +170,7 @@ def run_suite(
     workers = start_workers(jobs - 1, threads, preload) if early else None
     try:
         return run_fixed(
-            suite, suite_path, store_path, jobs, threads, memory_limit, feedback, workers
+            suite, suite_path, store_path, jobs, threads, memory_limit, feedback, workers, cluster
         )
     except BaseException:
         if workers is not None:
@@ -144,6 +187,7 @@ def run_fixed(
     memory_limit: float | None,
     feedback: Feedback,
     workers=None,
+    cluster=None,
 ) -> RunOutcome:
     from harness.analysis.axes import ablation_view, label_points
     from harness.analysis.stats import summarise
@@ -158,8 +202,8 @@ def run_fixed(
     facts = preflight(suite, suite_path)
     check_suite_memory(suite, suite_path, jobs, memory_limit, facts.size)
     profile = record_profile(suite, store_path)
-    executed = execute_specs(specs, store_path, jobs, threads, feedback, workers)
-    if executed.interrupted:
+    executed = execute_specs(specs, store_path, jobs, threads, feedback, workers, cluster)
+    if executed.stopped:
         return RunOutcome(suite, store_path, executed)
     runs = spec_runs(store_path, specs)
     return RunOutcome(
@@ -174,7 +218,7 @@ def run_fixed(
 
 
 def run_homophily_map(
-    outcome: RunOutcome, jobs: int, threads: int, feedback: Feedback = SILENT
+    outcome: RunOutcome, jobs: int, threads: int, feedback: Feedback = SILENT, cluster=None
 ) -> MapOutcome:
     """The suite's contenders on synthetic graphs matched to its data, across edge homophily."""
     from harness.analysis.homophily_map import summarise_map
@@ -184,8 +228,8 @@ def run_homophily_map(
     suite, store_path = outcome.suite, outcome.store
     specs = map_specs(suite, outcome.profile)
     feedback.note(f"homophily map: {len(specs)} runs on matched synthetic graphs")
-    executed = execute_specs(specs, store_path, jobs, threads, SILENT)
-    if executed.interrupted:
+    executed = execute_specs(specs, store_path, jobs, threads, SILENT, cluster=cluster)
+    if executed.stopped:
         return MapOutcome(len(specs), store_path, executed)
     summary = summarise_map(spec_runs(store_path, specs), outcome.profile, suite.metric)
     return MapOutcome(len(specs), store_path, executed, summary)
@@ -206,7 +250,7 @@ def tuning_frames(suite: Suite, storage_url: str) -> TuningFrames:
     from harness.tuning.storage import open_storage
 
     tuning = suite.tuning
-    storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)
+    storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds, False)
     summaries = results.tuning_summary(suite, storage)
     return TuningFrames(
         results.summary_frame(summaries),
@@ -225,6 +269,7 @@ def run_tuned(
     storage: str | None,
     memory_limit: float | None,
     feedback: Feedback,
+    cluster=None,
 ) -> TunedOutcome:
     """Tune every contender with one budget, then run the seeded repeats (shared storage)."""
     from harness.analysis.stats import summarise
@@ -236,14 +281,25 @@ def run_tuned(
     from harness.tuning.storage import parse_url, shown
     from harness.tuning.workers import work_in_processes
 
+    if cluster is not None:
+        from harness.tuning.on_cluster import check_shared
+        from harness.tuning.storage import default_storage_url
+
+        check_shared(cluster.address, storage or default_storage_url(store_path))
     url = checked_storage(suite, store_path, storage)  # a bad storage fails before any write
     check_suite_memory(suite, suite_path, jobs, memory_limit)
     facts = preflight(suite, suite_path)
     check_suite_memory(suite, suite_path, jobs, memory_limit, facts.size)
     record_profile(suite, store_path)
     shown_url = shown(parse_url(url))  # never the password
-    feedback.note(f"{suite.name}: tuning with {jobs} worker(s) on storage {shown_url}")
-    work = work_in_processes(suite_path, store_path, url, jobs, threads)
+    where = f"{jobs} worker(s)" if cluster is None else f"the cluster {cluster.address}"
+    feedback.note(f"{suite.name}: tuning with {where} on storage {shown_url}")
+    if cluster is None:
+        work = work_in_processes(suite_path, store_path, url, jobs, threads)
+    else:
+        from harness.tuning.on_cluster import work_on_cluster
+
+        work = work_on_cluster(suite, store_path, url, cluster, threads)
     frames = tuning_frames(suite, url)
     runs = store.load_runs(store_path, [suite.name])
     runs = runs[runs["key"].isin(work.keys)]

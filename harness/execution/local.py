@@ -37,6 +37,7 @@ class Outcome:
     skipped: int
     finished: int
     interrupted: bool
+    failures: tuple[str, ...] = ()  # one line per run that could not finish, naming its spec
 
 
 def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:

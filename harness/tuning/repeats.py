@@ -11,7 +11,6 @@ from __future__ import annotations
 import time
 from collections.abc import Callable
 from dataclasses import replace
-from pathlib import Path
 
 import optuna
 from optuna.trial import FrozenTrial, Trial, TrialState
@@ -44,7 +43,7 @@ def run_repeats(
     settings: dict[str, dict],
     study_names: dict[str, str],
     resize: Callable | None,
-    store_path: str | Path,
+    store_path: store.Store | None,
 ) -> None:
     """Run enqueued repeats until every (contender, seed) has a completed trial."""
     specs = {(s.contender, s.seed): s for s in expand(suite)}
@@ -71,7 +70,8 @@ def run_repeats(
         record = record_of(spec, replace(result, extras=extras))
         first_live(trial, key)
         trial.set_user_attr("record", record)
-        store.save_run(store_path, record)
+        if store_path is not None:  # None on a cluster worker: the submitter stores
+            store.save_run(store_path, record)
         return result.val_metric
 
     def stop_when_none_waiting(study: optuna.Study, _: FrozenTrial) -> None:
@@ -95,9 +95,10 @@ def run_repeats(
             time.sleep(POLL_SECONDS)
 
 
-def sync_repeats(study: optuna.Study, store_path: str | Path) -> frozenset[str]:
+def sync_repeats(study: optuna.Study, store_path: store.Store | None) -> frozenset[str]:
     """Copy every completed repeat into this machine's result store (stored once by key)."""
     completed = study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,))
     for trial in completed:
-        store.save_run(store_path, trial.user_attrs["record"])
+        if store_path is not None:
+            store.save_run(store_path, trial.user_attrs["record"])
     return frozenset(trial.user_attrs["record"]["key"] for trial in completed)

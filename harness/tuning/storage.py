@@ -90,12 +90,35 @@ def sqlite_connector(database: str):  # noqa: ANN201 - returns a connection fact
     return connect
 
 
+def check_studies_stored(parsed: URL) -> None:
+    """For reading: the storage must hold Optuna's tables already (none are created)."""
+    missing = InputError(
+        f"--storage {shown(parsed)}: no tuning studies stored there; allowed: run the suite "
+        "first (heedful run), with the same --storage or --store"
+    )
+    if parsed.get_backend_name() == "sqlite" and not Path(parsed.database or "").is_file():
+        raise missing
+    engine = sqlalchemy.create_engine(parsed, poolclass=sqlalchemy.pool.NullPool)
+    try:
+        with engine.connect() as connection:
+            if not sqlalchemy.inspect(connection).has_table("studies"):
+                raise missing
+    except sqlalchemy.exc.SQLAlchemyError as error:
+        reason = error.__class__.__name__
+        raise InputError(f"--storage {shown(parsed)}: cannot open ({reason})") from None
+    finally:
+        engine.dispose()
+
+
 def open_storage(
-    url: str, heartbeat_seconds: int, grace_seconds: int
+    url: str, heartbeat_seconds: int, grace_seconds: int, create: bool = True
 ) -> optuna.storages.RDBStorage:
-    """Optuna's relational storage with heartbeats; bad or unreachable URLs are input errors."""
+    """Optuna's relational storage with heartbeats; bad or unreachable URLs are input errors.
+    Without `create` (reading commands) the storage must hold studies already."""
     parsed = parse_url(url)
     check_reachable(parsed)
+    if not create:
+        check_studies_stored(parsed)
     engine: dict = {}
     if parsed.get_backend_name() == "sqlite":
         database = parsed.database or ""
@@ -115,6 +138,7 @@ def open_storage(
                 heartbeat_interval=heartbeat_seconds,
                 grace_period=grace_seconds,
                 heartbeat_stale_trial_callback=RETRY(RETRIES),
+                skip_table_creation=not create,
             )
     except (sqlalchemy.exc.SQLAlchemyError, ImportError, ValueError, RuntimeError) as error:
         first = str(error).strip().splitlines()[0] if str(error).strip() else type(error).__name__

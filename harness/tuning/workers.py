@@ -28,6 +28,7 @@ from harness.execution.pool import worker_setup
 from harness.planning import load_suite
 from harness.schema.suite import Suite
 from harness.schema.tuning import Tuning
+from harness.storage import store
 from harness.tuning.repeats import run_repeats, sync_repeats
 from harness.tuning.sizing import sizer, target_count
 from harness.tuning.storage import fail_stale_trials, open_storage
@@ -138,8 +139,9 @@ def tuning_studies(
     return plans, studies, resize
 
 
-def work(suite: Suite, store_path: str | Path, storage_url: str) -> WorkOutcome:
-    """Take part in tuning every contender, then in the seeded repeats; store every repeat."""
+def work(suite: Suite, store_path: store.Store | None, storage_url: str) -> WorkOutcome:
+    """Take part in tuning every contender, then in the seeded repeats; store every repeat
+    (unless `store_path` is None: on a cluster worker, which leaves storing to the submitter)."""
     optuna.logging.set_verbosity(logging.ERROR)  # refused trials are expected, not news
     tuning = suite.tuning
     storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)

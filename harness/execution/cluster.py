@@ -1,0 +1,187 @@
+"""Run a list of RunSpecs as tasks on a Dask cluster (Dask's `distributed` scheduler).
+
+Workers only train: each finished run comes back to this process, which stores it the moment
+it arrives, so the store has one writer and workers need no access to it. A worker that dies
+mid-run has its run given to another worker by the scheduler, at most `allowed-failures` times
+(Dask's setting; RESUBMISSIONS for `local:N` clusters); a run that raises is reported once.
+"""
+
+from __future__ import annotations
+
+import functools
+import hashlib
+import logging
+import uuid
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager, suppress
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import dask
+import torch
+from distributed import Client, LocalCluster, as_completed, get_worker
+from distributed.scheduler import KilledWorker
+
+import harness
+from harness.errors import InputError
+from harness.execution.local import Outcome, pending, record_of
+from harness.planning import RunSpec
+from harness.storage import store
+from harness.training.fit import perform
+
+RESUBMISSIONS = 3  # Dask's own default for allowed-failures, stated for local clusters too
+CONNECT_SECONDS = 5
+WORKER_WAIT_SECONDS = 60
+
+
+@functools.lru_cache(maxsize=1)
+def source_hash() -> str:
+    """SHA-256 over the installed package's Python sources (paths and contents)."""
+    root = Path(harness.__file__).parent
+    digest = hashlib.sha256()
+    for path in sorted(root.rglob("*.py")):
+        digest.update(path.relative_to(root).as_posix().encode() + b"\0")
+        digest.update(path.read_bytes() + b"\0")
+    return digest.hexdigest()[:16]
+
+
+def fingerprint() -> dict[str, str]:
+    """What must match between the submitter and every worker for results to be comparable."""
+    import torch_geometric
+
+    return {
+        "Heedful source hash": source_hash(),
+        "torch": torch.__version__,
+        "PyG": torch_geometric.__version__,
+    }
+
+
+def local_fingerprint() -> dict[str, str]:
+    return fingerprint()
+
+
+def difference(worker: str, theirs: dict[str, str]) -> str | None:
+    """One line naming the first difference between a worker and this process, if any."""
+    ours = local_fingerprint()
+    for name, value in ours.items():
+        if theirs.get(name) != value:
+            return (
+                f"worker {worker} has {name} {theirs.get(name)}, this machine {value}; "
+                "allowed: workers with the same Heedful source, torch and PyG as the submitter"
+            )
+    return None
+
+
+def _local_cluster(workers: int) -> LocalCluster:
+    with dask.config.set({"distributed.scheduler.allowed-failures": RESUBMISSIONS}):
+        return LocalCluster(
+            n_workers=workers,
+            threads_per_worker=1,
+            processes=True,
+            dashboard_address=None,
+            silence_logs=logging.ERROR,
+        )
+
+
+@dataclass(frozen=True)
+class Cluster:
+    """A connected Dask client and the address it was given (for messages)."""
+
+    client: Client
+    address: str
+
+
+@contextmanager
+def connected(address: str) -> Iterator[Cluster]:
+    """A client of the scheduler at `address` (or of a throw-away `local:N` cluster) whose
+    workers match this machine; errors name the address and come before anything runs."""
+    local = _local_cluster(int(address.split(":", 1)[1])) if address.startswith("local:") else None
+    try:
+        client = Client(local or address, timeout=f"{CONNECT_SECONDS}s")
+    except (OSError, TimeoutError) as error:
+        reason = " ".join(str(error).split()) or type(error).__name__
+        raise InputError(
+            f"--cluster {address}: no Dask scheduler answered ({reason}); allowed: the address "
+            "of a running scheduler, such as tcp://10.0.0.5:8786, or local:N"
+        ) from None
+    try:
+        try:
+            client.wait_for_workers(1, timeout=WORKER_WAIT_SECONDS)
+        except TimeoutError:
+            raise InputError(
+                f"--cluster {address}: no worker joined the scheduler within "
+                f"{WORKER_WAIT_SECONDS} s; allowed: a scheduler with workers (dask worker ADDRESS)"
+            ) from None
+        for worker, theirs in client.run(fingerprint).items():
+            if (line := difference(worker, theirs)) is not None:
+                raise InputError(f"--cluster {address}: {line}")
+        yield Cluster(client, address)
+    finally:
+        with suppress(Exception):
+            client.close(timeout=5)
+        if local is not None:
+            with suppress(Exception):
+                local.close(timeout=5)
+
+
+def train_on_worker(spec: RunSpec, threads: int) -> tuple[dict[str, Any], str, dict[str, str]]:
+    """One run on a worker: its store row, and the worker with its fingerprint (a worker that
+    joined after the first check is checked when its result arrives)."""
+    torch.set_num_threads(threads)
+    return record_of(spec, perform(spec)), get_worker().address, fingerprint()
+
+
+def describe(spec: RunSpec) -> str:
+    return f"run {spec.suite}/{spec.label} seed {spec.seed} (key {spec.key})"
+
+
+def failure_line(spec: RunSpec, error: BaseException) -> str:
+    if isinstance(error, KilledWorker):
+        return (
+            f"{describe(spec)}: its worker died {RESUBMISSIONS + 1} times (out of memory, or "
+            "killed); everything else is stored"
+        )
+    message = " ".join(str(error).split()) or "no message"
+    return f"{describe(spec)} failed: {type(error).__name__}: {message}"
+
+
+def execute_on_cluster(
+    specs: list[RunSpec],
+    store_path: store.Store,
+    cluster: Cluster,
+    threads: int = 1,
+    on_finished: Callable[[str], None] | None = None,
+) -> Outcome:
+    """Submit every spec not yet stored; store each result as it arrives. Ctrl-C cancels what
+    is still running and keeps what is stored."""
+    todo = pending(specs, store_path)
+    client = cluster.client
+    batch = uuid.uuid4().hex[:8]  # task keys of their own: another submitter's never merge
+    futures = {
+        client.submit(
+            train_on_worker, spec, threads, key=f"heedful-{batch}-{index}", pure=False
+        ): spec
+        for index, spec in enumerate(todo)
+    }
+    finished, failures, interrupted = 0, [], False
+    try:
+        for future in as_completed(futures):
+            spec = futures.pop(future)
+            if future.status == "error":
+                failures.append(failure_line(spec, future.exception()))
+                continue
+            record, worker, theirs = future.result()
+            if (line := difference(worker, theirs)) is not None:
+                raise InputError(f"--cluster: {line}")
+            store.save_run(store_path, record)
+            finished += 1
+            if on_finished:
+                on_finished(spec.contender)
+    except KeyboardInterrupt:
+        interrupted = True
+    finally:
+        if futures:
+            with suppress(Exception):
+                client.cancel(list(futures))
+    return Outcome(len(specs), len(specs) - len(todo), finished, interrupted, tuple(failures))

@@ -1,0 +1,193 @@
+"""Execution on a Dask cluster (`--cluster local:N`): every run stored once by the submitting
+process with the figures of `--jobs 1`; a killed worker's run is given to another worker;
+Ctrl-C keeps what finished; an unreachable scheduler or a mismatched worker stops everything
+before anything is stored."""
+
+from __future__ import annotations
+
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pandas as pd
+import psutil
+import pytest
+
+from harness.cli import main
+from harness.execution import cluster
+from harness.planning import expand, load_suite
+from harness.storage import store
+
+ROOT = Path(__file__).resolve().parents[1]
+FIGURES = ["val_metric", "test_metric", "test_accuracy", "epochs", "best_epoch", "curve"]
+
+
+@pytest.fixture
+def long_suite(tiny_suite_text, write_suite) -> Path:
+    """The tiny suite on 4 seeds with longer training: 12 runs of about a second each, so a
+    signal sent when the first is stored lands while others still run."""
+    text = tiny_suite_text.replace("seeds = 2", "seeds = 4")
+    text = text.replace("epochs = 15", "epochs = 150").replace("patience = 15", "patience = 150")
+    return write_suite(text, "long.toml")
+
+
+def stored(store_file: Path) -> pd.DataFrame:
+    """The stored runs (read-only), or none while the store is still empty."""
+    if not store_file.exists():
+        return pd.DataFrame(columns=["key"])
+    return store.load_runs(store_file)
+
+
+def start(suite: Path, store_file: Path) -> subprocess.Popen:
+    command = [sys.executable, "-m", "harness.cli", "run", str(suite), "--quiet"]
+    command += ["--cluster", "local:2", "--store", str(store_file)]
+    return subprocess.Popen(
+        command, cwd=ROOT, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True
+    )
+
+
+def wait_for_first_run(process: subprocess.Popen, store_file: Path) -> None:
+    deadline = time.monotonic() + 240
+    while len(stored(store_file)) < 1:
+        assert process.poll() is None, process.stderr.read()
+        assert time.monotonic() < deadline, "no run was stored within 240 s"
+        time.sleep(0.1)
+
+
+def test_cluster_stores_every_run_once_with_the_figures_of_one_job(finished_store, tmp_path):
+    suite, one_job_store = finished_store
+    cluster_store = tmp_path / "cluster.db"
+    assert main(["run", str(suite), "--cluster", "local:2", "--store", str(cluster_store)]) == 0
+    specs = expand(load_suite(suite))
+    on_cluster = store.load_runs(cluster_store).set_index("key").sort_index()
+    one_job = store.load_runs(one_job_store).set_index("key").sort_index()
+    assert sorted(on_cluster.index) == sorted(s.key for s in specs)  # each run exactly once
+    pd.testing.assert_frame_equal(on_cluster[FIGURES], one_job[FIGURES])  # bit for bit
+
+
+def test_a_worker_killed_mid_run_leaves_the_suite_complete(long_suite, tmp_path):
+    store_file = tmp_path / "killed.db"
+    process = start(long_suite, store_file)
+    try:
+        wait_for_first_run(process, store_file)
+        # the workers are the processes the submitter's nannies spawned
+        children = psutil.Process(process.pid).children()
+        workers = [child for child in children if "spawn_main" in " ".join(child.cmdline())]
+        assert len(workers) == 2 and len(stored(store_file)) < 12, "too late to kill a worker"
+        os.kill(workers[0].pid, signal.SIGKILL)
+        assert process.wait(timeout=240) == 0, process.stderr.read()
+    finally:
+        process.kill()
+    runs = stored(store_file)
+    assert sorted(runs["key"]) == sorted(s.key for s in expand(load_suite(long_suite)))
+
+
+def test_ctrl_c_cancels_the_rest_and_keeps_finished_runs(long_suite, tmp_path):
+    store_file = tmp_path / "interrupted.db"
+    process = start(long_suite, store_file)
+    try:
+        wait_for_first_run(process, store_file)
+        process.send_signal(signal.SIGINT)  # to the submitting process only
+        assert process.wait(timeout=120) == 130
+        message = process.stderr.read()
+    finally:
+        process.kill()
+    runs = stored(store_file)
+    assert 1 <= len(runs) < 12 and runs["key"].is_unique
+    said = " ".join(message.split())  # rich wraps long lines
+    assert f"interrupted: {len(runs)} runs finished and stored in {store_file}" in said
+    assert main(["run", str(long_suite), "--store", str(store_file), "--quiet"]) == 0
+    assert len(stored(store_file)) == 12  # the rest is trained by the next run, none twice
+
+
+def test_an_unreachable_scheduler_is_one_line_before_anything_is_stored(
+    tiny_suite, store_path, capsys
+):
+    arguments = ["run", str(tiny_suite), "--cluster", "tcp://127.0.0.1:1", "--store"]
+    assert main([*arguments, str(store_path)]) == 2
+    error = capsys.readouterr().err
+    assert error.startswith("heedful: error: --cluster tcp://127.0.0.1:1: no Dask scheduler")
+    assert len(error.strip().splitlines()) == 1
+    assert not store_path.exists()  # not even the data profile
+
+
+def test_workers_with_other_versions_are_refused_naming_the_difference(
+    tiny_suite, store_path, monkeypatch, capsys
+):
+    ours = cluster.fingerprint()
+    monkeypatch.setattr(cluster, "local_fingerprint", lambda: ours | {"torch": "0.0-submitter"})
+    arguments = ["run", str(tiny_suite), "--cluster", "local:1", "--store", str(store_path)]
+    assert main(arguments) == 2
+    error = capsys.readouterr().err
+    assert f"has torch {ours['torch']}, this machine 0.0-submitter" in error
+    assert len(error.strip().splitlines()) == 1 and not store_path.exists()
+
+
+def test_the_source_hash_changes_with_any_line_of_the_package(tmp_path, monkeypatch):
+    """Not only the version string: one changed comment deep in the package changes it."""
+    import shutil
+
+    import harness
+
+    copy = tmp_path / "harness"
+    shutil.copytree(Path(harness.__file__).parent, copy)
+    monkeypatch.setattr(harness, "__file__", str(copy / "__init__.py"))
+    cluster.source_hash.cache_clear()
+    try:
+        before = cluster.source_hash()
+        with (copy / "training" / "fit.py").open("a") as module:
+            module.write("# one more line\n")
+        cluster.source_hash.cache_clear()
+        assert cluster.source_hash() != before
+    finally:
+        cluster.source_hash.cache_clear()
+
+
+def test_cluster_arguments_are_checked_in_one_line(tiny_suite, capsys):
+    for given in ("local:0", "local:two", "nowhere"):
+        with pytest.raises(SystemExit) as exit_status:
+            main(["run", str(tiny_suite), "--cluster", given])
+        assert exit_status.value.code == 2
+        assert f"given '{given}'" in capsys.readouterr().err
+    assert main(["run", str(tiny_suite), "--cluster", "local:1", "--jobs", "2"]) == 2
+    assert "--cluster and --jobs: given both" in capsys.readouterr().err
+
+
+def test_a_tuned_suite_on_a_cluster_stores_every_repeat_once(write_suite, tmp_path, capsys):
+    """Each cluster worker runs a tuning worker on the shared storage; the submitter stores."""
+    suite = write_suite(
+        """
+        name = "tuned_depots"
+        seeds = 2
+        metric = "accuracy"
+        [data]
+        source = "synthetic"
+        nodes = 80
+        graph_seed = 5
+        [training]
+        epochs = 8
+        [contenders.attention]
+        model = "gat"
+        heads = 2
+        hidden = 4
+        [contenders.features_only]
+        model = "mlp"
+        [tuning]
+        trials = 2
+        heartbeat_seconds = 1
+        """,
+        "tuned.toml",
+    )
+    store_file = tmp_path / "tuned.db"
+    arguments = ["run", str(suite), "--cluster", "local:2", "--quiet", "--store", str(store_file)]
+    assert main(arguments) == 0
+    runs = store.load_runs(store_file)
+    pairs = sorted(zip(runs["contender"], runs["seed"], strict=True))
+    assert pairs == [("attention", 0), ("attention", 1), ("features_only", 0), ("features_only", 1)]
+    assert all("tuned" in extras for extras in runs["extras"])
+    # a storage in a file of this machine cannot be shared with workers elsewhere
+    assert main([*arguments[:3], "tcp://10.0.0.5:8786", "--store", str(store_file)]) == 2
+    assert "-tuning.db is a file on this machine" in capsys.readouterr().err
