@@ -104,3 +104,15 @@ def test_reading_commands_create_no_tables_on_postgresql(tiny_suite, postgres_st
         line.startswith("heedful: error: postgresql") for line in errors
     )
     assert "heedful:***@" in errors[0] and table_rows(postgres_store) == {}
+
+
+def test_a_writing_command_on_a_read_only_store_is_one_line(finished_store, tmp_path, capsys):
+    suite, finished = finished_store
+    copy = tmp_path / "runs.db"
+    shutil.copy(finished, copy)
+    copy.chmod(0o444)
+    before = folder_digest(tmp_path)
+    assert main(["run", str(suite), "--store", str(copy), "--quiet"]) == 2
+    error = capsys.readouterr().err
+    assert error.startswith(f"heedful: error: {copy}: result store is read-only; allowed:")
+    assert len(error.strip().splitlines()) == 1 and folder_digest(tmp_path) == before
