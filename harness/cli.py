@@ -21,10 +21,17 @@ def command_check(args: argparse.Namespace) -> int:
 
 
 def command_run(args: argparse.Namespace) -> int:
-    from harness.commands.run import RunOutcome, connected_cluster, run_homophily_map, run_suite
+    from harness.commands.run import (
+        RunOutcome,
+        check_cluster_use,
+        connected_cluster,
+        run_homophily_map,
+        run_suite,
+    )
 
     feedback = screen.feedback(args.quiet)
-    with connected_cluster(checked_cluster(args)) as cluster:
+    check_cluster_use(args.suite, args.store, args.storage, checked_cluster(args))
+    with connected_cluster(args.cluster) as cluster:
         outcome = run_suite(
             args.suite,
             args.store,

@@ -46,6 +46,20 @@ class Executed:
         return RUNS_FAILED if self.failures else 0
 
 
+def check_cluster_use(
+    suite_path: str, store_path: Location, storage: str | None, address: str | None
+) -> None:
+    """Before connecting: a tuned suite on a cluster needs a storage its workers reach."""
+    if address is None:
+        return
+    suite = load_suite(suite_path)
+    if suite.tuning is not None:
+        from harness.tuning.on_cluster import check_shared
+        from harness.tuning.storage import default_storage_url
+
+        check_shared(address, storage or default_storage_url(store_path))
+
+
 @contextmanager
 def connected_cluster(address: str | None) -> Iterator[Any]:
     """The Dask cluster of `--cluster` (its workers checked before anything is stored), or
@@ -281,11 +295,6 @@ def run_tuned(
     from harness.tuning.storage import parse_url, shown
     from harness.tuning.workers import work_in_processes
 
-    if cluster is not None:
-        from harness.tuning.on_cluster import check_shared
-        from harness.tuning.storage import default_storage_url
-
-        check_shared(cluster.address, storage or default_storage_url(store_path))
     url = checked_storage(suite, store_path, storage)  # a bad storage fails before any write
     check_suite_memory(suite, suite_path, jobs, memory_limit)
     facts = preflight(suite, suite_path)

@@ -99,7 +99,7 @@ def connected(address: str) -> Iterator[Cluster]:
     local = _local_cluster(int(address.split(":", 1)[1])) if address.startswith("local:") else None
     try:
         client = Client(local or address, timeout=f"{CONNECT_SECONDS}s")
-    except (OSError, TimeoutError) as error:
+    except Exception as error:  # refused, timed out, or something else answering there
         reason = " ".join(str(error).split()) or type(error).__name__
         raise InputError(
             f"--cluster {address}: no Dask scheduler answered ({reason}); allowed: the address "

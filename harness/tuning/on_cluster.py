@@ -15,6 +15,7 @@ from harness.schema.suite import Suite
 from harness.storage import store
 from harness.tuning.repeats import sync_repeats
 from harness.tuning.storage import open_storage, parse_url, shown
+from harness.tuning.study import repeats_study_name, tuning_plan
 from harness.tuning.workers import WorkOutcome, work
 
 
@@ -45,12 +46,12 @@ def work_on_cluster(
         for n in range(count)
     ]
     try:
-        outcome = client.gather(futures)[0]
+        client.gather(futures)
     except BaseException:
         client.cancel(futures)
         raise
     tuning = suite.tuning
     storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)
-    repeats = optuna.load_study(study_name=outcome.repeats_study, storage=storage)
-    keys = sync_repeats(repeats, store_path)
-    return WorkOutcome(outcome.studies, outcome.repeats_study, keys)
+    name = repeats_study_name(suite, tuning_plan(suite))
+    repeats = optuna.load_study(study_name=name, storage=storage)
+    return WorkOutcome(sync_repeats(repeats, store_path))
