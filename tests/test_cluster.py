@@ -52,8 +52,15 @@ def stored(store_file: Path) -> pd.DataFrame:
 def start(suite: Path, store_file: Path) -> subprocess.Popen:
     command = [sys.executable, "-m", "harness.cli", "run", str(suite), "--quiet"]
     command += ["--cluster", "local:2", "--store", str(store_file)]
+    # Ctrl-C as in a terminal: a process started with SIGINT ignored (as its parent may have
+    # it) keeps it ignored, which is the shell's way of running background jobs
     return subprocess.Popen(
-        command, cwd=ROOT, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True
+        command,
+        cwd=ROOT,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        text=True,
+        preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL),
     )
 
 
