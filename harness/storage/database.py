@@ -10,6 +10,7 @@ from __future__ import annotations
 import functools
 import os
 import sqlite3
+import time
 from collections.abc import Iterator, Mapping
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -95,12 +96,26 @@ def _check_sqlite_path(path: Path, write: bool) -> None:
         )
 
 
+def _write_ahead(connection: sqlite3.Connection) -> None:
+    """WAL mode, set once per file; switching it skips the busy handler, so two processes
+    creating one new store at once wait for each other here (SQLite, "journal_mode")."""
+    for attempt in range(600):
+        if connection.execute("PRAGMA journal_mode").fetchone()[0] == "wal":
+            return
+        try:
+            connection.execute("PRAGMA journal_mode=WAL")
+        except sqlite3.OperationalError as error:
+            if "locked" not in str(error) or attempt == 599:
+                raise
+            time.sleep(0.1)
+
+
 def _sqlite_creator(path: Path, write: bool):  # noqa: ANN202 - a connection factory
     def connect() -> sqlite3.Connection:
         if write:
             connection = sqlite3.connect(path, timeout=60, isolation_level=None)
             connection.execute("PRAGMA busy_timeout=60000")
-            connection.execute("PRAGMA journal_mode=WAL")
+            _write_ahead(connection)
             return connection
         # without a write-ahead log beside it no writer is active: read the file as it is,
         # which (unlike mode=ro) leaves no -wal and -shm files behind
