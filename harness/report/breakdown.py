@@ -10,7 +10,8 @@ import pandas as pd
 
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, interval, p_text, signed, signed_interval
-from harness.report.tables import TextTable, _table, all_tables, frames, report_metric
+from harness.report.tables import all_tables, frames
+from harness.report.text_table import TextTable, _table, report_metric
 
 TERMINAL_ROWS = 12
 

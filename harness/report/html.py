@@ -8,7 +8,8 @@ from html import escape
 from harness.analysis.suite_report import SuiteReport
 from harness.report.breakdown import report_tables
 from harness.report.plots import PLOT_TITLES
-from harness.report.tables import TextTable, facts, reasons
+from harness.report.tables import reasons
+from harness.report.text_table import TextTable, facts
 from harness.report.trend import TREND_TITLE
 
 STYLE = """

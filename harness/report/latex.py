@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from harness.analysis.suite_report import SuiteReport
 from harness.report.breakdown import report_tables
-from harness.report.tables import TextTable
+from harness.report.text_table import TextTable
 
 _SPECIAL = {
     "\\": r"\textbackslash{}",

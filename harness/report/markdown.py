@@ -6,7 +6,8 @@ from harness.analysis.suite_report import SuiteReport
 from harness.report.breakdown import report_tables
 from harness.report.markdown_text import escape
 from harness.report.plots import PLOT_TITLES
-from harness.report.tables import TextTable, facts, reasons
+from harness.report.tables import reasons
+from harness.report.text_table import TextTable, facts
 
 
 def table(part: TextTable) -> str:

@@ -1,64 +1,23 @@
 """The report's tables as rows of text, shared by the Markdown, LaTeX, HTML and terminal
-renderers. Formatting only: every figure comes from a SuiteReport
+renderers: contenders, comparisons and cost here, the rest in ablation_tables and
+diagnostic_tables. Formatting only: every figure comes from a SuiteReport
 (harness.analysis.suite_report)."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import pandas as pd
 
-from harness.analysis.arrival import DIFFERENCE_LIMIT
 from harness.analysis.bounds import range_advice
 from harness.analysis.suite_report import SuiteReport
-from harness.formatting import fixed, interval, metric_label, p_text, signed, signed_interval
-
-
-@dataclass(frozen=True)
-class TextTable:
-    """A titled table of plain (unescaped) text cells; `right` marks numeric columns."""
-
-    name: str
-    title: str
-    header: tuple[str, ...]
-    rows: tuple[tuple[str, ...], ...]
-    right: tuple[bool, ...]
-    note: str = ""
-
-
-def points(value: float) -> str:
-    return f"{value:g} point" + ("" if value == 1 else "s")
-
-
-def facts(report: SuiteReport) -> str:
-    """One paragraph: what was measured and with which settings."""
-    settings = report.settings
-    return (
-        f"Metric: test {report_metric(report)}; {report.runs['seed'].nunique()} seeds; minimum "
-        f"gain that matters: {points(settings.minimum_gain)}; confidence "
-        f"{settings.confidence:.0%}; {settings.bootstrap_resamples} bootstrap resamples. "
-        "Figures are estimates on this data under these splits and seeds, not guarantees "
-        "about other data."
-    )
-
-
-def report_metric(report: SuiteReport) -> str:
-    return metric_label(report.metric)
-
-
-def _table(name: str, title: str, header: list[str], rows: list[list[str]], note: str = ""):
-    right = tuple(
-        all(_numeric(row[i]) for row in rows) if rows else False for i in range(len(header))
-    )
-    return TextTable(name, title, tuple(header), tuple(tuple(r) for r in rows), right, note)
-
-
-def _numeric(text: str) -> bool:
-    stripped = text.replace(",", "").replace("±", " ").replace(" to ", " ").lstrip("<").split()
-    try:
-        return bool(stripped) and all(s == "-" or float(s) is not None for s in stripped)
-    except ValueError:
-        return False
+from harness.formatting import fixed, interval, p_text, signed, signed_interval
+from harness.report.ablation_tables import axis_table, interaction_tables, level_table
+from harness.report.diagnostic_tables import (
+    arrival_table,
+    attention_table,
+    homophily_map_table,
+    homophily_table,
+)
+from harness.report.text_table import TextTable, _table, points, report_metric
 
 
 def contender_table(report: SuiteReport) -> TextTable:
@@ -143,68 +102,6 @@ def _count(value: object) -> int | None:
     return None if value is None or pd.isna(value) else int(value)
 
 
-def axis_table(report: SuiteReport) -> TextTable:
-    level = f"{report.settings.confidence:.0%}"
-    rows = [
-        [
-            r.contender,
-            str(r.rank),
-            r.axis,
-            str(r.levels),
-            r.best_level,
-            r.worst_level,
-            signed(r.effect, 2),
-            signed_interval(r.effect_low, r.effect_high),
-        ]
-        for r in report.ablation.axes.itertuples()
-    ]
-    header = ["contender", "rank", "axis", "levels", "best level", "worst level"]
-    header += ["best minus worst (points)", f"{level} t-interval"]
-    return _table("ablation_axes", "Ablation axes ranked by effect", header, rows)
-
-
-def level_table(report: SuiteReport) -> TextTable:
-    level = f"{report.settings.confidence:.0%}"
-    rows = [
-        [
-            r.contender,
-            r.axis,
-            r.level,
-            str(r.seeds),
-            fixed(r.mean),
-            interval(r.t_low, r.t_high),
-            signed(r.effect, 2),
-            signed_interval(r.effect_low, r.effect_high),
-        ]
-        for r in report.ablation.levels.itertuples()
-    ]
-    header = ["contender", "axis", "level", "seeds", f"mean {report_metric(report)}"]
-    header += [f"{level} t-interval", "marginal effect (points)", f"{level} t-interval "]
-    return _table("ablation_levels", "Ablation levels", header, rows)
-
-
-def interaction_tables(report: SuiteReport) -> list[TextTable]:
-    """One grid per contender: cell mean and interaction residual (points)."""
-    frame = report.ablation.interactions
-    tables = []
-    for contender, group in frame.groupby("contender", sort=False) if not frame.empty else []:
-        first, second = group["axis_a"].iloc[0], group["axis_b"].iloc[0]
-        columns = list(dict.fromkeys(group["level_b"]))
-        rows = []
-        for level_a, cells in group.groupby("level_a", sort=False):
-            by_b = {c.level_b: c for c in cells.itertuples()}
-            row = [level_a] + [
-                f"{fixed(by_b[b].mean)} ({signed(by_b[b].interaction, 2)})" if b in by_b else "-"
-                for b in columns
-            ]
-            rows.append(row)
-        header = [f"{first} (rows) by {second}", *columns]
-        note = "Cell: mean test metric (interaction residual in points)."
-        title = f"Interaction of {first} and {second} for {contender}"
-        tables.append(_table(f"interaction_{len(tables) + 1}", title, header, rows, note))
-    return tables
-
-
 def cost_table(report: SuiteReport) -> TextTable:
     def mark(flag: bool) -> str:
         return "yes" if flag else ""
@@ -228,96 +125,6 @@ def cost_table(report: SuiteReport) -> TextTable:
     header += ["peak MB", "Pareto (all)", "Pareto (time)", "Pareto (params)", "Pareto (memory)"]
     note = "Pareto: no other contender is at least as good and at least as cheap."
     return _table("cost", "Cost trade-off", header, rows, note)
-
-
-def attention_table(report: SuiteReport) -> TextTable | None:
-    if report.attention.empty:
-        return None
-
-    def pair(value: float, chance: float) -> str:
-        return f"{fixed(value)} ({fixed(chance)})"
-
-    rows = [
-        [
-            r.variant,
-            str(r.runs),
-            fixed(r.entropy_ratio),
-            pair(r.self_share, r.uniform_self_share),
-            pair(r.same_label_share, r.neighbour_homophily),
-        ]
-        for r in report.attention.itertuples()
-    ]
-    header = ["contender", "runs", "entropy / uniform", "self share (uniform)"]
-    header.append("same label share (chance)")
-    note = (
-        "Means over layers, heads and seeds (harness.training.diagnostics). Entropy 1 is uniform "
-        "attention; in brackets what uniform attention over the same neighbours would give."
-    )
-    return _table("attention", "Attention diagnostics", header, rows, note)
-
-
-def homophily_table(report: SuiteReport) -> TextTable | None:
-    if report.homophily.empty:
-        return None
-    rows = [[r.measure.replace("_", " "), fixed(r.value)] for r in report.homophily.itertuples()]
-    note = "Of the suite's graph, from its stored dataset profile."
-    return _table("homophily", "Graph homophily", ["measure", "value"], rows, note)
-
-
-def homophily_map_table(report: SuiteReport) -> TextTable | None:
-    summary = report.homophily_map
-    if summary is None:
-        return None
-    frame = summary.table
-    contenders = list(dict.fromkeys(frame["contender"]))
-    rows = []
-    for level, group in frame.groupby("level", sort=True):
-        by_name = {r.contender: r for r in group.itertuples()}
-        rows.append(
-            [f"{level:g}"]
-            + [
-                f"{fixed(by_name[c].mean)} ({interval(by_name[c].low, by_name[c].high)})"
-                if c in by_name
-                else "-"
-                for c in contenders
-            ]
-        )
-    note = (
-        f"Mean test {report_metric(report)} (t-interval) on synthetic graphs matched to the "
-        f"suite's data; the data's edge homophily is {summary.data_edge_homophily:.3f}, "
-        f"nearest level {summary.nearest_level:g}, where the best contender is "
-        f"{summary.best_at_nearest}."
-    )
-    header = ["edge homophily", *contenders]
-    return _table("homophily_map", "Homophily map", header, rows, note)
-
-
-def arrival_table(report: SuiteReport) -> TextTable | None:
-    """New-node arrival of an inductive suite: update against full recompute, per variant."""
-    if report.arrival.empty:
-        return None
-    level = f"{report.settings.confidence:.0%}"
-    rows = [
-        [
-            r.variant,
-            str(r.seeds),
-            str(r.radius),
-            f"{fixed(r.update_ms)} ({interval(r.update_low, r.update_high)})",
-            f"{fixed(r.full_ms)} ({interval(r.full_low, r.full_high)})",
-            f"{fixed(r.speed_up, 2)}x",
-            f"{r.max_difference:.1e}" + (" over limit" if r.difference_flagged else ""),
-        ]
-        for r in report.arrival.itertuples()
-    ]
-    header = ["contender", "seeds", "radius", f"update ms/node ({level} t)"]
-    header += [f"full recompute ms/node ({level} t)", "speed-up", "largest difference"]
-    note = (
-        "Held-out nodes join the training graph in batches; after each, only outputs within the "
-        "radius are recomputed (update) and checked against a full recompute. Speed-up: mean "
-        f"full time over mean update time. A largest difference above {DIFFERENCE_LIMIT:g} "
-        "means the update did not reproduce the full recompute."
-    )
-    return _table("arrival", "New-node arrival", header, rows, note)
 
 
 def all_tables(report: SuiteReport) -> list[TextTable]:

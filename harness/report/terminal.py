@@ -14,7 +14,9 @@ from harness.analysis.axes import AblationView
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, metric_label
 from harness.report.breakdown import TERMINAL_ROWS, headline_table, report_tables
-from harness.report.tables import TextTable, arrival_table, comparison_table, reasons
+from harness.report.diagnostic_tables import arrival_table
+from harness.report.tables import comparison_table, reasons
+from harness.report.text_table import TextTable
 
 
 def summary_table(summary: pd.DataFrame, title: str) -> Table:

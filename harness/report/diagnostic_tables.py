@@ -1,0 +1,99 @@
+"""The report's tables about the graph and the models' behaviour on it: attention
+diagnostics, homophily, the homophily map and new-node arrival; each absent without data."""
+
+from __future__ import annotations
+
+from harness.analysis.arrival import DIFFERENCE_LIMIT
+from harness.analysis.suite_report import SuiteReport
+from harness.formatting import fixed, interval
+from harness.report.text_table import TextTable, _table, report_metric
+
+
+def attention_table(report: SuiteReport) -> TextTable | None:
+    if report.attention.empty:
+        return None
+
+    def pair(value: float, chance: float) -> str:
+        return f"{fixed(value)} ({fixed(chance)})"
+
+    rows = [
+        [
+            r.variant,
+            str(r.runs),
+            fixed(r.entropy_ratio),
+            pair(r.self_share, r.uniform_self_share),
+            pair(r.same_label_share, r.neighbour_homophily),
+        ]
+        for r in report.attention.itertuples()
+    ]
+    header = ["contender", "runs", "entropy / uniform", "self share (uniform)"]
+    header.append("same label share (chance)")
+    note = (
+        "Means over layers, heads and seeds (harness.training.diagnostics). Entropy 1 is uniform "
+        "attention; in brackets what uniform attention over the same neighbours would give."
+    )
+    return _table("attention", "Attention diagnostics", header, rows, note)
+
+
+def homophily_table(report: SuiteReport) -> TextTable | None:
+    if report.homophily.empty:
+        return None
+    rows = [[r.measure.replace("_", " "), fixed(r.value)] for r in report.homophily.itertuples()]
+    note = "Of the suite's graph, from its stored dataset profile."
+    return _table("homophily", "Graph homophily", ["measure", "value"], rows, note)
+
+
+def homophily_map_table(report: SuiteReport) -> TextTable | None:
+    summary = report.homophily_map
+    if summary is None:
+        return None
+    frame = summary.table
+    contenders = list(dict.fromkeys(frame["contender"]))
+    rows = []
+    for level, group in frame.groupby("level", sort=True):
+        by_name = {r.contender: r for r in group.itertuples()}
+        rows.append(
+            [f"{level:g}"]
+            + [
+                f"{fixed(by_name[c].mean)} ({interval(by_name[c].low, by_name[c].high)})"
+                if c in by_name
+                else "-"
+                for c in contenders
+            ]
+        )
+    note = (
+        f"Mean test {report_metric(report)} (t-interval) on synthetic graphs matched to the "
+        f"suite's data; the data's edge homophily is {summary.data_edge_homophily:.3f}, "
+        f"nearest level {summary.nearest_level:g}, where the best contender is "
+        f"{summary.best_at_nearest}."
+    )
+    header = ["edge homophily", *contenders]
+    return _table("homophily_map", "Homophily map", header, rows, note)
+
+
+def arrival_table(report: SuiteReport) -> TextTable | None:
+    """New-node arrival of an inductive suite: update against full recompute, per variant."""
+    if report.arrival.empty:
+        return None
+    level = f"{report.settings.confidence:.0%}"
+    rows = [
+        [
+            r.variant,
+            str(r.seeds),
+            str(r.radius),
+            f"{fixed(r.update_ms)} ({interval(r.update_low, r.update_high)})",
+            f"{fixed(r.full_ms)} ({interval(r.full_low, r.full_high)})",
+            f"{fixed(r.speed_up, 2)}x",
+            f"{r.max_difference:.1e}" + (" over limit" if r.difference_flagged else ""),
+        ]
+        for r in report.arrival.itertuples()
+    ]
+    header = ["contender", "seeds", "radius", f"update ms/node ({level} t)"]
+    header += [f"full recompute ms/node ({level} t)", "speed-up", "largest difference"]
+    note = (
+        "Held-out nodes join the training graph in batches; after each, only outputs within the "
+        "radius are recomputed (update) and checked against a full recompute. Speed-up: mean "
+        f"full time over mean update time. A largest difference above {DIFFERENCE_LIMIT:g} "
+        "means the update did not reproduce the full recompute."
+    )
+    return _table("arrival", "New-node arrival", header, rows, note)

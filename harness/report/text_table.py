@@ -1,0 +1,56 @@
+"""A report table as rows of plain text, and the helpers every table module shares.
+Formatting only: every figure comes from a SuiteReport (harness.analysis.suite_report)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from harness.analysis.suite_report import SuiteReport
+from harness.formatting import metric_label
+
+
+@dataclass(frozen=True)
+class TextTable:
+    """A titled table of plain (unescaped) text cells; `right` marks numeric columns."""
+
+    name: str
+    title: str
+    header: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
+    right: tuple[bool, ...]
+    note: str = ""
+
+
+def points(value: float) -> str:
+    return f"{value:g} point" + ("" if value == 1 else "s")
+
+
+def facts(report: SuiteReport) -> str:
+    """One paragraph: what was measured and with which settings."""
+    settings = report.settings
+    return (
+        f"Metric: test {report_metric(report)}; {report.runs['seed'].nunique()} seeds; minimum "
+        f"gain that matters: {points(settings.minimum_gain)}; confidence "
+        f"{settings.confidence:.0%}; {settings.bootstrap_resamples} bootstrap resamples. "
+        "Figures are estimates on this data under these splits and seeds, not guarantees "
+        "about other data."
+    )
+
+
+def report_metric(report: SuiteReport) -> str:
+    return metric_label(report.metric)
+
+
+def _table(name: str, title: str, header: list[str], rows: list[list[str]], note: str = ""):
+    right = tuple(
+        all(_numeric(row[i]) for row in rows) if rows else False for i in range(len(header))
+    )
+    return TextTable(name, title, tuple(header), tuple(tuple(r) for r in rows), right, note)
+
+
+def _numeric(text: str) -> bool:
+    stripped = text.replace(",", "").replace("±", " ").replace(" to ", " ").lstrip("<").split()
+    try:
+        return bool(stripped) and all(s == "-" or float(s) is not None for s in stripped)
+    except ValueError:
+        return False
