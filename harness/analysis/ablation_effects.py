@@ -25,7 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from harness.analysis.stats import POINTS, t_interval
+from harness.analysis.stats import POINTS, interval_columns, t_interval
 
 
 @dataclass(frozen=True)
@@ -63,20 +63,14 @@ def _axis(grid: pd.DataFrame, axis: str, confidence: float) -> tuple[list[dict],
     for level in levels:
         values = per_seed[level].dropna().to_numpy()
         effect = centred[level].dropna().to_numpy()
-        low, high = t_interval(values, confidence)
-        effect_low, effect_high = t_interval(effect, confidence)
         rows.append(
             {
                 "axis": axis,
                 "level": level,
                 "seeds": len(values),
                 "runs": int((grid[axis] == level).sum()),
-                "mean": float(values.mean()),
-                "t_low": low,
-                "t_high": high,
-                "effect": float(effect.mean()),
-                "effect_low": effect_low,
-                "effect_high": effect_high,
+                **interval_columns(values, confidence, "t", mean_name="mean"),
+                **interval_columns(effect, confidence, "effect"),
             }
         )
     means = per_seed.mean()

@@ -13,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from harness.analysis.stats import t_interval, with_variants
+from harness.analysis.stats import interval_columns, with_variants
 
 DIFFERENCE_LIMIT = 1e-5
 COLUMNS = [
@@ -34,8 +34,6 @@ def arrival_summary(runs: pd.DataFrame, confidence: float = 0.95) -> pd.DataFram
         update = 1000 * np.array([a["update_seconds_per_new_node"] for a in arrivals])
         full = 1000 * np.array([a["full_seconds_per_new_node"] for a in arrivals])
         largest = max(float(a["max_difference"]) for a in arrivals)
-        update_low, update_high = t_interval(update, confidence)
-        full_low, full_high = t_interval(full, confidence)
         rows.append(
             {
                 "suite": suite,
@@ -43,12 +41,8 @@ def arrival_summary(runs: pd.DataFrame, confidence: float = 0.95) -> pd.DataFram
                 "model": group["model"].iloc[0],
                 "seeds": len(arrivals),
                 "radius": int(arrivals[0]["radius"]),
-                "update_ms": float(update.mean()),
-                "update_low": update_low,
-                "update_high": update_high,
-                "full_ms": float(full.mean()),
-                "full_low": full_low,
-                "full_high": full_high,
+                **interval_columns(update, confidence, "update", mean_name="update_ms"),
+                **interval_columns(full, confidence, "full", mean_name="full_ms"),
                 "speed_up": float(full.mean() / update.mean()) if update.mean() > 0 else np.nan,
                 "max_difference": largest,
                 "difference_flagged": largest > DIFFERENCE_LIMIT,

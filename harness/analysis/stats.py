@@ -34,6 +34,19 @@ def t_interval(values: np.ndarray, confidence: float = 0.95) -> tuple[float, flo
     return float(mean - half), float(mean + half)
 
 
+def interval_columns(
+    values: np.ndarray, confidence: float, prefix: str, mean_name: str = ""
+) -> dict[str, float]:
+    """A sample's mean and Student-t interval as table columns: mean_name (or prefix),
+    prefix_low, prefix_high."""
+    low, high = t_interval(values, confidence)
+    return {
+        mean_name or prefix: float(np.mean(values)),
+        f"{prefix}_low": low,
+        f"{prefix}_high": high,
+    }
+
+
 def bootstrap_interval(
     values: np.ndarray, confidence: float = 0.95, resamples: int = 2000
 ) -> tuple[float, float]:
