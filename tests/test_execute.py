@@ -234,3 +234,107 @@ def test_a_lone_last_run_on_a_large_graph_gets_every_core_it_was_given(
         torch.set_num_threads(1)
     extras = store.load_runs(store_path)["extras"].iloc[0]
     assert extras["threads"] == 2 and torch.get_num_threads() == 1
+
+
+# A worker process killed on its own (as the kernel's out-of-memory killer would): the run it
+# held is rerun once, a run that ends its worker twice is reported, every other run is stored.
+
+
+def children(pid: int) -> list[int]:
+    """Process ids of a process's children (Linux /proc)."""
+    found = []
+    for task in Path(f"/proc/{pid}/task").iterdir():
+        found += [int(c) for c in (task / "children").read_text().split()]
+    return found
+
+
+@pytest.mark.skipif(not Path("/proc/self/task").exists(), reason="reads children from /proc")
+def test_a_worker_killed_mid_run_is_replaced_and_the_suite_completes(kill_suite, tmp_path):
+    """Only the worker gets SIGKILL, mid-run; the command carries on, reruns the run the worker
+    held, and stores every run exactly once."""
+    store_file = tmp_path / "runs.db"
+    command = [sys.executable, "-m", "harness.cli", "run", str(kill_suite)]
+    command += ["--jobs", "2", "--quiet", "--store", str(store_file)]
+    process = subprocess.Popen(command, cwd=ROOT, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    deadline = time.monotonic() + 240
+    try:
+        while len(stored_rows(store_file)) < 2 or not children(process.pid):
+            assert process.poll() is None, process.stderr.read().decode()
+            assert time.monotonic() < deadline, "no run was stored within 240 s"
+            time.sleep(0.02)
+        worker = children(process.pid)[0]
+        os.kill(worker, signal.SIGKILL)
+        killed_with = len(stored_rows(store_file))
+        out, err = process.communicate(timeout=240)
+    finally:
+        if process.poll() is None:
+            process.kill()
+            process.wait()
+    specs = expand(load_suite(kill_suite))
+    assert killed_with < len(specs), "the suite ended before the kill; make runs longer"
+    assert process.returncode == 0, err.decode()
+    assert f"{len(specs)} runs trained, 0 reused" in " ".join(out.decode().split())
+    assert sorted(stored_rows(store_file)) == sorted(s.key for s in specs)  # each exactly once
+
+
+def killing_perform(doomed: str, real, parent: int):
+    """perform, except that the doomed run kills any worker process that starts it."""
+
+    def perform(spec):
+        if spec.key == doomed and os.getpid() != parent:
+            os.kill(os.getpid(), signal.SIGKILL)
+        return real(spec)
+
+    return perform
+
+
+def test_a_run_that_kills_its_worker_twice_is_reported_and_the_rest_stored(
+    tiny_suite, store_path, monkeypatch
+):
+    specs = expand(load_suite(tiny_suite))
+    doomed = specs[0]  # the first run goes to the worker
+    real = harness.execution.local.perform
+    monkeypatch.setattr(
+        harness.execution.local, "perform", killing_perform(doomed.key, real, os.getpid())
+    )
+    outcome = execute(specs, store_path, jobs=2)
+    assert (outcome.finished, outcome.interrupted) == (len(specs) - 1, False)
+    assert [(lost.key, lost.exit_code) for lost in outcome.lost] == [(doomed.key, -9)]
+    assert pending(specs, store_path) == [doomed]
+    assert len(store.load_runs(store_path)) == len(specs) - 1
+
+
+def test_the_run_command_names_the_lost_run_and_exits_3(
+    tiny_suite, store_path, monkeypatch, capsys
+):
+    specs = expand(load_suite(tiny_suite))
+    real = harness.execution.local.perform
+    monkeypatch.setattr(
+        harness.execution.local, "perform", killing_perform(specs[0].key, real, os.getpid())
+    )
+    status = main(["run", str(tiny_suite), "--jobs", "2", "--quiet", "--store", str(store_path)])
+    assert status == 3
+    error = capsys.readouterr().err
+    assert (
+        f"tiny_couriers: run attention seed 0 (key {specs[0].key}) ended its worker process "
+        "twice (SIGKILL); likely cause: memory"
+    ) in " ".join(error.split())
+    assert "Traceback" not in error
+    assert len(store.load_runs(store_path)) == len(specs) - 1
+
+
+def test_ctrl_c_just_after_a_run_is_stored_counts_that_run(tiny_suite, store_path, monkeypatch):
+    """Ctrl-C can land between a run's commit and its count: the count comes from the store."""
+    real_save = store.save_run
+    saved = []
+
+    def save_then_interrupt(path, record):
+        real_save(path, record)
+        saved.append(record["key"])
+        if len(saved) == 2:
+            raise KeyboardInterrupt
+
+    monkeypatch.setattr(store, "save_run", save_then_interrupt)
+    outcome = execute(expand(load_suite(tiny_suite)), store_path, jobs=1)
+    assert (outcome.finished, outcome.interrupted) == (2, True)
+    assert sorted(store.load_runs(store_path)["key"]) == sorted(saved)

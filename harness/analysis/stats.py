@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 import warnings
+from collections import Counter
 
 import numpy as np
 import pandas as pd
@@ -265,6 +266,18 @@ def summarise(runs: pd.DataFrame, confidence: float = 0.95) -> pd.DataFrame:
                 "seconds_per_epoch": float(group["seconds_per_epoch"].mean()),
                 "params": int(group["params"].iloc[0]),
                 "peak_mb": float(group["peak_mb"].max()),
+                "warnings": run_warnings(group),
             }
         )
     return pd.DataFrame(rows)
+
+
+def run_warnings(runs: pd.DataFrame) -> tuple[str, ...]:
+    """The warnings recorded in runs (extras["warnings"]), each with how many runs hold it."""
+    texts = [
+        text
+        for extras in runs["extras"]
+        if isinstance(extras, dict)
+        for text in extras.get("warnings", [])
+    ]
+    return tuple(f"{text} ({count} of {len(runs)} runs)" for text, count in Counter(texts).items())

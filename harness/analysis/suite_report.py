@@ -14,7 +14,7 @@ from harness.analysis.ablation_effects import AblationEffects, ablation_effects
 from harness.analysis.arrival import arrival_summary
 from harness.analysis.breakdown import Breakdown, breakdown
 from harness.analysis.cost import cost_tradeoff
-from harness.analysis.stats import describe, paired_comparisons, with_variants
+from harness.analysis.stats import describe, paired_comparisons, run_warnings, with_variants
 from harness.analysis.verdict import best_pair, headline, judge_all
 from harness.data import load_graph
 from harness.errors import InputError
@@ -47,6 +47,8 @@ class SuiteReport:
     arrival: pd.DataFrame  # analysis.arrival.arrival_summary; empty unless runs are inductive
     homophily_map: HomophilyMapSummary | None = None  # stored homophily-map runs, if any
     breakdown: Breakdown | None = None  # per node group; needs stored predictions and the data
+    # said before everything else: runs of the suite not stored yet, warnings recorded in runs
+    notices: tuple[str, ...] = ()
 
 
 def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFrame:
@@ -129,6 +131,7 @@ def analyse(
     homophily_map: HomophilyMapSummary | None = None,
     predictions: dict[str, NodePredictions] | None = None,
     data: Data | None = None,
+    missing: str | None = None,
 ) -> SuiteReport:
     """Every analysis of the runs of one suite; the graph's homophily measures and homophily
     map come from the store (graph_homophily, stored_homophily_map) when known, and the
@@ -162,7 +165,40 @@ def analyse(
         arrival=arrival_summary(runs, settings.confidence),
         homophily_map=homophily_map,
         breakdown=nodes,
+        notices=((missing,) if missing else ()) + warning_lines(runs),
     )
+
+
+def warning_lines(runs: pd.DataFrame) -> tuple[str, ...]:
+    """`warning: contender: text (k of n runs)` for each warning recorded in the runs."""
+    return tuple(
+        f"warning: {contender}: {text}"
+        for contender, group in runs.groupby("contender", sort=False)
+        for text in run_warnings(group)
+    )
+
+
+def missing_runs(runs: pd.DataFrame, suite: Suite) -> str | None:
+    """What of a suite is not stored yet, in one line; None when every run is stored."""
+    from harness.planning import expand
+
+    specs = expand(suite)
+    stored = set(zip(runs["contender"], runs["key"], strict=True))
+    missing = [spec for spec in specs if (spec.contender, spec.key) not in stored]
+    if not missing or suite.tuning is not None:  # a tuned suite's runs follow its trials
+        return None
+    absent = [
+        c for c in dict.fromkeys(s.contender for s in specs) if c not in set(runs["contender"])
+    ]
+    parts = [f"{len(specs) - len(missing)} of {len(specs)} runs stored"]
+    if absent:
+        parts.append(f"no runs yet of {', '.join(absent)}")
+    seeds: dict[str, set[int]] = {}
+    for spec in missing:
+        if spec.contender not in absent:
+            seeds.setdefault(spec.contender, set()).add(spec.seed)
+    parts += [f"{c} lacks seeds {', '.join(map(str, sorted(s)))}" for c, s in seeds.items()]
+    return "incomplete: " + "; ".join(parts) + "; figures cover the stored runs only"
 
 
 def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
@@ -175,7 +211,7 @@ def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
     if loaded.empty:
         raise InputError(f"{store_path}: no stored runs for suite '{suite}'; run it first")
     name = str(loaded["suite"].iloc[0])
-    mapped, predictions, data = None, None, None
+    mapped, predictions, data, missing = None, None, None, None
     if Path(suite).is_file():
         from harness.planning import load_suite
 
@@ -183,8 +219,9 @@ def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
         mapped = stored_homophily_map(store_path, source)
         predictions = load_predictions(store_path, loaded["key"])
         data = load_graph(source.data) if predictions else None
+        missing = missing_runs(loaded, source)
     homophily = graph_homophily(store_path, name)
-    return analyse(loaded, settings_of(suite), homophily, mapped, predictions, data)
+    return analyse(loaded, settings_of(suite), homophily, mapped, predictions, data, missing)
 
 
 def analyse_suite_runs(store_path: str | Path, runs: pd.DataFrame, suite: Suite) -> SuiteReport:

@@ -176,6 +176,11 @@ def run_suite(
         return run_tuned(
             suite, suite_path, store_path, jobs, threads, storage, memory_limit, feedback, cluster
         )
+    if storage is not None:
+        raise InputError(
+            f"--storage: suite '{suite.name}' has no [tuning] table, so nothing would use "
+            f"{storage!r}; allowed: --storage with a suite that tunes"
+        )
     check_suite_memory(suite, suite_path, jobs, memory_limit)  # synthetic: before data
     # spawned workers start before the heavy imports below, so that theirs overlap this
     # process's; forked ones start later, when needed, and inherit them

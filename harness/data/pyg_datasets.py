@@ -7,12 +7,16 @@ itself (schema.data.NAME_CHECKED_BY_PYG) is passed through, and PyG's failure is
 
 from __future__ import annotations
 
+import pickle
+import zipfile
+
 import numpy as np
 import torch
 import torch_geometric.datasets
 from torch_geometric.data import Data
 
 from harness.data.assemble import assemble
+from harness.data.pyg_folder import check_folder, record_folder
 from harness.errors import InputError
 from harness.schema.data import PYG_DATASETS, PygData
 
@@ -43,19 +47,35 @@ def open_dataset(spec: PygData) -> torch_geometric.data.Dataset:
             {"download": _refuse_download, "process": dataset_class.process},
         )
     arguments = {"root": spec.root} if spec.name is None else {"root": spec.root, "name": spec.name}
+    if not spec.trusted:
+        check_folder(spec.root)
     try:
-        return dataset_class(**arguments)
+        dataset = dataset_class(**arguments)
     except _FilesMissing as missing:
         raise InputError(
             f"data: {spec.dataset}{f' {spec.name!r}' if spec.name else ''} files missing and "
             f"download is off; expected {', '.join(missing.files)} in {missing.folder}; allowed: "
             "place the files there or set data.download = true"
         ) from None
-    except (AssertionError, OSError, RuntimeError, ValueError) as error:
+    # empty or corrupt files fail inside PyG in many ways; each is one line
+    except (
+        AssertionError,
+        EOFError,
+        IndexError,
+        KeyError,
+        OSError,
+        RuntimeError,
+        TypeError,
+        ValueError,
+        pickle.UnpicklingError,
+        zipfile.BadZipFile,
+    ) as error:
         first_line = str(error).splitlines()[0] if str(error) else error.__class__.__name__
         raise InputError(
             f"data: cannot load {spec.dataset} from {spec.root}: {first_line}"
         ) from None
+    record_folder(spec.root)
+    return dataset
 
 
 def _split_part(graph: Data) -> np.ndarray | None:

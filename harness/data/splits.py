@@ -32,6 +32,7 @@ def fraction_split(data: Data, spec: BaseModel, seed: int) -> Split:
     counts = np.bincount(labels)
     total = spec.train + spec.validation + spec.test
     smallest = int(np.argmin(np.where(counts > 0, counts, np.iinfo(int).max)))
+    names = getattr(data, "class_names", None) or [str(c) for c in range(len(counts))]
     for part, share in (
         ("train", spec.train),
         ("validation", spec.validation),
@@ -39,7 +40,8 @@ def fraction_split(data: Data, spec: BaseModel, seed: int) -> Split:
     ):
         if counts[smallest] * share < 1:
             raise InputError(
-                f"split.{part}: class {smallest} has {counts[smallest]} labelled nodes, too few "
+                f"split.{part}: class {names[smallest]!r} has {counts[smallest]} labelled nodes, "
+                "too few "
                 f"for a {share:g} share; allowed: shares that give every class at least one node"
             )
     rng = np.random.RandomState(seed)

@@ -3,18 +3,17 @@
 from __future__ import annotations
 
 import contextlib
-import multiprocessing
-import multiprocessing.pool
+import signal
 import threading
-import time
-from collections import deque
+from collections import Counter, deque
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
+from multiprocessing.connection import wait
 from typing import Any
 
 import torch
 
-from harness.execution.pool import available_cores, start_workers
+from harness.execution.pool import Worker, Workers, available_cores, start_workers
 from harness.models import load_builders
 from harness.planning import COMPILE_MIN_EDGES, RunSpec, declared_edges
 from harness.storage import store
@@ -38,6 +37,7 @@ class Outcome:
     finished: int
     interrupted: bool
     failures: tuple[str, ...] = ()  # one line per run that could not finish, naming its spec
+    lost: tuple[LostRun, ...] = ()  # of those, the runs that ended their worker twice
 
 
 def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
@@ -100,10 +100,6 @@ def torch_threads(count: int) -> Iterator[None]:
         torch.set_num_threads(before)
 
 
-def _worker_task(args: tuple[RunSpec, store.Store]) -> str:
-    return run_and_store(*args)
-
-
 def pending(specs: list[RunSpec], store_path: store.Store) -> list[RunSpec]:
     """Specs whose result is not stored yet (for their suite and contender).
 
@@ -118,10 +114,117 @@ def pending(specs: list[RunSpec], store_path: store.Store) -> list[RunSpec]:
     return [s for s in specs if not any((s.suite, s.contender, k) in done for k in s.stored_keys)]
 
 
-def _all_ready(results: list[multiprocessing.pool.AsyncResult]) -> bool:
-    """A callback submits the next run before its own result turns ready: recount afterwards."""
-    seen = list(results)
-    return all(result.ready() for result in seen) and len(results) == len(seen)
+@dataclass(frozen=True)
+class LostRun:
+    """A run whose worker process died under it twice: not stored, reported instead."""
+
+    suite: str
+    label: str
+    seed: int
+    key: str
+    exit_code: int | None
+
+    def message(self) -> str:
+        how = "SIGKILL" if self.exit_code == -signal.SIGKILL else f"exit code {self.exit_code}"
+        return (
+            f"{self.suite}: run {self.label} seed {self.seed} (key {self.key}) ended its worker "
+            f"process twice ({how}); likely cause: memory (the kernel's out-of-memory killer "
+            "sends SIGKILL); lower the suite's sizes or run fewer jobs"
+        )
+
+
+class _Sharing:
+    """Runs shared between this process and its workers; a dead worker's run is rerun once.
+
+    A thread sends runs to idle workers and watches each busy worker's pipe and process: a reply
+    is a finished run, a process that ends without one died under its run.
+    """
+
+    def __init__(
+        self,
+        todo: list[RunSpec],
+        store_path: store.Store,
+        workers: Workers,
+        on_finished: Callable[[str], None] | None,
+    ) -> None:
+        self.queue = deque(todo)
+        self.retry: deque[RunSpec] = deque()  # workers only: a second death spares this process
+        self.store_path = store_path
+        self.workers = workers
+        self.lock = threading.Lock()
+        self.stop = threading.Event()
+        self.deaths: Counter[str] = Counter()
+        self.lost: list[LostRun] = []
+        self.failures: list[BaseException] = []
+        self.on_finished = on_finished or (lambda _: None)
+
+    def take(self, for_worker: bool) -> RunSpec | None:
+        with self.lock:
+            if self.failures or self.stop.is_set():
+                return None
+            if for_worker and self.retry:
+                return self.retry.popleft()
+            return self.queue.popleft() if self.queue else None
+
+    def alone(self) -> bool:
+        """No run left to start and no worker busy: this process's run trains alone."""
+        with self.lock:
+            waiting = self.queue or self.retry
+        return not waiting and all(w.task is None for w in self.workers.members)
+
+    def feed(self, worker: Worker) -> None:
+        spec = self.take(for_worker=True)
+        if spec is None:
+            return
+        try:
+            worker.send(run_and_store, (spec, self.store_path), spec)
+        except OSError:  # the worker died while idle: nothing of this run happened yet
+            worker.task = None
+            self.retry.appendleft(spec)
+            self.workers.replace(worker)
+
+    def died(self, worker: Worker) -> None:
+        spec, worker.task = worker.task, None
+        dead = worker.process
+        self.workers.replace(worker)
+        if not pending([spec], self.store_path):  # killed after its run was stored
+            self.on_finished(spec.contender)
+            return
+        self.deaths[spec.key] += 1
+        if self.deaths[spec.key] == 1:
+            self.retry.append(spec)
+        else:
+            lost = LostRun(spec.suite, spec.label, spec.seed, spec.key, dead.exitcode)
+            self.lost.append(lost)
+
+    def heard(self, worker: Worker) -> None:
+        try:
+            status, value = worker.connection.recv()
+        except (EOFError, OSError):
+            self.died(worker)
+            return
+        worker.task = None
+        if status == "done":
+            self.on_finished(value)
+        else:
+            with self.lock:
+                self.failures.append(value)
+
+    def dispatch(self) -> None:
+        """Until no worker is busy and none has work left (or the sharing stops)."""
+        while not self.stop.is_set():
+            for worker in list(self.workers.members):
+                if worker.task is None:
+                    self.feed(worker)
+            busy = [w for w in self.workers.members if w.task is not None]
+            if not busy:
+                return
+            ready = wait([w.connection for w in busy] + [w.process.sentinel for w in busy], 0.2)
+            for worker in busy:
+                if worker.connection in ready:
+                    self.heard(worker)
+                elif worker.process.sentinel in ready:
+                    self.died(worker)
 
 
 def _share_with_workers(
@@ -129,65 +232,39 @@ def _share_with_workers(
     store_path: store.Store,
     jobs: int,
     on_finished: Callable[[str], None] | None,
-    pool: multiprocessing.pool.Pool,
+    workers: Workers,
     threads: int,
-) -> tuple[int, bool]:
-    """This process trains too, beside jobs - 1 workers, all taking runs from one queue.
+) -> tuple[bool, list[LostRun]]:
+    """This process trains too, beside its jobs - 1 workers, all taking runs from one queue.
 
     A spawned worker spends seconds importing torch and PyG before its first run; this process
     has them loaded already and trains meanwhile instead of waiting.
     """
-    queue = deque(todo)
-    lock = threading.Lock()
-    finished = 0
-    failures: list[BaseException] = []
-    pending_results: list[multiprocessing.pool.AsyncResult] = []
-
-    def count(contender: str) -> None:
-        nonlocal finished
-        with lock:
-            finished += 1
-        if on_finished:
-            on_finished(contender)
-
-    def take() -> RunSpec | None:
-        with lock:
-            return queue.popleft() if queue and not failures else None
-
-    def submit(_: object = None) -> None:
-        spec = take()
-        if spec is not None:
-            pending_results.append(
-                pool.apply_async(
-                    _worker_task,
-                    ((spec, store_path),),
-                    callback=lambda contender: (count(contender), submit()),
-                    error_callback=failures.append,
-                )
-            )
+    sharing = _Sharing(todo, store_path, workers, on_finished)
+    for worker in workers.members:  # workers first: a rerun never lands in this process
+        sharing.feed(worker)
+    thread = threading.Thread(target=sharing.dispatch, name="heedful-dispatch", daemon=True)
+    thread.start()
 
     torch.set_num_threads(threads)
     try:
-        for _ in range(jobs - 1):
-            submit()
-        while (spec := take()) is not None:
-            alone = not queue and _all_ready(pending_results)
+        while (spec := sharing.take(for_worker=False)) is not None:
+            alone = sharing.alone()
             with torch_threads(last_run_threads(spec, jobs, threads) if alone else threads):
-                count(run_and_store(spec, store_path))
-        while not _all_ready(pending_results):
-            time.sleep(0.02)
-        if failures:
-            raise failures[0]
-        pool.close()
-    except KeyboardInterrupt:
-        pool.terminate()
-        return finished, True
-    except BaseException:
-        pool.terminate()
+                sharing.on_finished(run_and_store(spec, store_path))
+        while thread.is_alive():
+            thread.join(0.05)  # short waits: Ctrl-C is only seen between them
+        if sharing.failures:
+            raise sharing.failures[0]
+        workers.close()
+    except BaseException as error:
+        sharing.stop.set()
+        thread.join()
+        workers.terminate()
+        if isinstance(error, KeyboardInterrupt):
+            return True, sharing.lost
         raise
-    finally:
-        pool.join()
-    return finished, False
+    return False, sharing.lost
 
 
 def execute(
@@ -195,37 +272,38 @@ def execute(
     store_path: store.Store,
     jobs: int = 1,
     on_finished: Callable[[str], None] | None = None,
-    workers: multiprocessing.pool.Pool | None = None,
+    workers: Workers | None = None,
     threads: int = 1,
 ) -> Outcome:
     """Run every spec not yet stored, on `jobs` processes of `threads` torch threads each;
     Ctrl-C keeps what finished.
 
-    `workers`, if given, is a pool of jobs - 1 processes from `start_workers` with the same
-    `threads` and WORKER_MODULES, started early by the caller; execute owns it from here and
-    shuts it down.
+    `workers`, if given, holds jobs - 1 processes from `start_workers` with the same `threads`
+    and WORKER_MODULES, started early by the caller; execute owns them from here and shuts
+    them down.
     """
     todo = pending(specs, store_path)
-    finished = 0
     interrupted = False
+    lost: list[LostRun] = []
     if jobs == 1 or len(todo) <= 1:
         if workers is not None:
             workers.terminate()
-            workers.join()
         torch.set_num_threads(threads)
         try:
             for spec in todo:  # with jobs > 1, a single run left
                 with torch_threads(last_run_threads(spec, jobs, threads)):
-                    on = run_and_store(spec, store_path)
-                finished += 1
+                    contender = run_and_store(spec, store_path)
                 if on_finished:
-                    on_finished(on)
+                    on_finished(contender)
         except KeyboardInterrupt:
             interrupted = True
     else:
         if workers is None:
             workers = start_workers(jobs - 1, threads, WORKER_MODULES)
-        finished, interrupted = _share_with_workers(
+        interrupted, lost = _share_with_workers(
             todo, store_path, jobs, on_finished, workers, threads
         )
-    return Outcome(len(specs), len(specs) - len(todo), finished, interrupted)
+    # counted in the store: a run may be stored in the moment Ctrl-C or a kill arrives
+    finished = len(todo) - len(pending(todo, store_path))
+    failures = tuple(run.message() for run in lost)
+    return Outcome(len(specs), len(specs) - len(todo), finished, interrupted, failures, tuple(lost))

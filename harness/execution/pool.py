@@ -6,11 +6,15 @@ from __future__ import annotations
 import gc
 import importlib
 import multiprocessing
-import multiprocessing.pool
+import multiprocessing.context
 import os
+import pickle
 import signal
 import sys
 import threading
+from collections.abc import Callable
+from multiprocessing.connection import Connection
+from typing import Any
 
 from harness.errors import InputError
 
@@ -60,18 +64,95 @@ def worker_setup(threads: int, preload: tuple[str, ...] = ()) -> None:
     gc.freeze()
 
 
-def start_workers(
-    count: int, threads: int, preload: tuple[str, ...] = ()
-) -> multiprocessing.pool.Pool:
-    """A pool of `count` workers, `threads` torch threads each (see start_method), each with
-    the `preload` modules imported."""
-    context = multiprocessing.get_context(start_method(threads))
-    # workers start with Ctrl-C ignored (inherited, and kept across exec), so none prints a
-    # traceback while still starting; this process alone decides what Ctrl-C does
-    main_thread = threading.current_thread() is threading.main_thread()
-    default = signal.signal(signal.SIGINT, signal.SIG_IGN) if main_thread else None
-    try:
-        return context.Pool(count, initializer=worker_setup, initargs=(threads, preload))
-    finally:
-        if main_thread:
-            signal.signal(signal.SIGINT, default)
+class Worker:
+    """One worker process and this process's end of its pipe; `task` is what it runs now."""
+
+    def __init__(
+        self, context: multiprocessing.context.BaseContext, threads: int, preload: tuple[str, ...]
+    ) -> None:
+        self.connection, theirs = context.Pipe()
+        arguments = (theirs, threads, preload)
+        self.process = context.Process(target=_serve, args=arguments, daemon=True)
+        self.process.start()
+        theirs.close()
+        self.task: Any = None
+
+    def send(self, function: Callable[..., Any], arguments: tuple, task: Any) -> None:
+        self.task = task
+        self.connection.send((function, arguments))
+
+
+class Workers:
+    """Worker processes that each run one task at a time, sent to them by this process.
+
+    Unlike a multiprocessing pool, the sender knows which task each worker holds, so a worker
+    that dies (the kernel's out-of-memory killer sends SIGKILL) is noticed with its task.
+    """
+
+    def __init__(self, count: int, threads: int, preload: tuple[str, ...] = ()) -> None:
+        self.threads, self.preload = threads, preload
+        self.context = multiprocessing.get_context(start_method(threads))
+        self.members = [self.start() for _ in range(count)]
+
+    def start(self) -> Worker:
+        # workers start with Ctrl-C ignored (inherited, and kept across exec), so none prints a
+        # traceback while still starting; this process alone decides what Ctrl-C does
+        main_thread = threading.current_thread() is threading.main_thread()
+        default = signal.signal(signal.SIGINT, signal.SIG_IGN) if main_thread else None
+        try:
+            return Worker(self.context, self.threads, self.preload)
+        finally:
+            if main_thread:
+                signal.signal(signal.SIGINT, default)
+
+    def replace(self, dead: Worker) -> Worker:
+        dead.connection.close()
+        dead.process.join()
+        fresh = self.start()
+        self.members[self.members.index(dead)] = fresh
+        return fresh
+
+    def close(self) -> None:
+        """Ask every worker to stop after its task, and wait for them."""
+        for worker in self.members:
+            try:
+                worker.connection.send(None)
+            except OSError:
+                pass  # already gone
+        for worker in self.members:
+            worker.process.join()
+            worker.connection.close()
+
+    def terminate(self) -> None:
+        for worker in self.members:
+            worker.process.kill()
+        for worker in self.members:
+            worker.process.join()
+            worker.connection.close()
+
+
+def _serve(connection: Connection, threads: int, preload: tuple[str, ...]) -> None:
+    """A worker's life: set up, then run each task sent until told to stop."""
+    worker_setup(threads, preload)
+    while True:
+        try:
+            task = connection.recv()
+        except EOFError:  # the sender is gone
+            return
+        if task is None:
+            return
+        function, arguments = task
+        try:
+            reply = ("done", function(*arguments))
+        except Exception as error:  # the sender raises it, as a pool would
+            reply = ("error", error)
+        try:
+            connection.send(reply)
+        except (pickle.PicklingError, TypeError, AttributeError):
+            connection.send(("error", RuntimeError(f"{type(reply[1]).__name__}: {reply[1]}")))
+
+
+def start_workers(count: int, threads: int, preload: tuple[str, ...] = ()) -> Workers:
+    """`count` workers, `threads` torch threads each (see start_method), each with the
+    `preload` modules imported."""
+    return Workers(count, threads, preload)

@@ -79,6 +79,7 @@ def render(report: SuiteReport, plots: dict[str, bytes], trend: bytes | None = N
 </head>
 <body>
 <h1>Heedful report: {escape(report.suite)}</h1>
+{"".join(f'<p class="notice">{escape(notice)}</p>' for notice in report.notices)}
 <blockquote>{escape(report.headline)}</blockquote>
 <p class="note">{escape(facts(report))}</p>
 <h2>Plots</h2>

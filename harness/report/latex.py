@@ -64,6 +64,7 @@ def render(report: SuiteReport) -> str:
             r"\usepackage[margin=2cm]{geometry}",
             r"\begin{document}",
             rf"\section*{{Heedful report: {escape(report.suite)}}}",
+            *[rf"\textbf{{{escape(notice)}}}\par" for notice in report.notices],
             escape(report.headline),
             "",
             body,

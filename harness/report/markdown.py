@@ -31,6 +31,7 @@ def render(report: SuiteReport, plots: list[str]) -> str:
         "",
         escape(facts(report)),
     ]
+    parts[1:1] = [line for notice in report.notices for line in ("", f"**{escape(notice)}**")]
     for part in report_tables(report):
         parts += ["", table(part)]
         if part.name == "comparisons":

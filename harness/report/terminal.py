@@ -57,6 +57,9 @@ def print_summary(summary: pd.DataFrame, console: Console | None = None) -> None
     console = console or Console()
     for suite, group in summary.groupby("suite", sort=False):
         console.print(summary_table(group.reset_index(drop=True), f"Suite: {escape(str(suite))}"))
+        for row in group.itertuples():
+            for text in getattr(row, "warnings", ()):
+                console.print(f"warning: {row.contender}: {text}", markup=False, highlight=False)
 
 
 def _share(value: float, chance: float) -> str:
@@ -222,6 +225,8 @@ def print_arrival(report: SuiteReport, console: Console | None = None) -> None:
 def print_report(report: SuiteReport, console: Console | None = None) -> None:
     """Every table of the report, then the verdicts."""
     console = console or Console()
+    for line in report.notices:
+        console.print(line, markup=False, highlight=False, soft_wrap=True)
     for part in report_tables(report):
         if part.name not in ("comparisons", "breakdown_headline"):
             console.print(text_table(part))

@@ -29,7 +29,7 @@ def facts(report: SuiteReport) -> str:
     """One paragraph: what was measured and with which settings."""
     settings = report.settings
     return (
-        f"Metric: test {report_metric(report)}; {report.runs['seed'].nunique()} seeds; minimum "
+        f"Metric: test {report_metric(report)}; {seed_count(report)}; minimum "
         f"gain that matters: {points(settings.minimum_gain)}; confidence "
         f"{settings.confidence:.0%}; {settings.bootstrap_resamples} bootstrap resamples. "
         "Figures are estimates on this data under these splits and seeds, not guarantees "
@@ -39,6 +39,14 @@ def facts(report: SuiteReport) -> str:
 
 def report_metric(report: SuiteReport) -> str:
     return metric_label(report.metric)
+
+
+def seed_count(report: SuiteReport) -> str:
+    """Seeds per contender, as the tables count them: `6 seeds`, or `3 to 6 seeds per
+    contender` while a suite is partly run (the headline counts the seeds a pair shares)."""
+    counts = report.contenders["seeds"]
+    low, high = int(counts.min()), int(counts.max())
+    return f"{high} seeds" if low == high else f"{low} to {high} seeds per contender"
 
 
 def _table(name: str, title: str, header: list[str], rows: list[list[str]], note: str = ""):

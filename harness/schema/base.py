@@ -10,7 +10,7 @@ from pydantic import BaseModel, ConfigDict, ValidationError, model_validator
 
 UNKNOWN_KEY = "unknown key"
 STRAY_BOOLEAN = "true/false given for"
-QUOTED_NUMBER = "a number given as text for"
+QUOTED_VALUE = "text given where allowed is"
 
 
 class StrictModel(BaseModel):
@@ -39,9 +39,11 @@ class StrictModel(BaseModel):
                 value, field = data[key], cls.model_fields[key]
                 if isinstance(value, bool) and not takes_bool(field.annotation):
                     raise ValueError(f"{STRAY_BOOLEAN} {key} {str(value).lower()}")
-                # pydantic would read "4" as 4: a hand-edited file must say what it means
-                if quoted_number(value, field.annotation):
-                    raise ValueError(f"{QUOTED_NUMBER} {key}")
+                # pydantic would read "4" as 4 and "yes" as true: a hand-edited file must say
+                # what it means
+                expected = quoted_value(value, field.annotation)
+                if expected:
+                    raise ValueError(f"{QUOTED_VALUE} {expected}: {key}")
         return data
 
 
@@ -69,16 +71,23 @@ def _takes_text(branch: Any) -> bool:
     return branch in (str, Any) or (isinstance(branch, type) and issubclass(branch, PurePath))
 
 
-def quoted_number(value: Any, annotation: Any) -> bool:
-    """Whether `value` is text (or a list holding text) where only numbers are allowed."""
+def quoted_value(value: Any, annotation: Any) -> str | None:
+    """What is allowed, when `value` is text (or a list holding text) where only numbers or
+    true/false are; else None."""
     branches = _branches(annotation)
-    if isinstance(value, str):
-        numeric = any(b in (int, float) for b in branches)
-        return numeric and not any(_takes_text(b) for b in branches)
+    if isinstance(value, str) and not any(_takes_text(b) for b in branches):
+        if any(b in (int, float) for b in branches):
+            return "a number"
+        if bool in branches:
+            return "true or false"
+        return None
     if isinstance(value, list):
         items = [get_args(b)[0] for b in branches if get_origin(b) is list and get_args(b)]
-        return any(quoted_number(item, kind) for item in value for kind in items[:1])
-    return False
+        for item in value:
+            for kind in items[:1]:
+                if expected := quoted_value(item, kind):
+                    return expected
+    return None
 
 
 def key_path(loc: tuple, raw: Any, missing: bool = False) -> str:
@@ -111,11 +120,11 @@ def format_validation_error(error: ValidationError, raw: Any, source: str) -> st
         key, value = message.split()[-2:]
         where = key if where == "(top level)" else f"{where}.{key}"
         return f"{source}: {where}: given {value}; allowed: a number or text, not true or false"
-    if message.startswith(QUOTED_NUMBER):
-        key = message.split()[-1]
+    if message.startswith(QUOTED_VALUE):
+        expected, key = message.removeprefix(QUOTED_VALUE + " ").rsplit(": ", 1)
         where = key if where == "(top level)" else f"{where}.{key}"
         value = raw_value(raw, where)
-        return f"{source}: {where}: given {show(value)} (text); allowed: a number, without quotes"
+        return f"{source}: {where}: given {show(value)} (text); allowed: {expected}, without quotes"
     if first["type"] == "union_tag_not_found":
         tag = first.get("ctx", {}).get("discriminator", "the kind")
         return f"{source}: {where}: required key {tag} is missing"

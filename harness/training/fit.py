@@ -204,12 +204,21 @@ def fit(
         probabilities = torch.softmax(test_logits, dim=1).numpy()
         predictions = NodePredictions(split.test.numpy(), probabilities, data.num_nodes)
     params = sum(p.numel() for p in model.parameters())
+    present = int(torch.unique(test_y).numel())
+    # scikit-learn's one-vs-rest ROC-AUC can only cover the classes the test split holds
+    warnings = (
+        [f"the test split holds {present} of {classes} classes; ROC-AUC covers those present"]
+        if 0 < present < classes
+        else []
+    )
     parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
     peak = parameter_bytes * (2 + ADAM_STATES) + inputs + meter.bytes
     compiled = forward.mode == "compiled"
     extras: dict[str, Any] = {"compile": compile_record(compiled, compile_seconds, forward.warning)}
     if training.sampled:
         extras["batching"] = feed.extras()
+    if warnings:
+        extras["warnings"] = warnings
     return RunResult(
         val_metric=score(metric, logits[split.validation], val_y, classes),
         test_metric=test_scores[metric],
