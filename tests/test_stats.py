@@ -113,7 +113,7 @@ def test_summarise_keeps_its_columns_for_the_terminal_table():
     summary = summarise(runs)
     assert list(summary.columns) == [
         "suite", "contender", "model", "metric", "seeds", "mean", "std", "ci_low", "ci_high",
-        "ci_clipped", "confidence", "seconds_per_epoch", "params", "peak_mb",
+        "ci_clipped", "confidence", "seconds_per_epoch", "params", "peak_mb", "warnings",
     ]  # fmt: skip
     assert summary["mean"].iloc[0] == pytest.approx(np.mean(VALUES))
     assert summary["confidence"].iloc[0] == 0.95
