@@ -428,6 +428,17 @@ CASES: list[Bad] = [
         "gate {suite} --baseline {folder} --store {store}",
         "cannot read baseline file",
     ),
+    # 3 (landed with the memory estimate): sizes in range whose graph would not fit in memory
+    Bad(
+        "memory_above_limit",
+        ("run", "{suite}", "--store", "{store}"),
+        "data: generating this graph needs about",
+        {
+            "suite.toml": TINY_SUITE.replace("nodes = 120", "nodes = 2000000")
+            .replace("average_degree = 6", "average_degree = 1000")
+            .replace("feature_dimension = 8", "feature_dimension = 10000")
+        },
+    ),
     # command-line arguments (2: jobs within the cores; 11: --storage needs [tuning])
     command("no_command", "", "the following arguments are required: COMMAND"),
     command("unknown_command", "launch {suite}", "invalid choice: 'launch'"),
