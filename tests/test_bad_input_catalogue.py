@@ -414,6 +414,7 @@ CASES: list[Bad] = [
         "contenders.attention.model: required key is missing",
     ),
     baseline_text("baseline_empty", "", "baseline file is empty"),
+    baseline_text("baseline_cut_in_a_string", '{"format": "heedful bas', "is truncated"),
     baseline_text("baseline_truncated", '{"format": "heedful baseline", ', "is truncated"),
     baseline_text("baseline_not_json", "format = 1\n", "is not valid JSON"),
     baseline_text("baseline_array", "[1, 2]", "given a JSON list"),
