@@ -403,7 +403,9 @@ CASES: list[Bad] = [
     ),
     baseline(
         "baseline_contender_extra",
-        lambda d: d["contenders"].update(ghost=d["contenders"]["attention"]),
+        lambda d: d["contenders"].update(
+            ghost=dict(d["contenders"]["attention"], contender="ghost")
+        ),
         "contenders.ghost: in the baseline but not in the suite",
     ),
     baseline("baseline_no_contenders", lambda d: d.update(contenders={}), "at least one"),
