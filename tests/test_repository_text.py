@@ -37,7 +37,7 @@ def tracked_files() -> list[str]:
             ["git", "ls-files", "-z"], cwd=ROOT, capture_output=True, check=True
         ).stdout
     except (OSError, subprocess.CalledProcessError):
-        pytest.skip("not a git checkout")
+        pytest.skip("not a git checkout")  # an unpacked source archive; CI always clones
     return [name for name in listing.decode().split("\0") if name]
 
 

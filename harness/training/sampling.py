@@ -119,6 +119,8 @@ class UniformNeighbourSampler(BaseSampler):
         )
 
     def sample_from_edges(self, index: Any, neg_sampling: Any = None) -> SamplerOutput:
+        # PyG's sampler interface asks for it; link suites refuse sampled batches in the schema,
+        # so only a caller outside Heedful's pipeline could reach this
         raise NotImplementedError("Heedful samples around nodes only")
 
 
