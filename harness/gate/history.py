@@ -10,34 +10,12 @@ import json
 import uuid
 
 import pandas as pd
-from sqlalchemy import Column, Double, Integer, Table, Text
 
 from harness.gate.compare import GateOutcome
 from harness.storage.database import has_table, opened, prepare, read_rows
-from harness.storage.store import METADATA, Store
+from harness.storage.store import Store
+from harness.storage.tables import GATE_HISTORY
 
-GATE_HISTORY = Table(
-    "gate_history",
-    METADATA,
-    Column("gate_id", Text, primary_key=True),
-    Column("suite", Text, nullable=False),
-    Column("contender", Text, primary_key=True),
-    Column("gated_at", Double, nullable=False),
-    Column("metric", Text, nullable=False),
-    Column("metric_mean", Double),
-    Column("baseline_mean", Double),
-    Column("difference", Double),
-    Column("difference_low", Double),
-    Column("difference_high", Double),
-    Column("p_value", Double),
-    Column("seconds_per_epoch", Double),
-    Column("peak_mb", Double),
-    Column("verdicts", Text, nullable=False),
-    Column("contender_status", Text, nullable=False),
-    Column("gate_status", Text, nullable=False),
-    Column("environment", Text, nullable=False),
-    Column("environment_differs", Integer, nullable=False),
-)
 COLUMNS = tuple(column.name for column in GATE_HISTORY.columns)
 STATUS_ORDER = ("fail", "warn", "pass", "skip")
 

@@ -7,24 +7,14 @@ import time
 from pathlib import Path
 
 from pydantic import BaseModel
-from sqlalchemy import Column, Double, Table, Text
 
 from harness.data import load_graph
 from harness.data.assemble import cleaning_notes
 from harness.data.profile import DatasetProfile, profile_graph
 from harness.digest import text_digest
 from harness.storage.database import insert, opened, prepare, read_rows
-from harness.storage.store import METADATA, Store
-
-PROFILES = Table(
-    "profiles",
-    METADATA,
-    Column("suite", Text, primary_key=True),
-    Column("data_key", Text, primary_key=True),
-    Column("data", Text, nullable=False),
-    Column("profile", Text, nullable=False),
-    Column("stored_at", Double, nullable=False),
-)
+from harness.storage.store import Store
+from harness.storage.tables import PROFILES
 
 
 def data_key(section: BaseModel) -> str:

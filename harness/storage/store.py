@@ -16,57 +16,16 @@ from pathlib import Path
 from typing import Any
 
 import pandas as pd
-from sqlalchemy import BigInteger, Column, Double, Integer, LargeBinary, MetaData, Table, Text
 
 import harness
 from harness.storage.database import Location, insert, locate, opened, prepare, read_rows
+from harness.storage.tables import PREDICTIONS, RUNS, TEST_COLUMNS
+from harness.storage.tables import TEST_METRICS as TEST_METRICS  # execution fills one per metric
 
 DEFAULT_STORE = Path("runs/heedful.db")
 JSON_COLUMNS = ("options", "point", "curve", "extras")
-# every test metric of every task has a column `test_NAME`; a run fills its task's, NULL elsewhere
-TEST_METRICS = ("accuracy", "macro_f1", "roc_auc", "average_precision", "hits_at_k")
-TEST_COLUMNS = tuple(f"test_{name}" for name in TEST_METRICS)
 # NaN is kept as NULL; read back, an all-NULL column would hold None instead of NaN
 NULLABLE_NUMBERS = ("val_metric", "test_metric", *TEST_COLUMNS)
-
-METADATA = MetaData()
-RUNS = Table(
-    "runs",
-    METADATA,
-    Column("suite", Text, primary_key=True),
-    Column("contender", Text, primary_key=True),
-    Column("key", Text, primary_key=True),
-    Column("model", Text, nullable=False),
-    Column("options", Text, nullable=False),
-    Column("point", Text, nullable=False),
-    Column("seed", Integer, nullable=False),
-    Column("metric", Text, nullable=False),
-    Column("val_metric", Double),
-    Column("test_metric", Double),
-    Column("test_accuracy", Double),
-    Column("test_macro_f1", Double),
-    Column("test_roc_auc", Double),
-    Column("test_average_precision", Double),  # link prediction; added to older stores
-    Column("test_hits_at_k", Double),
-    Column("epochs", Integer, nullable=False),
-    Column("best_epoch", Integer, nullable=False),
-    Column("seconds", Double, nullable=False),
-    Column("seconds_per_epoch", Double, nullable=False),
-    Column("params", BigInteger, nullable=False),
-    Column("peak_mb", Double, nullable=False),
-    Column("curve", Text, nullable=False),
-    Column("extras", Text, nullable=False),
-    Column("version", Text, nullable=False),
-    Column("finished_at", Double, nullable=False),
-)
-# test-node probabilities of a run (storage/predictions.py); a key fixes the result, so runs
-# of one key in several suites share one row, and `show` reads them only when asked
-PREDICTIONS = Table(
-    "predictions",
-    METADATA,
-    Column("key", Text, primary_key=True),
-    Column("encoded", LargeBinary, nullable=False),
-)
 
 Store = str | Path | Location
 
