@@ -238,7 +238,7 @@ def test_reproducibility_change_and_other_environment_are_reported(saved, tmp_pa
 
 
 def test_gate_runs_are_kept_in_history(saved, tmp_path, capsys):
-    from harness.gate.history import load_history
+    from harness.storage.gate_history import load_history
 
     store = tmp_path / "copy.db"
     shutil.copy(saved["store"], store)

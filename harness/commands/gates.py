@@ -12,7 +12,6 @@ from harness.commands.run import Executed, execute_specs
 from harness.execution.local import pending
 from harness.execution.pool import check_threads
 from harness.execution.preflight import preflight
-from harness.gate import history
 from harness.gate.baseline import (
     build_baseline,
     check_gateable,
@@ -25,10 +24,12 @@ from harness.gate.baseline import (
     write_baseline,
 )
 from harness.gate.compare import GateOutcome, evaluate
+from harness.gate.records import history_records
 from harness.planning import RunSpec, expand, load_suite
 from harness.report.gate_markdown import gate_markdown
 from harness.report.junit import write_junit
 from harness.schema.suite import Suite
+from harness.storage import gate_history
 from harness.storage.selection import spec_runs
 
 if TYPE_CHECKING:
@@ -129,7 +130,7 @@ def gate(
     outcome = evaluate(
         suite, labels, stored, runs, environment, differences, time.time(), unmatched
     )
-    history.append(store_path, outcome)
+    gate_history.append(store_path, history_records(outcome))
     if junit:
         write_junit(junit, outcome)
     if markdown:

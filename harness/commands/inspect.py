@@ -125,12 +125,12 @@ def show(
 @dataclass(frozen=True)
 class HistoryOutcome:
     suite: str
-    history: pd.DataFrame  # harness.gate.history.load_history
+    history: pd.DataFrame  # harness.storage.gate_history.load_history
     status: int = 0
 
 
 def history(store_path: Location, suite_argument: str) -> HistoryOutcome:
-    from harness.gate.history import load_history
+    from harness.storage.gate_history import load_history
 
     name = suite_names(suite_argument)[0]
     frame = load_history(store_path, name)
@@ -151,9 +151,9 @@ class ReportOutcome:
 
 def report(store_path: Location, suite_argument: str, out: Path) -> ReportOutcome:
     from harness.analysis.suite_report import analyse_store
-    from harness.gate.history import stored_history
     from harness.report.files import write_report
     from harness.report.trend import trend_png
+    from harness.storage.gate_history import stored_history
 
     analysed = analyse_store(store_path, suite_argument)
     trend = trend_png(stored_history(store_path, analysed.suite))

@@ -1,1 +1,1 @@
-"""Takes a suite's current runs and a baseline; gives baseline files, outcomes and history."""
+"""Takes a suite's current runs and a baseline; gives baseline files, outcomes and history rows."""

@@ -70,7 +70,7 @@ PROFILES = Table(
     *required(Text, "data", "profile"),
     *required(Double, "stored_at"),
 )
-# one contender's row of one gate run (harness/gate/history.py)
+# one contender's row of one gate run (harness/storage/gate_history.py)
 GATE_HISTORY = Table(
     "gate_history",
     METADATA,

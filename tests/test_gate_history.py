@@ -6,16 +6,24 @@ import os
 
 import pandas as pd
 import pytest
+from sqlalchemy import text
 
 from harness.cli import main
 from harness.gate.baseline import build_baseline, contender_labels
 from harness.gate.compare import evaluate
-from harness.gate.history import append, load_history, stored_history
+from harness.gate.records import history_records
 from harness.planning import expand, parse_suite
 from harness.report.gate_terminal import sparkline
 from harness.report.html import trend_section
 from harness.report.trend import save_trend, trend_figure, trend_png
 from harness.schema.gate import BaselineFile
+from harness.storage.database import opened
+from harness.storage.gate_history import (
+    GateRecord,
+    append,
+    load_history,
+    stored_history,
+)
 
 # A fictional bicycle-share network: docks are nodes, frequent rides between docks are edges.
 RAW = {
@@ -77,7 +85,7 @@ def stored(tmp_path):
     for day, (metric, seconds, memory) in enumerate(nights):
         runs = runs_of(specs, metric, seconds, memory)
         outcome = evaluate(suite, labels, baseline, runs, ENVIRONMENT, [], 1.8e9 + day * 86400)
-        append(store, outcome)
+        append(store, history_records(outcome))
     return store
 
 
@@ -158,3 +166,59 @@ def test_importing_the_trend_plot_keeps_the_matplotlib_backend() -> None:
         [sys.executable, "-c", probe], capture_output=True, text=True, env=env, check=True
     )
     assert shown.stdout.strip() == "svg"
+
+
+# the gate_history table exactly as the versions that kept it in harness/gate/ created it
+# (SQLite reads DOUBLE PRECISION as a floating-point column, so one statement serves both)
+OLD_HISTORY_SCHEMA = """
+CREATE TABLE gate_history (
+    gate_id TEXT NOT NULL, suite TEXT NOT NULL, contender TEXT NOT NULL,
+    gated_at DOUBLE PRECISION NOT NULL, metric TEXT NOT NULL, metric_mean DOUBLE PRECISION,
+    baseline_mean DOUBLE PRECISION, difference DOUBLE PRECISION,
+    difference_low DOUBLE PRECISION, difference_high DOUBLE PRECISION, p_value DOUBLE PRECISION,
+    seconds_per_epoch DOUBLE PRECISION, peak_mb DOUBLE PRECISION, verdicts TEXT NOT NULL,
+    contender_status TEXT NOT NULL, gate_status TEXT NOT NULL, environment TEXT NOT NULL,
+    environment_differs INTEGER NOT NULL, PRIMARY KEY (gate_id, contender)
+)
+"""
+OLD_ROW = (
+    "INSERT INTO gate_history VALUES ('0123456789abcdef', 'docks', 'attention', 1.8e9, "
+    "'accuracy', 0.71, 0.81, -0.1, -0.12, -0.08, 0.004, 0.012, 1.0, "
+    """'{"memory": "pass", "metric": "fail", "time": "pass"}', 'fail', 'fail', """
+    """'{"threads": 2}', 1)"""
+)
+
+
+def test_a_history_written_by_the_old_code_reads_and_grows(any_store, stored):
+    with opened(any_store, write=True) as connection:
+        connection.execute(text(OLD_HISTORY_SCHEMA))
+        connection.execute(text(OLD_ROW))
+    old = load_history(any_store, "docks")
+    assert old.drop(columns=["verdicts", "environment"]).iloc[0].to_dict() == {
+        "gate_id": "0123456789abcdef",
+        "suite": "docks",
+        "contender": "attention",
+        "gated_at": 1.8e9,
+        "metric": "accuracy",
+        "metric_mean": 0.71,
+        "baseline_mean": 0.81,
+        "difference": -0.1,
+        "difference_low": -0.12,
+        "difference_high": -0.08,
+        "p_value": 0.004,
+        "seconds_per_epoch": 0.012,
+        "peak_mb": 1.0,
+        "contender_status": "fail",
+        "gate_status": "fail",
+        "environment_differs": True,
+    }
+    assert old["verdicts"][0] == {"memory": "pass", "metric": "fail", "time": "pass"}
+    assert old["environment"][0] == {"threads": 2}
+    # a gate run of today lands in the same table, after the old one
+    newest = load_history(stored, "docks").tail(2)
+    records = [GateRecord(**row) for row in newest.drop(columns="gate_id").to_dict("records")]
+    append(any_store, records)
+    grown = load_history(any_store, "docks")
+    assert grown["gate_id"].nunique() == 2
+    assert grown["contender"].tolist() == ["attention", "attention", "features_only"]
+    assert grown["peak_mb"].tolist() == [1.0, 1.5, 1.5]

@@ -1,61 +1,63 @@
 """Gate history: every gate run appended to the result store, one row per contender.
 
 Kept in its own table of the same store, so `heedful history` and the HTML report can
-show how each contender's metric and costs moved from night to night.
+show how each contender's metric and costs moved from night to night. The gate turns its
+outcome into `GateRecord`s (harness/gate/compare.py); this module only stores and reads them.
 """
 
 from __future__ import annotations
 
 import json
 import uuid
+from collections.abc import Sequence
+from dataclasses import asdict, dataclass
+from typing import Any
 
 import pandas as pd
 
-from harness.gate.compare import GateOutcome
 from harness.storage.database import has_table, opened, prepare, read_rows
 from harness.storage.store import Store
 from harness.storage.tables import GATE_HISTORY
 
 COLUMNS = tuple(column.name for column in GATE_HISTORY.columns)
-STATUS_ORDER = ("fail", "warn", "pass", "skip")
 
 
-def append(store: Store, outcome: GateOutcome) -> str:
+@dataclass(frozen=True)
+class GateRecord:
+    """One contender's row of one gate run: its figures, its verdicts and where the gate ran."""
+
+    suite: str
+    contender: str
+    gated_at: float  # seconds since the epoch
+    metric: str
+    metric_mean: float
+    baseline_mean: float
+    difference: float  # current minus baseline mean, with its interval's ends
+    difference_low: float
+    difference_high: float
+    p_value: float
+    seconds_per_epoch: float
+    peak_mb: float
+    verdicts: dict[str, str]  # check name -> status
+    contender_status: str  # the worst of its verdicts
+    gate_status: str
+    environment: dict[str, Any]
+    environment_differs: bool  # from the baseline's environment
+
+
+def append(store: Store, records: Sequence[GateRecord]) -> str:
     """Store one gate run (all its contenders in one transaction); returns its id."""
     gate_id = uuid.uuid4().hex[:16]
     rows = []
-    for contender in outcome.contender_seconds:
-        checks = outcome.of(contender)
-        metric, time_check, memory = checks["metric"], checks["time"], checks["memory"]
-        statuses = {name: check.status for name, check in checks.items()}
-        worst = next(s for s in STATUS_ORDER if s in statuses.values())
-        rows.append(
-            (
-                gate_id,
-                outcome.suite,
-                contender,
-                outcome.gated_at,
-                outcome.metric,
-                metric.figures["current"],
-                metric.figures["baseline"],
-                metric.figures["difference"],
-                metric.figures["low"],
-                metric.figures["high"],
-                metric.figures["p_value"],
-                time_check.figures["current"],
-                memory.figures["current"],
-                json.dumps(statuses, sort_keys=True),
-                worst,
-                outcome.status,
-                json.dumps(outcome.environment, sort_keys=True),
-                int(bool(outcome.environment_differences)),
-            )
-        )
+    for record in records:
+        row = {"gate_id": gate_id, **asdict(record)}
+        row["verdicts"] = json.dumps(record.verdicts, sort_keys=True)
+        row["environment"] = json.dumps(record.environment, sort_keys=True)
+        row["environment_differs"] = int(record.environment_differs)
+        rows.append(row)
     with opened(store, write=True) as connection:
         prepare(connection, GATE_HISTORY)
-        connection.execute(
-            GATE_HISTORY.insert(), [dict(zip(COLUMNS, row, strict=True)) for row in rows]
-        )
+        connection.execute(GATE_HISTORY.insert(), rows)
     return gate_id
 
 
