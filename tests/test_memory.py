@@ -25,7 +25,7 @@ from harness.schema.contenders import (
     NeighbourMeanOptions,
 )
 from harness.schema.data import SyntheticData
-from harness.training.fit import ActivationMeter
+from harness.training.resources import ActivationMeter
 
 KINDS = {
     "gat": AttentionOptions(model="gat"),

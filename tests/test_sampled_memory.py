@@ -11,7 +11,7 @@ from harness.schema.contenders import AttentionOptions
 from harness.schema.data import SyntheticData
 from harness.schema.training import Training
 from harness.training.feeding import SampledFeed
-from harness.training.fit import ActivationMeter, tensor_bytes
+from harness.training.resources import ActivationMeter, tensor_bytes
 
 
 def step_tensor_bytes(nodes: int) -> float:

@@ -15,8 +15,9 @@ from harness.planning import expand, load_suite
 from harness.schema.contenders import ConvolutionOptions, MLPOptions
 from harness.schema.data import FractionSplit, SyntheticData
 from harness.schema.training import Training
-from harness.training.fit import MEBIBYTE, fit, perform
+from harness.training.fit import fit, perform
 from harness.training.metrics import score
+from harness.training.resources import MEBIBYTE
 
 
 @pytest.fixture(scope="module")

@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 import os
+import statistics
 from collections.abc import Callable
 from pathlib import Path
-from typing import TypeVar
+from typing import Any, TypeVar
 
 import torch
 from torch import nn
@@ -71,3 +72,20 @@ class Forward:
         )
         self.compiled = None
         torch._dynamo.reset()  # drop half-built graphs and guards of the failed attempt
+
+
+def compile_share(epoch_seconds: list[float]) -> float:
+    """Seconds the first compiled epoch (the second) took beyond a typical epoch: the median of
+    the later ones, or the eager first epoch when there are none."""
+    if len(epoch_seconds) < 2:
+        return 0.0
+    later = epoch_seconds[2:] or epoch_seconds[:1]
+    return max(0.0, epoch_seconds[1] - statistics.median(later))
+
+
+def compile_record(compiled: bool, seconds: float, warning: str | None) -> dict[str, Any]:
+    """extras.compile of a run: the mode used, the compile seconds, and the fall-back warning."""
+    record: dict[str, Any] = {"mode": "compiled" if compiled else "eager", "seconds": seconds}
+    if warning is not None:
+        record["warning"] = warning
+    return record

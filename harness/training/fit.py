@@ -3,7 +3,6 @@ graph or neighbour-sampled batches at each step (harness.training.feeding)."""
 
 from __future__ import annotations
 
-import statistics
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
@@ -23,15 +22,23 @@ from harness.models.generated import generated_modules_in
 from harness.planning import RunSpec
 from harness.schema.model_kinds import MODEL_KINDS, attends
 from harness.schema.training import Training
-from harness.training.compiled import Forward, use_compile_cache
+from harness.training.compiled import (
+    Forward,
+    compile_record,
+    compile_share,
+    use_compile_cache,
+)
 from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
 from harness.training.feeding import Step, make_feed
 from harness.training.inference import chunked_logits
-from harness.training.metrics import METRICS, fast_score, score
-from harness.training.resources import peak_resident_mb, reset_peak_resident
-
-MEBIBYTE = 2**20
-ADAM_STATES = 2  # first and second moment per parameter
+from harness.training.metrics import fast_score, score, scores_of_test_nodes
+from harness.training.resources import (
+    ActivationMeter,
+    peak_resident_mb,
+    reset_peak_resident,
+    step_peak_mb,
+    tensor_bytes,
+)
 
 
 @dataclass(frozen=True)
@@ -66,29 +73,6 @@ class RunResult:
     extras: dict[str, Any] = field(default_factory=dict)
     compiled: bool = False  # whether training ran compiled to the end (no fall-back)
     predictions: NodePredictions | None = None  # of the test nodes, for the per-node breakdown
-
-
-class ActivationMeter:
-    """Bytes of tensors autograd keeps for backward during one forward pass."""
-
-    def __init__(self) -> None:
-        self.seen: set[int] = set()
-        self.bytes = 0
-
-    def pack(self, tensor: torch.Tensor) -> torch.Tensor:
-        storage = tensor.untyped_storage()
-        if storage.data_ptr() not in self.seen:
-            self.seen.add(storage.data_ptr())
-            self.bytes += storage.nbytes()
-        return tensor
-
-    @staticmethod
-    def unpack(tensor: torch.Tensor) -> torch.Tensor:
-        return tensor
-
-
-def tensor_bytes(*tensors: torch.Tensor) -> int:
-    return sum(t.numel() * t.element_size() for t in tensors)
 
 
 def snapshot(model: nn.Module) -> dict[str, torch.Tensor]:
@@ -195,24 +179,11 @@ def fit(
     model.load_state_dict(best_state)
     logits = logits_of_all()
     test_logits, test_y = logits[split.test], y[split.test]
-    test_scores = {
-        name: score(name, test_logits, test_y, classes) if len(test_y) else float("nan")
-        for name in METRICS
-    }  # no test nodes while tuning
+    tested, warnings = scores_of_test_nodes(test_logits, test_y, classes)
     predictions = None
     if len(test_y):
         probabilities = torch.softmax(test_logits, dim=1).numpy()
         predictions = NodePredictions(split.test.numpy(), probabilities, data.num_nodes)
-    params = sum(p.numel() for p in model.parameters())
-    present = int(torch.unique(test_y).numel())
-    # scikit-learn's one-vs-rest ROC-AUC can only cover the classes the test split holds
-    warnings = (
-        [f"the test split holds {present} of {classes} classes; ROC-AUC covers those present"]
-        if 0 < present < classes
-        else []
-    )
-    parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
-    peak = parameter_bytes * (2 + ADAM_STATES) + inputs + meter.bytes
     compiled = forward.mode == "compiled"
     extras: dict[str, Any] = {"compile": compile_record(compiled, compile_seconds, forward.warning)}
     if training.sampled:
@@ -221,36 +192,19 @@ def fit(
         extras["warnings"] = warnings
     return RunResult(
         val_metric=score(metric, logits[split.validation], val_y, classes),
-        test_metric=test_scores[metric],
-        test_scores=test_scores,
+        test_metric=tested[metric],
+        test_scores=tested,
         epochs=epoch,
         best_epoch=best_epoch,
         seconds=time.perf_counter() - started,
         seconds_per_epoch=(train_seconds - compile_seconds) / epoch,
-        params=params,
-        peak_mb=peak / MEBIBYTE,
+        params=sum(p.numel() for p in model.parameters()),
+        peak_mb=step_peak_mb(model, inputs, meter.bytes),
         curve=curve,
         extras=extras,
         compiled=compiled,
         predictions=predictions,
     )
-
-
-def compile_share(epoch_seconds: list[float]) -> float:
-    """Seconds the first compiled epoch (the second) took beyond a typical epoch: the median of
-    the later ones, or the eager first epoch when there are none."""
-    if len(epoch_seconds) < 2:
-        return 0.0
-    later = epoch_seconds[2:] or epoch_seconds[:1]
-    return max(0.0, epoch_seconds[1] - statistics.median(later))
-
-
-def compile_record(compiled: bool, seconds: float, warning: str | None) -> dict[str, Any]:
-    """extras.compile of a run: the mode used, the compile seconds, and the fall-back warning."""
-    record: dict[str, Any] = {"mode": "compiled" if compiled else "eager", "seconds": seconds}
-    if warning is not None:
-        record["warning"] = warning
-    return record
 
 
 def as_trained(spec: RunSpec, result: RunResult) -> RunSpec:

@@ -28,14 +28,9 @@ from harness.planning import RunSpec
 from harness.schema.model_kinds import attends
 from harness.schema.training import Training
 from harness.training.diagnostics import attention_diagnostics
-from harness.training.fit import (
-    ADAM_STATES,
-    MEBIBYTE,
-    ActivationMeter,
-    RunResult,
-    tensor_bytes,
-)
+from harness.training.fit import RunResult
 from harness.training.link_metrics import fast_link_score, link_score, link_scores
+from harness.training.resources import ActivationMeter, step_peak_mb, tensor_bytes
 from harness.training.stopping import BestWeights
 
 LABELS_NOTE = "same-label share skipped: link prediction uses no node labels"
@@ -104,7 +99,6 @@ def fit_links(
         test_scores = link_scores(
             model(tested.x, tested.edge_index, split.test_pairs), split.test_labels, link.hits_k
         )
-    parameter_bytes = sum(tensor_bytes(p) for p in model.parameters())
     inputs = tensor_bytes(seen.x, seen.edge_index, pairs, labels)
     return RunResult(
         val_metric=link_score(metric, validation_scores, split.validation_labels, link.hits_k),
@@ -115,7 +109,7 @@ def fit_links(
         seconds=time.perf_counter() - started,
         seconds_per_epoch=train_seconds / epoch,
         params=sum(p.numel() for p in model.parameters()),
-        peak_mb=(parameter_bytes * (2 + ADAM_STATES) + inputs + meter.bytes) / MEBIBYTE,
+        peak_mb=step_peak_mb(model, inputs, meter.bytes),
         curve=best.curve,
         extras={"link": {"hits_k": link.hits_k, "test_pairs": int(split.test_pairs.size(1))}},
     )

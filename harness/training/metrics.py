@@ -60,3 +60,22 @@ def fast_score(name: str, logits: torch.Tensor, labels: torch.Tensor, classes: i
         f1 = 2 * true_positive / (predicted_count + true_count).clamp(min=1)
         return float(f1[present].mean())
     return score(name, logits, labels, classes)
+
+
+def scores_of_test_nodes(
+    logits: torch.Tensor, labels: torch.Tensor, classes: int
+) -> tuple[dict[str, float], list[str]]:
+    """Every metric on the test nodes (NaN without test nodes, as while tuning), and a warning
+    when the test labels miss some classes."""
+    scores = {
+        name: score(name, logits, labels, classes) if len(labels) else float("nan")
+        for name in METRICS
+    }
+    present = int(torch.unique(labels).numel())
+    # scikit-learn's one-vs-rest ROC-AUC can only cover the classes the test split holds
+    warnings = (
+        [f"the test split holds {present} of {classes} classes; ROC-AUC covers those present"]
+        if 0 < present < classes
+        else []
+    )
+    return scores, warnings
