@@ -14,6 +14,7 @@ from harness.execution.memory import (
     declared_size,
     estimate_runs,
     message_edges,
+    run_bytes,
     saved_bytes,
 )
 from harness.models import build_model
@@ -25,6 +26,8 @@ from harness.schema.contenders import (
     NeighbourMeanOptions,
 )
 from harness.schema.data import SyntheticData
+from harness.schema.model_kinds import MODEL_KINDS
+from harness.schema.training import Training
 from harness.training.resources import ActivationMeter
 
 KINDS = {
@@ -50,6 +53,36 @@ def test_saved_tensor_estimate_is_within_a_quarter_of_the_measured_activations(k
     estimate = saved_bytes(options, size, size.nodes, message_edges(options, size))
     assert 0.75 < estimate / meter.bytes < 1.25
 
+
+PINNED_SIZE = GraphSize(nodes=5000, edges=60000, features=40, classes=5)
+# (full batch, sampled batch of 256 with fan-out [5, 3], saved tensors of a full pass) in bytes,
+# as the estimate gave when it still branched on the model's name (commit 80a112f)
+PINNED = {
+    "gat": (1234848864.0, 538763360.0, 322600000.0),
+    "gatv2": (1697056864.0, 541476550.4, 611480000.0),
+    "dot_product": (1697056864.0, 541476550.4, 611480000.0),
+    "gcn": (523332112.0, 513849769.6, 5520000.0),
+    "sage": (523828112.0, 515952118.4, 6280000.0),
+    "mlp": (509812112.0, 507619318.4, 2920000.0),
+}
+
+
+def test_every_shipped_kind_has_a_pinned_estimate():
+    assert set(PINNED) == set(MODEL_KINDS)
+
+
+@pytest.mark.parametrize("name", sorted(PINNED))
+def test_estimates_from_the_registry_equal_the_pinned_figures(name):
+    kind = MODEL_KINDS[name]
+    sizes = {"heads": [4, 2], "hidden": 16, "hop_radius": 2} if kind.attends else {"hidden": 32}
+    options = kind.options.model_validate({"model": name, **sizes})
+    sampled = Training(batching="sampled", batch_size=256, fanout=[5, 3])
+    full_pass = message_edges(options, PINNED_SIZE)
+    assert (
+        run_bytes(options, PINNED_SIZE, Training()),
+        run_bytes(options, PINNED_SIZE, sampled),
+        saved_bytes(options, PINNED_SIZE, PINNED_SIZE.nodes, full_pass),
+    ) == PINNED[name]
 
 BIG = """\
 name = "big_ledger"

@@ -18,6 +18,7 @@ from pydantic import BaseModel
 
 from harness.errors import InputError
 from harness.planning import design_points
+from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.training import Training
 
 FLOAT = 4
@@ -80,19 +81,13 @@ def layer_shapes(options: BaseModel, size: GraphSize) -> list[tuple[int, int, in
 
 def saved_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float) -> float:
     """Tensors autograd saves for backward in one training step over `nodes` nodes and `edges`
-    message edges; per-kind coefficients measured with fit's ActivationMeter (within 25% on a
-    20,000-node graph, tests/test_memory.py)."""
+    message edges, from the floats its kind declares (within 25% of fit's measurement on a
+    3,000-node graph, tests/test_memory.py); every message edge also keeps its two indices."""
+    floats = MODEL_KINDS[options.model].saved
     saved = 0.0
     for width, out, heads in layer_shapes(options, size):
-        if options.model == "gat":  # scores and softmax per head, weighted messages
-            per_node, per_edge = FLOAT * (2 * width + 3 * heads * out), FLOAT * heads * (out + 3)
-        elif options.model in ("gatv2", "dot_product"):  # a score vector per edge and head
-            per_node = FLOAT * (2 * width + 3 * heads * out)
-            per_edge = FLOAT * heads * (2 * out + 6)
-        elif options.model == "sage":
-            per_node, per_edge = FLOAT * (2 * width + 2 * out), 0.0
-        else:  # gcn keeps an edge weight per edge; mlp has no edges
-            per_node, per_edge = FLOAT * (width + 2 * out), float(FLOAT)
+        per_node = FLOAT * (floats.node_inputs * width + floats.node_outputs * heads * out)
+        per_edge = FLOAT * heads * (floats.edge_outputs * out + floats.edge_scalars)
         saved += nodes * per_node + edges * (per_edge + 2 * INDEX)
     return saved
 
@@ -106,15 +101,16 @@ def step_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float) 
 
 def message_edges(options: BaseModel, size: GraphSize) -> float:
     """Edges every layer runs on in a full-graph pass: k-hop set, plus self-loops."""
-    if options.model == "mlp":
+    kind = MODEL_KINDS[options.model]
+    if not kind.message_edges:
         return 0.0
     edges = hop_edges(size, options.hop_radius) if hasattr(options, "hop_radius") else size.edges
-    return edges + (size.nodes if options.model != "sage" else 0)
+    return edges + (size.nodes if kind.self_loops else 0)
 
 
 def batch_extent(options: BaseModel, size: GraphSize, training: Training) -> tuple[float, float]:
     """Expected nodes and edges of one sampled batch, capped by the graph."""
-    if options.model == "mlp":
+    if not MODEL_KINDS[options.model].message_edges:
         return min(training.batch_size, size.nodes), 0.0
     degree = message_edges(options, size) / max(size.nodes, 1)
     fanout = training.fanout
@@ -131,7 +127,7 @@ def batch_extent(options: BaseModel, size: GraphSize, training: Training) -> tup
 
 def graph_bytes(size: GraphSize, options: BaseModel) -> float:
     """The graph the process holds: features, labels, edges (and the k-hop set)."""
-    edges = size.edges + (message_edges(options, size) if options.model != "mlp" else 0)
+    edges = size.edges + message_edges(options, size)
     return size.nodes * (size.features * FLOAT + INDEX) + edges * 2 * INDEX
 
 

@@ -22,24 +22,68 @@ from harness.schema.contenders import (
 
 
 @dataclass(frozen=True)
+class SavedFloats:
+    """Floats autograd saves for backward in one layer of a kind, for the memory estimate
+    (harness.execution.memory): per node, `node_inputs` x the layer's input width plus
+    `node_outputs` x heads x its output width per head; per message edge and head,
+    `edge_outputs` x the output width per head plus `edge_scalars`. Measured with
+    harness.training.resources.ActivationMeter (tests/test_memory.py)."""
+
+    node_inputs: int
+    node_outputs: int
+    edge_outputs: int = 0
+    edge_scalars: int = 0
+
+
+@dataclass(frozen=True)
 class ModelKind:
     """One model kind. `extra_hops`: hops beyond its layers' (times the hop radius) that a
-    node's output depends on, e.g. through degree normalisation."""
+    node's output depends on, e.g. through degree normalisation. `message_edges`: whether its
+    layers read edges at all; `self_loops`: whether it adds one self-loop per node to them.
+    A kind that `attends` builds a network with attention weights
+    (harness.models.interface.AttentionNetwork), which the diagnostics read."""
 
     options: type[ContenderBase]  # pydantic class with `model: Literal[<kind name>, ...]`
     builder: str  # "module:function", build(options, in_dim, out_dim) -> torch module
-    attends: bool = False  # has attention weights (the diagnostics read them)
+    saved: SavedFloats
+    message_edges: bool = True
+    self_loops: bool = False
+    attends: bool = False
     extra_hops: int = 0
 
 
+ATTENTION = "harness.models.attention:build"
+# static scores: a scalar score and its softmax per edge and head, and the weighted message
+STATIC_SCORES = SavedFloats(node_inputs=2, node_outputs=3, edge_outputs=1, edge_scalars=3)
+# dynamic and dot-product scores: a score vector per edge and head before it is reduced
+VECTOR_SCORES = SavedFloats(node_inputs=2, node_outputs=3, edge_outputs=2, edge_scalars=6)
+
 MODEL_KINDS: dict[str, ModelKind] = {
-    "gat": ModelKind(AttentionOptions, "harness.models.attention:build", attends=True),
-    "gatv2": ModelKind(AttentionOptions, "harness.models.attention:build", attends=True),
-    "dot_product": ModelKind(AttentionOptions, "harness.models.attention:build", attends=True),
-    # D^{-1/2} (A + I) D^{-1/2}: a neighbour's degree counts its own neighbours, one hop on
-    "gcn": ModelKind(ConvolutionOptions, "harness.models.convolution:build", extra_hops=1),
-    "sage": ModelKind(NeighbourMeanOptions, "harness.models.neighbour_mean:build"),
-    "mlp": ModelKind(MLPOptions, "harness.models.perceptron:build"),
+    "gat": ModelKind(AttentionOptions, ATTENTION, STATIC_SCORES, self_loops=True, attends=True),
+    "gatv2": ModelKind(AttentionOptions, ATTENTION, VECTOR_SCORES, self_loops=True, attends=True),
+    "dot_product": ModelKind(
+        AttentionOptions, ATTENTION, VECTOR_SCORES, self_loops=True, attends=True
+    ),
+    # D^{-1/2} (A + I) D^{-1/2}: a neighbour's degree counts its own neighbours, one hop on;
+    # one normalised weight per edge
+    "gcn": ModelKind(
+        ConvolutionOptions,
+        "harness.models.convolution:build",
+        SavedFloats(node_inputs=1, node_outputs=2, edge_scalars=1),
+        self_loops=True,
+        extra_hops=1,
+    ),
+    "sage": ModelKind(
+        NeighbourMeanOptions,
+        "harness.models.neighbour_mean:build",
+        SavedFloats(node_inputs=2, node_outputs=2),
+    ),
+    "mlp": ModelKind(
+        MLPOptions,
+        "harness.models.perceptron:build",
+        SavedFloats(node_inputs=1, node_outputs=2),
+        message_edges=False,
+    ),
 }
 
 
