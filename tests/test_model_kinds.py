@@ -1,5 +1,6 @@
-"""The model-kind registry: one contract over every registered kind, and a toy kind added
-through the registry alone."""
+"""The model-kind registry: one contract over every registered kind (its network, what it
+declares for the memory estimate and the diagnostics), and a toy kind added through the
+registry alone."""
 
 from __future__ import annotations
 
@@ -10,9 +11,18 @@ import torch
 from torch import nn
 from torch_geometric.utils import scatter
 
-from harness.models import build_model
+from harness.data.synthetic import contextual_sbm
+from harness.execution.memory import GraphSize, message_edges, run_bytes, saved_bytes
+from harness.models import build_model, unwrap
+from harness.models.interface import AttentionNetwork, Network
+from harness.models.stack import LayerStack, widths
 from harness.schema.contenders import ContenderBase
-from harness.schema.model_kinds import MODEL_KINDS, ModelKind, attends
+from harness.schema.data import SyntheticData
+from harness.schema.model_kinds import MODEL_KINDS, ModelKind, SavedFloats, attends
+from harness.schema.training import Training
+from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
+from harness.training.inference import chunked_logits
+from harness.training.resources import ActivationMeter
 
 IN_DIM, OUT_DIM, LAYERS = 3, 2, 2
 
@@ -45,20 +55,53 @@ def keeps_the_contract(name: str) -> None:
     model = build_model(options, IN_DIM, OUT_DIM)
     x, edges = torch.randn(12, IN_DIM), path_graph(12)
     assert model(x, edges).shape == (12, OUT_DIM)
-    # the attention diagnostics read the weights of kinds that say they attend
-    has_attention = any(
-        "attention" in type(m).__name__.lower() or "GAT" in type(m).__name__
-        for m in model.modules()
+    network, _ = unwrap(model, x)
+    # inference and sampled batches run every kind's network layer by layer
+    assert isinstance(network, Network)
+    torch.testing.assert_close(
+        chunked_logits(model, x, edges, chunk_nodes=5), output_of_all(model, x, edges)
     )
-    assert has_attention == kind.attends == attends(name)
+    # the attention diagnostics read the weights of kinds that say they attend
+    assert isinstance(network, AttentionNetwork) == kind.attends == attends(name)
+    if kind.attends:
+        labels = torch.arange(12) % OUT_DIM
+        whole = attention_diagnostics(model, x, edges, labels)
+        chunked = chunked_attention_diagnostics(model, x, edges, labels, chunk_nodes=5)
+        assert len(whole["heads"]) == LAYERS * options.heads
+        assert whole["mean"] == pytest.approx(chunked["mean"])
+    # what the memory estimate is told: edges read at all, and one self-loop per node added
+    assert network.uses_edges == kind.message_edges
+    passed, _ = network.message_edges(edges, 12)
+    assert int((passed[0] == passed[1]).sum()) == (12 if kind.self_loops else 0)
     # a node's output depends on nodes up to `radius` hops away and on none beyond
     radius = LAYERS + kind.extra_hops
     base = output_of_node_zero(model, x, edges)
     beyond = output_of_node_zero(model, *with_leaf(x, edges, at=radius))  # leaf radius + 1 away
     assert torch.allclose(base, beyond, atol=1e-6)
-    if getattr(model, "uses_edges", True):
+    if kind.message_edges:
         reached = output_of_node_zero(model, *with_leaf(x, edges, at=radius - 1))
         assert not torch.allclose(base, reached, atol=1e-6)
+
+
+def output_of_all(model: nn.Module, x: torch.Tensor, edges: torch.Tensor) -> torch.Tensor:
+    model.eval()
+    with torch.no_grad():
+        return model(x, edges)
+
+
+def estimate_within_a_quarter_of_measured(name: str) -> None:
+    """The kind's declared saved floats against the activations autograd keeps, as
+    tests/test_memory.py checks for the shipped kinds' usual sizes."""
+    spec = SyntheticData(source="synthetic", nodes=3000, average_degree=10, feature_dimension=32)
+    data = contextual_sbm(spec)
+    options = MODEL_KINDS[name].options.model_validate({"model": name})
+    size = GraphSize(data.num_nodes, data.edge_index.size(1), 32, spec.classes)
+    model = build_model(options, 32, spec.classes)
+    meter = ActivationMeter()
+    with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
+        model(data.x, data.edge_index)
+    estimate = saved_bytes(options, size, size.nodes, message_edges(options, size))
+    assert 0.75 < estimate / meter.bytes < 1.25
 
 
 @pytest.mark.parametrize("name", list(MODEL_KINDS))
@@ -67,28 +110,46 @@ def test_every_kind_keeps_its_contract(name: str) -> None:
 
 
 class ToyOptions(ContenderBase):
-    """`layers` rounds of adding the neighbours' mean, then one learned linear map."""
+    """Layers that each add the neighbours' mean to a node's features, then map them linearly."""
 
     model: Literal["toy"]
 
 
-class ToyModel(nn.Module):
-    def __init__(self, in_dim: int, out_dim: int, rounds: int) -> None:
+class MeanAddLayer(nn.Module):
+    """h_i' = W (h_i + mean_{j in N(i)} h_j) + b"""
+
+    def __init__(self, in_dim: int, out_dim: int) -> None:
         super().__init__()
         self.linear = nn.Linear(in_dim, out_dim)
-        self.rounds = rounds
+
+    def reset_parameters(self) -> None:
+        self.linear.reset_parameters()
 
     def forward(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
-        for _ in range(self.rounds):
-            x = x + scatter(x[edge_index[0]], edge_index[1], 0, x.size(0), reduce="mean")
-        return self.linear(x)
+        mean = scatter(x[edge_index[0]], edge_index[1], 0, x.size(0), reduce="mean")
+        return self.linear(x + mean)
 
 
 def build_toy(options: ToyOptions, in_dim: int, out_dim: int) -> nn.Module:
-    return ToyModel(in_dim, out_dim, options.layers)
+    layers = [
+        MeanAddLayer(a, b) for a, b in widths(in_dim, options.hidden, out_dim, options.layers)
+    ]
+    return LayerStack(layers, options.activation, options.dropout, uses_edges=True)
+
+
+# measured with ActivationMeter: a (hidden 64 -> 16) change of 1.73 MB on 3,000 nodes is about
+# three floats per node and hidden unit, split here as one input and two outputs
+TOY = ModelKind(ToyOptions, f"{__name__}:build_toy", SavedFloats(node_inputs=1, node_outputs=2))
 
 
 def test_a_toy_kind_added_through_the_registry_alone(monkeypatch) -> None:
-    monkeypatch.setitem(MODEL_KINDS, "toy", ModelKind(ToyOptions, f"{__name__}:build_toy"))
-    assert isinstance(build_model(ToyOptions(model="toy"), IN_DIM, OUT_DIM), ToyModel)
+    monkeypatch.setitem(MODEL_KINDS, "toy", TOY)
     keeps_the_contract("toy")
+    estimate_within_a_quarter_of_measured("toy")
+    # the memory check of a suite reads the same entry: the graph's edges, no self-loops
+    toy, size = ToyOptions(model="toy"), GraphSize(nodes=1000, edges=8000, features=16, classes=3)
+    assert message_edges(toy, size) == 8000
+    # by hand: 4 bytes x (16 + 2 x 64) and x (64 + 2 x 3) per node, 16 index bytes per edge
+    expected = 1000 * 4 * (16 + 2 * 64 + 64 + 2 * 3) + 2 * 8000 * 16
+    assert saved_bytes(toy, size, size.nodes, 8000) == expected
+    assert run_bytes(toy, size, Training()) > expected

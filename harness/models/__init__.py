@@ -10,6 +10,7 @@ import torch
 from pydantic import BaseModel
 from torch import nn
 
+from harness.models.interface import Network
 from harness.schema.model_kinds import MODEL_KINDS
 
 
@@ -38,17 +39,12 @@ class EmbeddingStart(nn.Module):
         self.embedding = nn.Embedding(rows, width)
         self.inner = inner
 
-    def forward(
-        self,
-        x: torch.Tensor,
-        edge_index: torch.Tensor,
-        edge_weight: torch.Tensor | None = None,
-        rows: torch.Tensor | None = None,
-    ) -> torch.Tensor:
-        return self.inner(self.embedding(x), edge_index, edge_weight, rows)
+    def forward(self, x: torch.Tensor, *graph: torch.Tensor | None) -> torch.Tensor:
+        """The inner network's forward, on the embedded ids and the rest as given."""
+        return self.inner(self.embedding(x), *graph)
 
 
-def unwrap(model: nn.Module, x: torch.Tensor) -> tuple[nn.Module, torch.Tensor]:
+def unwrap(model: nn.Module, x: torch.Tensor) -> tuple[Network, torch.Tensor]:
     """The layer stack and its input features (node ids looked up when the start embeds)."""
     if isinstance(model, EmbeddingStart):
         return model.inner, model.embedding(x)

@@ -21,8 +21,8 @@ from torch import nn
 from torch_geometric.nn import GATConv, GATv2Conv, MessagePassing, TransformerConv
 from torch_geometric.utils import add_self_loops, remove_self_loops
 
-from harness.models.graph_cache import EdgeCache, once_per_graph
-from harness.models.stack import ACTIVATIONS, stacked_forward
+from harness.models.graph_cache import once_per_graph
+from harness.models.stack import LayerStack
 from harness.schema.contenders import AttentionOptions
 
 
@@ -61,10 +61,8 @@ def attention_layer(
     )
 
 
-class AttentionStack(nn.Module):
+class AttentionStack(LayerStack):
     """h^{l+1} = act(attention_l(dropout(h^l), N)); the last output (projected) are logits."""
-
-    uses_edges = True
 
     def __init__(
         self,
@@ -74,18 +72,12 @@ class AttentionStack(nn.Module):
         attend_to_self: bool,
         projection: nn.Module | None = None,
     ):
-        super().__init__()
-        self.layers = nn.ModuleList(layers)
-        self.activation = ACTIVATIONS[activation]()
-        self.dropout = nn.Dropout(dropout)
+        super().__init__(layers, activation, dropout, uses_edges=True)
         self.attend_to_self = attend_to_self
         self.projection = projection
-        self.edge_cache = EdgeCache()  # attention edges derived once per graph
-        self.row_cache = EdgeCache()
 
     def reset_parameters(self) -> None:
-        for layer in self.layers:
-            layer.reset_parameters()
+        super().reset_parameters()
         if self.projection is not None:
             self.projection.reset_parameters()
 
@@ -99,24 +91,12 @@ class AttentionStack(nn.Module):
     def message_edges(self, edge_index: torch.Tensor, nodes: int) -> tuple[torch.Tensor, None]:
         return self.attention_edges(edge_index, nodes), None
 
-    def batch_edges(
-        self, edge_index: torch.Tensor, degree: torch.Tensor
-    ) -> tuple[torch.Tensor, None]:
-        """A sampled batch attends over its own edges (self-loops are added in `run`)."""
-        return edge_index, None
-
     def attention_step(
         self, index: int, x: torch.Tensor, edges: torch.Tensor
     ) -> tuple[torch.Tensor, torch.Tensor]:
         """Layer `index` like `layer_step`, also returning its weights [edges, heads]."""
         x, (_, alpha) = self.layers[index](self.dropout(x), edges, return_attention_weights=True)
         return (self.activation(x) if index < len(self.layers) - 1 else x), alpha
-
-    def layer_step(
-        self, index: int, x: torch.Tensor, edges: torch.Tensor, weights: None = None
-    ) -> torch.Tensor:
-        x = self.layers[index](self.dropout(x), edges)
-        return self.activation(x) if index < len(self.layers) - 1 else x
 
     def finish(self, x: torch.Tensor) -> torch.Tensor:
         return x if self.projection is None else self.projection(x)
@@ -134,16 +114,6 @@ class AttentionStack(nn.Module):
             else:
                 x = self.layer_step(index, x, edges)
         return self.finish(x), edges, weights
-
-    def forward(
-        self,
-        x: torch.Tensor,
-        edge_index: torch.Tensor,
-        edge_weight: None = None,
-        rows: torch.Tensor | None = None,
-    ) -> torch.Tensor:
-        """Logits; with `rows`, of those rows only, the last layer attending for them alone."""
-        return stacked_forward(self, x, edge_index, None, rows)
 
 
 def build(options: AttentionOptions, in_dim: int, out_dim: int) -> nn.Module:

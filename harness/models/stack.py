@@ -19,6 +19,9 @@ ACTIVATIONS = {
 class LayerStack(nn.Module):
     """h^{l+1} = act(layer_l(dropout(h^l), edges)); the last layer's output are class logits.
 
+    The shared implementation of harness.models.interface.Network; a kind changes how its
+    message edges are derived (`message_edges`, `batch_edges`) or its logits (`finish`).
+
     The forward pass is also open layer by layer (`message_edges`, `layer_step`, `finish`), so
     that inference can run each layer over chunks of target nodes (harness.training.inference).
     The message edges are derived once per graph (harness.models.graph_cache). With `rows`, the
@@ -77,31 +80,21 @@ class LayerStack(nn.Module):
         edge_weight: torch.Tensor | None = None,
         rows: torch.Tensor | None = None,
     ) -> torch.Tensor:
-        """`edge_weight`, when given, goes with `edge_index` as the finished message edges."""
-        return stacked_forward(self, x, edge_index, edge_weight, rows)
-
-
-def stacked_forward(
-    stack: nn.Module,
-    x: torch.Tensor,
-    edge_index: torch.Tensor,
-    edge_weight: torch.Tensor | None,
-    rows: torch.Tensor | None,
-) -> torch.Tensor:
-    """The forward pass of a layer stack (LayerStack, AttentionStack): message edges once per
-    graph, every layer, and with `rows` the last layer on the edges into those rows alone."""
-    nodes = x.size(0)
-    graph: tuple = (edge_index, edge_weight)
-    if edge_weight is None:
-        graph = once_per_graph(stack.edge_cache, edge_index, nodes, stack.message_edges)
-    last = len(stack.layers) - 1
-    for index in range(last):
-        x = stack.layer_step(index, x, *graph)
-    if rows is not None:
-        graph = into_rows(stack.row_cache, graph, rows, nodes)
-    x = stack.finish(stack.layer_step(last, x, *graph))
-    # the last layer and the projection run over every row, as in a full pass, bit for bit
-    return x if rows is None else x[rows]
+        """Message edges once per graph (`edge_weight`, when given, goes with `edge_index` as
+        the finished message edges), every layer, and with `rows` the last layer on the edges
+        into those rows alone."""
+        nodes = x.size(0)
+        graph: tuple = (edge_index, edge_weight)
+        if edge_weight is None:
+            graph = once_per_graph(self.edge_cache, edge_index, nodes, self.message_edges)
+        last = len(self.layers) - 1
+        for index in range(last):
+            x = self.layer_step(index, x, *graph)
+        if rows is not None:
+            graph = into_rows(self.row_cache, graph, rows, nodes)
+        x = self.finish(self.layer_step(last, x, *graph))
+        # the last layer and the projection run over every row, as in a full pass, bit for bit
+        return x if rows is None else x[rows]
 
 
 def widths(in_dim: int, hidden: int, out_dim: int, layers: int) -> list[tuple[int, int]]:

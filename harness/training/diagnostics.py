@@ -22,12 +22,13 @@ Stored format, `RunResult.extras["attention"]` (and the store's `extras` column)
      "mean": {"entropy_ratio": ..., "self_share": ..., "uniform_self_share": ...,
               "same_label_share": ..., "neighbour_homophily": ...}}   # over all records
 Layers and heads count from 1. Labels of all labelled nodes are used: the diagnostics
-describe the trained model and never feed back into training or model selection.
+describe the trained model and never feed back into training or model selection. They run for
+the kinds registered as attending, whose networks are harness.models.interface.AttentionNetwork.
 """
 
 from __future__ import annotations
 
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 import torch
@@ -35,6 +36,7 @@ from torch import nn
 from torch_geometric.utils import scatter
 
 from harness.models import unwrap
+from harness.models.interface import AttentionNetwork
 from harness.training.inference import CHUNK_NODES, ChunkedGraph
 
 MEASURES = (
@@ -101,21 +103,28 @@ def summarise(records: list[dict], edges: int, attend_to_self: bool) -> dict[str
     return {"edges": edges, "attend_to_self": attend_to_self, "heads": records, "mean": mean}
 
 
+def attention_network(model: nn.Module, x: torch.Tensor) -> tuple[AttentionNetwork, torch.Tensor]:
+    """The attention layers of a model of a kind that attends, in evaluation mode, and their
+    input features (node ids looked up when the model starts from an embedding)."""
+    model.eval()
+    network, x = unwrap(model, x)
+    return cast(AttentionNetwork, network), x
+
+
 def attention_diagnostics(
     model: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, labels: torch.Tensor
 ) -> dict[str, Any]:
     """Diagnostics of a trained attention model (evaluation mode), in the stored format."""
-    model, x = unwrap(model, x)
-    model.eval()
+    network, x = attention_network(model, x)
     with torch.no_grad():
-        _, edges, weights = model.run(x, edge_index, keep_attention=True)
+        _, edges, weights = network.run(x, edge_index, keep_attention=True)
     nodes = x.size(0)
     records = []
     for layer, alpha in enumerate(weights, start=1):
         for head in range(alpha.size(1)):
             measures = head_measures(edges, alpha[:, head], labels, nodes)
             records.append({"layer": layer, "head": head + 1, **measures})
-    return summarise(records, int(edges.size(1)), bool(model.attend_to_self))
+    return summarise(records, int(edges.size(1)), bool(network.attend_to_self))
 
 
 @torch.no_grad()
@@ -128,16 +137,15 @@ def chunked_attention_diagnostics(
 ) -> dict[str, Any]:
     """The same diagnostics in bounded memory: each layer runs over chunks of target nodes
     (harness.training.inference), and the per-node values are summed chunk by chunk."""
-    model, h = unwrap(model, x)
-    model.eval()
+    network, h = attention_network(model, x)
     nodes = h.size(0)
-    edges, _ = model.message_edges(edge_index, nodes)
+    edges, _ = network.message_edges(edge_index, nodes)
     graph = ChunkedGraph(edges, None, nodes, chunk_nodes)
     records = []
-    for layer in range(len(model.layers)):
+    for layer in range(len(network.layers)):
         parts, sums, counts = [], {}, {}
         for chunk in graph.chunks():
-            out, alpha = model.attention_step(layer, h[chunk.local], chunk.edge_index)
+            out, alpha = network.attention_step(layer, h[chunk.local], chunk.edge_index)
             parts.append(out[chunk.target_rows])
             for head in range(alpha.size(1)):
                 measured = node_measures(
@@ -155,4 +163,4 @@ def chunked_attention_diagnostics(
                 for name in MEASURES
             }
             records.append({"layer": layer + 1, "head": head + 1, **averages})
-    return summarise(records, int(edges.size(1)), bool(model.attend_to_self))
+    return summarise(records, int(edges.size(1)), bool(network.attend_to_self))
