@@ -58,7 +58,9 @@ class NodePredictions:
 
 @dataclass(frozen=True)
 class RunResult:
-    """What one run measured."""
+    """What one run measured, with the best epoch's weights restored: `val_metric` and
+    `test_metric` are the suite's metric, `test_scores` every metric on the test nodes (NaN
+    without test nodes), `peak_mb` a training step's tensor memory (resources.step_peak_mb)."""
 
     val_metric: float
     test_metric: float
