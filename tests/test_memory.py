@@ -84,6 +84,7 @@ def test_estimates_from_the_registry_equal_the_pinned_figures(name):
         saved_bytes(options, PINNED_SIZE, PINNED_SIZE.nodes, full_pass),
     ) == PINNED[name]
 
+
 BIG = """\
 name = "big_ledger"
 seeds = 1
