@@ -7,6 +7,8 @@
     api.ablation(runs).axes      # axes ranked by effect
     api.cost(runs)               # metric against costs, Pareto marks
     report = api.analyse(runs)   # everything at once, one suite
+    api.headline(report)         # the headline comparison in one sentence
+    api.with_reasons(api.comparisons(runs))  # each verdict with its reason in words
     api.breakdown("runs/heedful.db", "suites/demo.toml")  # per node group and comparison
 
 Every function takes an optional `settings` (the suite's `[analysis]` table) and otherwise
@@ -28,6 +30,8 @@ from harness.analysis.suite_report import (
     stored_homophily_map,
 )
 from harness.analysis.suite_report import node_breakdown as breakdown
+from harness.report.wording import headline_sentence as headline
+from harness.report.wording import with_reasons
 
 __all__ = [
     "SuiteReport",
@@ -43,4 +47,6 @@ __all__ = [
     "analyse_store",
     "analyse_each",
     "breakdown",
+    "headline",
+    "with_reasons",
 ]

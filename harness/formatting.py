@@ -48,6 +48,11 @@ def signed_interval(low: float, high: float) -> str:
     return f"{signed(low)} to {signed(high)}"
 
 
+def percent(share: float) -> str:
+    """`95%`: a share as a whole percentage (a confidence level)."""
+    return f"{share:.0%}"
+
+
 def as_points(share: float) -> str:
     """A difference of shares in metric points: 0.0123 -> `+1.23`."""
     return "-" if missing(share) else f"{100 * share:+.2f}"

@@ -11,7 +11,7 @@ from scipy import stats as scipy_stats
 
 from harness.analysis.suite_report import analyse
 from harness.report.markdown import render
-from harness.report.tables import reasons
+from harness.report.wording import headline_sentence, reasons
 
 # three seeds, one of them slow to learn for the baseline: differences of +80, +79 and +22 points
 ATTENTION = [0.90, 0.91, 0.89]
@@ -41,9 +41,10 @@ def test_a_difference_interval_past_100_points_is_clipped_and_flagged(crafted_ru
     assert row["t_low"] == pytest.approx(d.mean() - half)
     assert row["t_high"] == 100.0 and bool(row["t_clipped"])
     assert row["seeds_for_range"] == seeds_inside(d.std(ddof=1), 100 - d.mean())
-    assert "to +100.0" in report.headline
-    assert "with 3 seeds and this much spread the t-interval is unreliable" in report.headline
-    assert f"about {row['seeds_for_range']} seeds would likely keep it inside" in report.headline
+    headline = headline_sentence(report)
+    assert "to +100.0" in headline
+    assert "with 3 seeds and this much spread the t-interval is unreliable" in headline
+    assert f"about {row['seeds_for_range']} seeds would likely keep it inside" in headline
 
 
 def test_a_mean_interval_past_the_metric_range_is_clipped_and_explained(crafted_run):

@@ -21,6 +21,7 @@ from harness.cli import main
 from harness.execution.local import execute
 from harness.planning import expand, load_suite
 from harness.report.files import write_report
+from harness.report.wording import breakdown_summary
 from harness.storage.predictions import decode, encode, load_predictions
 from harness.training.fit import NodePredictions
 
@@ -111,7 +112,7 @@ def test_convolution_gains_where_neighbours_agree_and_loses_where_they_do_not(st
     }
     # Holm over every group: each adjusted p is at least its raw p
     assert (table["p_t_holm"] >= table["p_t"] - 1e-12).all()
-    summary = analyse_store(store, suite).breakdown.summary
+    summary = breakdown_summary(analyse_store(store, suite).breakdown)
     assert "gain concentrates in local homophily 0.8-1.0" in summary
     assert "loses in local homophily 0.0-0.2" in summary
 

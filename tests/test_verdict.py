@@ -17,7 +17,7 @@ from harness.analysis.verdict import (
     judge_all,
     seeds_to_settle,
 )
-from harness.api import analyse, comparisons
+from harness.api import analyse, comparisons, headline, with_reasons
 from harness.schema.analysis import Analysis
 
 SETTINGS = Analysis(minimum_gain=1.0, bootstrap_resamples=200)
@@ -61,7 +61,7 @@ NOISY = [0.5, 6.0, -5.0, 4.0, -3.0]
     [(CLEAR_GAIN, BETTER), (CLEAR_LOSS, WORSE), (TIE, NO_DIFFERENCE), (NOISY, INCONCLUSIVE)],
 )
 def test_verdict_of_crafted_tables(gaps, expected):
-    row = comparisons(crafted(gaps), SETTINGS).iloc[0]
+    row = with_reasons(comparisons(crafted(gaps), SETTINGS), SETTINGS).iloc[0]
     assert row["verdict"] == expected
     assert row["mean_difference"] == pytest.approx(np.mean(gaps))
     if expected == INCONCLUSIVE:
@@ -75,18 +75,18 @@ def test_headline_of_a_clear_gain():
     report = analyse(crafted(CLEAR_GAIN), SETTINGS)
     d = np.asarray(CLEAR_GAIN)
     half = scipy_stats.t.ppf(0.975, 9) * d.std(ddof=1) / math.sqrt(10)
-    assert report.headline == (
+    assert headline(report) == (
         f"att (gat, 8 heads) beats the best baseline, conv (gcn), by +3.0 macro-F1 points "
         f"(95% CI {3.0 - half:+.1f} to {3.0 + half:+.1f}, Holm-adjusted p < 0.001, 10 seeds)."
     )
 
 
 def test_headlines_of_loss_tie_and_noise():
-    loss = analyse(crafted(CLEAR_LOSS), SETTINGS).headline
+    loss = headline(analyse(crafted(CLEAR_LOSS), SETTINGS))
     assert loss.startswith("att (gat, 8 heads) trails the best baseline, conv (gcn), by -3.0")
-    tie = analyse(crafted(TIE), SETTINGS).headline
+    tie = headline(analyse(crafted(TIE), SETTINGS))
     assert "no difference that matters at a minimum gain of 1 points" in tie
-    noisy = analyse(crafted(NOISY), SETTINGS).headline
+    noisy = headline(analyse(crafted(NOISY), SETTINGS))
     assert "inconclusive, +0.5 macro-F1 points" in noisy and "seeds would likely settle" in noisy
 
 
@@ -101,7 +101,8 @@ def test_holm_adjustment_can_leave_a_comparison_inconclusive():
     """Interval excludes 0 but the Holm-adjusted p-value is too large: inconclusive, said so."""
     table = comparisons(crafted([2.0, 1.0, 3.5, 0.4, 2.6]), SETTINGS)
     table = table.assign(p_t_holm=0.2)  # as if many other comparisons shared the family
-    row = judge_all(table.drop(columns=["verdict", "reason", "seeds_needed"]), SETTINGS).iloc[0]
+    table = table.drop(columns=["verdict", "decided_by", "below_minimum_gain", "seeds_needed"])
+    row = with_reasons(judge_all(table, SETTINGS), SETTINGS).iloc[0]
     assert row["t_low"] > 0
     assert row["verdict"] == INCONCLUSIVE
     assert "excludes 0 but Holm-adjusted p = 0.20" in row["reason"]
@@ -124,7 +125,7 @@ def test_no_comparison_without_a_baseline():
     runs = crafted(CLEAR_GAIN)
     report = analyse(runs[runs["contender"] == "att"], SETTINGS)
     assert report.comparisons.empty
-    assert report.headline == "No comparison: the suite has no baseline."
+    assert headline(report) == "No comparison: the suite has no baseline."
 
 
 def test_too_few_shared_seeds_say_so():
@@ -133,6 +134,6 @@ def test_too_few_shared_seeds_say_so():
     runs = runs[(runs["contender"] == "conv") | (runs["seed"] != 0)]  # no seed in common
     report = analyse(runs, SETTINGS)
     assert report.comparisons.iloc[0]["verdict"] == INCONCLUSIVE
-    assert report.headline.endswith(
+    assert headline(report).endswith(
         "inconclusive, they share 0 seed(s); a paired comparison needs at least 2."
     )

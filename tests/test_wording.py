@@ -8,9 +8,9 @@ import pytest
 from test_bounds import spread_runs
 from test_verdict import CLEAR_GAIN, CLEAR_LOSS, NOISY, SETTINGS, TIE, crafted
 
-from harness.analysis.breakdown import summary_line
+from harness.analysis.breakdown import Breakdown
 from harness.api import analyse
-from harness.report.tables import reasons
+from harness.report.wording import breakdown_summary, headline_sentence, reasons
 
 SMALL_GAIN = [2.0, 1.0, 3.5, 0.4, 2.6]
 A, B = "att (gat, 8 heads)", "conv (gcn)"
@@ -69,7 +69,7 @@ CASES = [
 @pytest.mark.parametrize(("gaps", "headline", "reason"), CASES)
 def test_headline_and_reason_word_for_word(gaps, headline, reason):
     report = analyse(crafted(gaps), SETTINGS)
-    assert report.headline == headline
+    assert headline_sentence(report) == headline
     assert reasons(report)[0] == f"att vs conv: {reason}"
 
 
@@ -77,7 +77,7 @@ def test_an_unsettled_comparison_past_the_range_says_so_twice():
     """No practical number of seeds settles it; the clipped interval is warned about."""
     report = analyse(crafted([0.0, 90.0, -90.0]), SETTINGS)
     advice = "with 3 seeds and this much spread the t-interval is unreliable; about"
-    assert report.headline == (
+    assert headline_sentence(report) == (
         f"{A} against the best baseline, {B}: inconclusive, +0.0 macro-F1 points (95% CI -100.0 "
         "to +100.0, Holm-adjusted p = 1.00, 3 seeds). The t-interval passes the possible ±100 "
         f"points and is shown clipped: {advice} 6 seeds would likely keep it inside."
@@ -95,7 +95,7 @@ def test_an_unsettled_comparison_past_the_range_says_so_twice():
 
 def test_a_clipped_headline_word_for_word(crafted_run):
     report = analyse(spread_runs(crafted_run))
-    assert report.headline == (
+    assert headline_sentence(report) == (
         "attention (gat, 2 heads) against the best baseline, convolution (gcn): inconclusive, "
         "+60.3 accuracy points (95% CI -22.1 to +100.0, Holm-adjusted p = 0.088, 3 seeds); "
         "about 4 seeds would likely settle it. The t-interval passes the possible ±100 points "
@@ -131,4 +131,7 @@ LEAD = "att against conv by node group: "
     ],
 )
 def test_breakdown_summary_word_for_word(chosen, sentence):
-    assert summary_line(GROUPS.iloc[chosen], "att", "conv") == LEAD + sentence
+    nodes = Breakdown(
+        GROUPS, GROUPS.iloc[chosen].assign(attention="att", baseline="conv"), "att", "conv"
+    )
+    assert breakdown_summary(nodes) == LEAD + sentence

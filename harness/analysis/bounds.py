@@ -56,13 +56,3 @@ def within_range(
         needed = smallest_seed_count(std, room, (1 + confidence) / 2)
         needed = needed if needed < SEED_CAP else None
     return Bounded(max(low, lowest), min(high, highest), True, needed)
-
-
-def range_advice(seeds: int, seeds_for_range: int | None) -> str:
-    """Why a clipped interval is not to be trusted, and how many seeds would help."""
-    more = (
-        f"about {seeds_for_range} seeds would likely keep it inside"
-        if seeds_for_range is not None
-        else "no practical number of seeds would keep it inside at this spread"
-    )
-    return f"with {seeds} seeds and this much spread the t-interval is unreliable; {more}"

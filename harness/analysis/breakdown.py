@@ -17,7 +17,7 @@ from torch_geometric.data import Data
 
 from harness.analysis.node_groups import NodeGroups, node_groups
 from harness.analysis.stats import POINTS, attention_side, holm, paired_test, t_interval
-from harness.analysis.verdict import BETTER, WORSE, judge_all, signed
+from harness.analysis.verdict import judge_all
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 from harness.training.fit import NodePredictions
 from harness.training.metrics import score_probabilities
@@ -27,13 +27,13 @@ COLUMNS = ["grouping", "group", "nodes", "attention", "baseline", "difference", 
 
 @dataclass(frozen=True)
 class Breakdown:
-    """Per-group metrics (`groups`), per-group comparisons (`comparisons`, the columns of
-    csv/breakdown.csv first) and one sentence on the headline comparison (`summary`)."""
+    """Per-group metrics (`groups`) and per-group comparisons (`comparisons`, the columns of
+    csv/breakdown.csv first); `attention` and `baseline` name the headline comparison's sides
+    (None without a comparison)."""
 
     groups: pd.DataFrame
     comparisons: pd.DataFrame
-    summary: str
-    attention: str | None = None  # the headline comparison's sides
+    attention: str | None = None
     baseline: str | None = None
 
     def headline_rows(self) -> pd.DataFrame:
@@ -130,31 +130,9 @@ def per_group_comparisons(scores: pd.DataFrame, settings: Analysis) -> pd.DataFr
     judged = judged.rename(columns={"mean_difference": "difference", "t_low": "low"})
     judged = judged.rename(columns={"t_high": "high"})
     judged = judged.sort_values(["attention", "baseline", "grouping", "order"], kind="stable")
-    rest = ["seeds", "std_difference", "p_t", "p_t_holm", "effect_size", "verdict", "reason"]
+    rest = ["seeds", "std_difference", "p_t", "p_t_holm", "effect_size", "verdict"]
+    rest += ["decided_by", "below_minimum_gain", "seeds_needed"]
     return judged[COLUMNS + rest].reset_index(drop=True)
-
-
-def summary_line(rows: pd.DataFrame, attention: str, baseline: str) -> str:
-    """Where the headline comparison's gain concentrates, in one sentence."""
-
-    def listed(chosen: pd.DataFrame) -> str:
-        ordered = chosen.reindex(chosen["difference"].abs().sort_values(ascending=False).index)
-        return ", ".join(
-            f"{r.grouping.replace('_', ' ')} {r.group} ({signed(r.difference)} points, "
-            f"{signed(r.low)} to {signed(r.high)})"
-            for r in ordered.itertuples()
-        )
-
-    gains, losses = rows[rows["verdict"] == BETTER], rows[rows["verdict"] == WORSE]
-    lead = f"{attention} against {baseline} by node group: "
-    if gains.empty and losses.empty:
-        return lead + "no group differs (each is inconclusive or within the minimum gain)."
-    parts = []
-    if not gains.empty:
-        parts.append(f"the gain concentrates in {listed(gains)}")
-    if not losses.empty:
-        parts.append(f"it loses in {listed(losses)}")
-    return lead + "; ".join(parts) + "; no other group differs."
 
 
 def breakdown(
@@ -165,17 +143,16 @@ def breakdown(
     headline: tuple[str, str] | None = None,
 ) -> Breakdown:
     """The per-node breakdown of one suite's runs (with a `variant` column, as
-    stats.with_variants gives) on its input graph; `headline` names the comparison the
-    summary is about (default: the first attention variant against the first baseline)."""
+    stats.with_variants gives) on its input graph; `headline` names the headline comparison
+    (default: the first attention variant against the first baseline)."""
     runs = runs.assign(attention_side=attention_side(runs, settings).to_numpy())
     scores = group_scores(runs, predictions, data, node_groups(data, settings))
     if scores.empty:
         empty = pd.DataFrame(columns=COLUMNS)
-        return Breakdown(empty, empty, "No per-node predictions are stored for these runs.")
+        return Breakdown(empty, empty)
     judged = per_group_comparisons(scores, settings)
     groups = per_group(scores, settings.confidence)
     if judged.empty:
-        return Breakdown(groups, judged, "No comparison: the suite lacks one of the two sides.")
+        return Breakdown(groups, judged)
     attention, baseline = headline or (judged["attention"].iloc[0], judged["baseline"].iloc[0])
-    chosen = judged[(judged["attention"] == attention) & (judged["baseline"] == baseline)]
-    return Breakdown(groups, judged, summary_line(chosen, attention, baseline), attention, baseline)
+    return Breakdown(groups, judged, attention, baseline)

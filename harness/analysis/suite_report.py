@@ -15,7 +15,7 @@ from harness.analysis.arrival import arrival_summary
 from harness.analysis.breakdown import Breakdown, breakdown
 from harness.analysis.cost import cost_tradeoff
 from harness.analysis.stats import describe, paired_comparisons, run_warnings, with_variants
-from harness.analysis.verdict import best_pair, headline, judge_all
+from harness.analysis.verdict import Headline, best_pair, headline, judge_all
 from harness.data import load_graph
 from harness.errors import InputError
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
@@ -39,7 +39,7 @@ class SuiteReport:
     runs: pd.DataFrame
     contenders: pd.DataFrame
     comparisons: pd.DataFrame
-    headline: str
+    headline: Headline  # the best attention variant against the best baseline
     ablation: AblationEffects
     cost: pd.DataFrame
     attention: pd.DataFrame  # harness.analysis.axes.attention_by_variant; empty without diagnostics
@@ -157,7 +157,7 @@ def analyse(
         runs=with_variants(runs),
         contenders=table,
         comparisons=judged,
-        headline=headline(table, judged, settings),
+        headline=headline(table, judged),
         ablation=ablation_effects(runs, settings.confidence),
         cost=cost_tradeoff(table),
         attention=attention_by_variant(runs),

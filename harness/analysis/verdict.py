@@ -1,4 +1,5 @@
-"""Verdicts: what each paired comparison says, and one headline sentence per suite.
+"""Verdicts: what each paired comparison says, and the figures of each suite's headline
+comparison. Figures only; harness.report.wording writes them as sentences.
 
 Rules, applied in order to the paired t-interval [low, high] of the mean difference
 (attention minus baseline, metric points), with m the suite's minimum gain and alpha = 1 -
@@ -18,8 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from harness.analysis.bounds import SEED_CAP, range_advice, smallest_seed_count
-from harness.formatting import metric_label, p_phrase, signed
+from harness.analysis.bounds import smallest_seed_count
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 
 BETTER, WORSE, NO_DIFFERENCE, INCONCLUSIVE = (
@@ -28,14 +28,25 @@ BETTER, WORSE, NO_DIFFERENCE, INCONCLUSIVE = (
     "no difference that matters",
     "inconclusive",
 )
+# which condition decided a verdict (column `decided_by`): rule 1, rule 2, rules 3 and 4, and
+# rule 5 split in two: the interval excludes 0 but the adjusted p does not, or it is too wide
+FEW_SEEDS, INSIDE_MINIMUM_GAIN, EXCLUDES_ZERO, NOT_SIGNIFICANT, TOO_WIDE = (
+    "few_seeds",
+    "inside_minimum_gain",
+    "excludes_zero",
+    "not_significant",
+    "too_wide",
+)
 
 
 @dataclass(frozen=True)
 class Verdict:
-    """The verdict of one comparison and why."""
+    """The verdict of one comparison, the condition that decided it and, for a gain or loss,
+    whether it may be below the minimum gain; for an inconclusive one the seeds to settle it."""
 
     verdict: str
-    reason: str
+    decided_by: str
+    below_minimum_gain: bool
     seeds_needed: int | None
 
 
@@ -74,51 +85,67 @@ def judge(row: pd.Series, settings: Analysis, comparisons: int = 1) -> Verdict:
     """The verdict of one row of stats.paired_comparisons (one of `comparisons` in its suite)."""
     m, alpha = settings.minimum_gain, 1 - settings.confidence
     low, high, p = row["t_low"], row["t_high"], row["p_t_holm"]
-    level = f"{settings.confidence:.0%}"
-    span = f"{level} interval {signed(low)} to {signed(high)} points"
     if row["seeds"] < 2:
-        return Verdict(INCONCLUSIVE, f"only {row['seeds']} shared seed(s); need at least 2", None)
+        return Verdict(INCONCLUSIVE, FEW_SEEDS, False, None)
     if -m < low and high < m:
-        return Verdict(NO_DIFFERENCE, f"{span} lies inside ±{m:g}, the minimum gain", None)
+        return Verdict(NO_DIFFERENCE, INSIDE_MINIMUM_GAIN, False, None)
     if low > 0 and p < alpha:
-        note = f"; the gain may be below the minimum gain of {m:g}" if low < m else ""
-        return Verdict(BETTER, f"{span} excludes 0, Holm-adjusted {p_phrase(p)}{note}", None)
+        return Verdict(BETTER, EXCLUDES_ZERO, bool(low < m), None)
     if high < 0 and p < alpha:
-        note = f"; the loss may be below the minimum gain of {m:g}" if high > -m else ""
-        return Verdict(WORSE, f"{span} excludes 0, Holm-adjusted {p_phrase(p)}{note}", None)
+        return Verdict(WORSE, EXCLUDES_ZERO, bool(high > -m), None)
     needed = seeds_to_settle(
         row["mean_difference"], row["std_difference"], m, settings.confidence, comparisons
     )
-    if (low > 0 or high < 0) and not p < alpha:
-        why = f"{span} excludes 0 but Holm-adjusted {p_phrase(p)} is not below {alpha:g}"
-    else:
-        why = f"{span} is wider than the minimum gain of ±{m:g} allows to decide"
-    more = (
-        f"; about {needed} seeds would likely settle it"
-        if needed is not None and needed < SEED_CAP
-        else "; no practical number of seeds would settle it at this spread"
-    )
-    return Verdict(INCONCLUSIVE, why + more, needed)
+    excludes_zero = (low > 0 or high < 0) and not p < alpha
+    return Verdict(INCONCLUSIVE, NOT_SIGNIFICANT if excludes_zero else TOO_WIDE, False, needed)
 
 
 def judge_all(comparisons: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:
-    """The comparisons with `verdict`, `reason` and `seeds_needed` columns added."""
+    """The comparisons with `verdict`, `decided_by`, `below_minimum_gain` and `seeds_needed`
+    columns added (the fields of Verdict)."""
     out = comparisons.copy()
     if out.empty:
-        return out.assign(verdict=[], reason=[], seeds_needed=[])
+        return out.assign(verdict=[], decided_by=[], below_minimum_gain=[], seeds_needed=[])
     family = comparisons.groupby("suite")["suite"].transform("size")
     verdicts = [judge(row, settings, family[i]) for i, row in comparisons.iterrows()]
     out["verdict"] = [v.verdict for v in verdicts]
-    out["reason"] = [v.reason for v in verdicts]
+    out["decided_by"] = [v.decided_by for v in verdicts]
+    out["below_minimum_gain"] = [v.below_minimum_gain for v in verdicts]
     out["seeds_needed"] = pd.array([v.seeds_needed for v in verdicts], dtype="Int64")
     return out
 
 
-def label(row: pd.Series) -> str:
-    """A variant with its model kind and, for attention kinds, its heads."""
-    heads = row.get("heads")
-    extra = f", {int(heads)} heads" if heads is not None and not pd.isna(heads) else ""
-    return f"{row['variant']} ({row['model']}{extra})"
+@dataclass(frozen=True)
+class Side:
+    """One side of the headline comparison: a variant, its model kind and, for attention
+    kinds, its heads."""
+
+    variant: str
+    model: str
+    heads: int | None
+
+
+@dataclass(frozen=True)
+class Headline:
+    """The figures of a suite's headline comparison, the best attention variant against the
+    best baseline by mean test metric; when the suite lacks a side, only `missing` ("attention"
+    or "baseline") is set. Differences are in metric points; `clipped` marks a t-interval
+    clipped to ±100 points (analysis.bounds), `seeds_for_range` the seeds that would keep it
+    inside."""
+
+    missing: str | None = None
+    attention: Side | None = None
+    baseline: Side | None = None
+    metric: str = ""
+    verdict: str = ""
+    seeds: int = 0
+    difference: float = float("nan")
+    low: float = float("nan")
+    high: float = float("nan")
+    p_holm: float = float("nan")
+    seeds_needed: int | None = None
+    clipped: bool = False
+    seeds_for_range: int | None = None
 
 
 def best_pair(contenders: pd.DataFrame) -> tuple[pd.Series, pd.Series] | None:
@@ -131,62 +158,39 @@ def best_pair(contenders: pd.DataFrame) -> tuple[pd.Series, pd.Series] | None:
     return attention.loc[attention["mean"].idxmax()], baselines.loc[baselines["mean"].idxmax()]
 
 
-def headline(contenders: pd.DataFrame, judged: pd.DataFrame, settings: Analysis) -> str:
-    """One sentence: the best attention variant against the best baseline of a suite.
-
-    `contenders` is stats.describe of one suite and `judged` its judge_all comparisons.
-    """
+def headline(contenders: pd.DataFrame, judged: pd.DataFrame) -> Headline:
+    """The headline comparison of a suite: `contenders` is stats.describe of one suite and
+    `judged` its judge_all comparisons."""
     best = best_pair(contenders)
     if best is None:
-        missing = "attention contender" if (contenders["side"] != "attention").all() else "baseline"
-        return f"No comparison: the suite has no {missing}."
+        missing = "attention" if (contenders["side"] != "attention").all() else "baseline"
+        return Headline(missing=missing)
     best_a, best_b = best
     row = judged[
         (judged["attention"] == best_a["variant"]) & (judged["baseline"] == best_b["variant"])
     ].iloc[0]
-    metric = metric_label(best_a["metric"])
-    if row["seeds"] < 2:
-        return (
-            f"{label(best_a)} against the best baseline, {label(best_b)}: inconclusive, they "
-            f"share {row['seeds']} seed(s); a paired comparison needs at least 2."
-        )
-    level = f"{settings.confidence:.0%}"
-    facts = (
-        f"{level} CI {signed(row['t_low'])} to {signed(row['t_high'])}, Holm-adjusted "
-        f"{p_phrase(row['p_t_holm'])}, {row['seeds']} seeds"
-    )
-    a, b, d = label(best_a), label(best_b), signed(row["mean_difference"])
-    return _sentence(a, b, d, metric, facts, row, settings) + _range_warning(row)
-
-
-def _range_warning(row: pd.Series) -> str:
-    """A clipped t-interval (analysis.bounds) is said to be unreliable, after the sentence."""
-    if not row.get("t_clipped", False):
-        return ""
-    seeds = row["seeds_for_range"]
-    needed = None if pd.isna(seeds) else int(seeds)
-    return (
-        " The t-interval passes the possible ±100 points and is shown clipped: "
-        + range_advice(int(row["seeds"]), needed)
-        + "."
+    return Headline(
+        attention=side(best_a),
+        baseline=side(best_b),
+        metric=str(best_a["metric"]),
+        verdict=str(row["verdict"]),
+        seeds=int(row["seeds"]),
+        difference=float(row["mean_difference"]),
+        low=float(row["t_low"]),
+        high=float(row["t_high"]),
+        p_holm=float(row["p_t_holm"]),
+        seeds_needed=count(row["seeds_needed"]),
+        clipped=bool(row.get("t_clipped", False)),
+        seeds_for_range=count(row.get("seeds_for_range")),
     )
 
 
-def _sentence(a: str, b: str, d: str, metric: str, facts: str, row, settings) -> str:
-    if row["verdict"] == BETTER:
-        return f"{a} beats the best baseline, {b}, by {d} {metric} points ({facts})."
-    if row["verdict"] == WORSE:
-        return f"{a} trails the best baseline, {b}, by {d} {metric} points ({facts})."
-    if row["verdict"] == NO_DIFFERENCE:
-        return (
-            f"{a} and the best baseline, {b}, differ by {d} {metric} points ({facts}): no "
-            f"difference that matters at a minimum gain of {settings.minimum_gain:g} points."
-        )
-    settle = (
-        f"; about {row['seeds_needed']} seeds would likely settle it"
-        if not pd.isna(row["seeds_needed"]) and row["seeds_needed"] < SEED_CAP
-        else ""
-    )
-    return (
-        f"{a} against the best baseline, {b}: inconclusive, {d} {metric} points ({facts}){settle}."
-    )
+def side(row: pd.Series) -> Side:
+    heads = row.get("heads")
+    missing = heads is None or pd.isna(heads)
+    return Side(str(row["variant"]), str(row["model"]), None if missing else int(heads))
+
+
+def count(value: object) -> int | None:
+    """A seed count that may be missing (None, NaN or pd.NA) as an int or None."""
+    return None if value is None or pd.isna(value) else int(value)

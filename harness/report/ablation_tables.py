@@ -3,48 +3,42 @@
 from __future__ import annotations
 
 from harness.analysis.suite_report import SuiteReport
-from harness.formatting import fixed, interval, signed, signed_interval
-from harness.report.text_table import TextTable, _table, report_metric
+from harness.formatting import fixed, interval, percent, signed, signed_interval
+from harness.report.text_table import (
+    TextTable,
+    _table,
+    as_text,
+    column_table,
+    report_metric,
+)
 
 
 def axis_table(report: SuiteReport) -> TextTable:
-    level = f"{report.settings.confidence:.0%}"
-    rows = [
-        [
-            r.contender,
-            str(r.rank),
-            r.axis,
-            str(r.levels),
-            r.best_level,
-            r.worst_level,
-            signed(r.effect, 2),
-            signed_interval(r.effect_low, r.effect_high),
-        ]
-        for r in report.ablation.axes.itertuples()
+    columns = [as_text("contender"), as_text("rank"), as_text("axis"), as_text("levels")]
+    columns += [
+        as_text("best level", "best_level"),
+        as_text("worst level", "worst_level"),
+        ("best minus worst (points)", lambda r: signed(r.effect, 2)),
+        (f"{percent(report.settings.confidence)} t-interval", effect_interval),
     ]
-    header = ["contender", "rank", "axis", "levels", "best level", "worst level"]
-    header += ["best minus worst (points)", f"{level} t-interval"]
-    return _table("ablation_axes", "Ablation axes ranked by effect", header, rows)
+    title = "Ablation axes ranked by effect"
+    return column_table("ablation_axes", title, report.ablation.axes, columns)
 
 
 def level_table(report: SuiteReport) -> TextTable:
-    level = f"{report.settings.confidence:.0%}"
-    rows = [
-        [
-            r.contender,
-            r.axis,
-            r.level,
-            str(r.seeds),
-            fixed(r.mean),
-            interval(r.t_low, r.t_high),
-            signed(r.effect, 2),
-            signed_interval(r.effect_low, r.effect_high),
-        ]
-        for r in report.ablation.levels.itertuples()
+    level = percent(report.settings.confidence)
+    columns = [as_text("contender"), as_text("axis"), as_text("level"), as_text("seeds")]
+    columns += [
+        (f"mean {report_metric(report)}", lambda r: fixed(r.mean)),
+        (f"{level} t-interval", lambda r: interval(r.t_low, r.t_high)),
+        ("marginal effect (points)", lambda r: signed(r.effect, 2)),
+        (f"{level} t-interval ", effect_interval),
     ]
-    header = ["contender", "axis", "level", "seeds", f"mean {report_metric(report)}"]
-    header += [f"{level} t-interval", "marginal effect (points)", f"{level} t-interval "]
-    return _table("ablation_levels", "Ablation levels", header, rows)
+    return column_table("ablation_levels", "Ablation levels", report.ablation.levels, columns)
+
+
+def effect_interval(row: object) -> str:
+    return signed_interval(row.effect_low, row.effect_high)
 
 
 def interaction_tables(report: SuiteReport) -> list[TextTable]:

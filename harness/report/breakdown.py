@@ -9,9 +9,10 @@ from __future__ import annotations
 import pandas as pd
 
 from harness.analysis.suite_report import SuiteReport
-from harness.formatting import fixed, interval, p_text, signed, signed_interval
+from harness.formatting import fixed, interval, p_text, percent, signed, signed_interval
 from harness.report.tables import all_tables, frames
 from harness.report.text_table import TextTable, _table, report_metric
+from harness.report.wording import breakdown_summary, with_reasons
 
 TERMINAL_ROWS = 12
 
@@ -42,7 +43,7 @@ def headline_table(
     chosen = nodes.headline_rows()
     means = nodes.groups.set_index(["grouping", "group", "variant"])["mean"]
     sides = (nodes.attention, nodes.baseline)
-    level = f"{report.settings.confidence:.0%}"
+    level = percent(report.settings.confidence)
     lines = [
         _where(r)
         + [fixed(means.get((r.grouping, r.group, side), float("nan"))) for side in sides]
@@ -54,7 +55,7 @@ def headline_table(
     header += ["difference (points)", f"{level} t-interval", "Holm p", "verdict"]
     more = len(lines) - len(shown)
     note = (
-        (f"{nodes.summary} " if summary else "")
+        (f"{breakdown_summary(nodes)} " if summary else "")
         + "nodes: test nodes of the group per seed (mean). Columns 4 and 5: "
         f"test {report_metric(report)} of each side on the group's nodes; difference: attention "
         "minus baseline on shared seeds; Holm's adjustment runs over every group and comparison."
@@ -66,7 +67,7 @@ def headline_table(
 
 def comparison_rows_table(report: SuiteReport) -> TextTable:
     """Every comparison in every node group."""
-    level = f"{report.settings.confidence:.0%}"
+    level = percent(report.settings.confidence)
     lines = [
         [r.attention, r.baseline, *_where(r), *_difference(r)]
         for r in report.breakdown.comparisons.itertuples()
@@ -105,9 +106,11 @@ def report_tables(report: SuiteReport) -> list[TextTable]:
 
 
 def report_frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
-    """The analysis DataFrames by CSV file stem; breakdown.csv holds every group comparison."""
+    """The analysis DataFrames by CSV file stem; breakdown.csv holds every group comparison
+    (without the seeds that would settle each, which its reason says)."""
     out = frames(report)
     if report.breakdown is not None and not report.breakdown.comparisons.empty:
-        out["breakdown"] = report.breakdown.comparisons
+        rows = with_reasons(report.breakdown.comparisons, report.settings, ("low", "high"))
+        out["breakdown"] = rows.drop(columns=["seeds_needed"])
         out["breakdown_groups"] = report.breakdown.groups.drop(columns=["order"])
     return out

@@ -5,8 +5,14 @@ from __future__ import annotations
 
 from harness.analysis.arrival import DIFFERENCE_LIMIT
 from harness.analysis.suite_report import SuiteReport
-from harness.formatting import fixed, interval
-from harness.report.text_table import TextTable, _table, report_metric
+from harness.formatting import fixed, interval, percent
+from harness.report.text_table import (
+    TextTable,
+    _table,
+    as_text,
+    column_table,
+    report_metric,
+)
 
 
 def attention_table(report: SuiteReport) -> TextTable | None:
@@ -75,25 +81,27 @@ def arrival_table(report: SuiteReport) -> TextTable | None:
     """New-node arrival of an inductive suite: update against full recompute, per variant."""
     if report.arrival.empty:
         return None
-    level = f"{report.settings.confidence:.0%}"
-    rows = [
-        [
-            r.variant,
-            str(r.seeds),
-            str(r.radius),
-            f"{fixed(r.update_ms)} ({interval(r.update_low, r.update_high)})",
-            f"{fixed(r.full_ms)} ({interval(r.full_low, r.full_high)})",
-            f"{fixed(r.speed_up, 2)}x",
-            f"{r.max_difference:.1e}" + (" over limit" if r.difference_flagged else ""),
-        ]
-        for r in report.arrival.itertuples()
+    level = percent(report.settings.confidence)
+    columns = [as_text("contender", "variant"), as_text("seeds"), as_text("radius")]
+    columns += [
+        (
+            f"update ms/node ({level} t)",
+            lambda r: f"{fixed(r.update_ms)} ({interval(r.update_low, r.update_high)})",
+        ),
+        (
+            f"full recompute ms/node ({level} t)",
+            lambda r: f"{fixed(r.full_ms)} ({interval(r.full_low, r.full_high)})",
+        ),
+        ("speed-up", lambda r: f"{fixed(r.speed_up, 2)}x"),
+        (
+            "largest difference",
+            lambda r: f"{r.max_difference:.1e}" + (" over limit" if r.difference_flagged else ""),
+        ),
     ]
-    header = ["contender", "seeds", "radius", f"update ms/node ({level} t)"]
-    header += [f"full recompute ms/node ({level} t)", "speed-up", "largest difference"]
     note = (
         "Held-out nodes join the training graph in batches; after each, only outputs within the "
         "radius are recomputed (update) and checked against a full recompute. Speed-up: mean "
         f"full time over mean update time. A largest difference above {DIFFERENCE_LIMIT:g} "
         "means the update did not reproduce the full recompute."
     )
-    return _table("arrival", "New-node arrival", header, rows, note)
+    return column_table("arrival", "New-node arrival", report.arrival, columns, note)

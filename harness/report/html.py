@@ -8,9 +8,9 @@ from html import escape
 from harness.analysis.suite_report import SuiteReport
 from harness.report.breakdown import report_tables
 from harness.report.plots import PLOT_TITLES
-from harness.report.tables import reasons
 from harness.report.text_table import TextTable, facts
 from harness.report.trend import TREND_TITLE
+from harness.report.wording import headline_sentence, reasons
 
 STYLE = """
 body { font-family: system-ui, sans-serif; margin: 2rem auto; max-width: 1200px;
@@ -80,7 +80,7 @@ def render(report: SuiteReport, plots: dict[str, bytes], trend: bytes | None = N
 <body>
 <h1>Heedful report: {escape(report.suite)}</h1>
 {"".join(f'<p class="notice">{escape(notice)}</p>' for notice in report.notices)}
-<blockquote>{escape(report.headline)}</blockquote>
+<blockquote>{escape(headline_sentence(report))}</blockquote>
 <p class="note">{escape(facts(report))}</p>
 <h2>Plots</h2>
 {figures}

@@ -6,8 +6,8 @@ from harness.analysis.suite_report import SuiteReport
 from harness.report.breakdown import report_tables
 from harness.report.markdown_text import escape
 from harness.report.plots import PLOT_TITLES
-from harness.report.tables import reasons
 from harness.report.text_table import TextTable, facts
+from harness.report.wording import headline_sentence, reasons
 
 
 def table(part: TextTable) -> str:
@@ -27,7 +27,7 @@ def render(report: SuiteReport, plots: list[str]) -> str:
     parts = [
         f"# Heedful report: {escape(report.suite)}",
         "",
-        f"> {escape(report.headline)}",
+        f"> {escape(headline_sentence(report))}",
         "",
         escape(facts(report)),
     ]

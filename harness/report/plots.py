@@ -15,6 +15,7 @@ from matplotlib.figure import Figure
 
 from harness.analysis.suite_report import SuiteReport
 from harness.analysis.verdict import BETTER, INCONCLUSIVE, NO_DIFFERENCE, WORSE
+from harness.formatting import percent
 from harness.report.homophily_plots import homophily_plot
 from harness.report.text_table import report_metric
 
@@ -58,7 +59,7 @@ def contender_plot(report: SuiteReport) -> Figure:
         axes.plot(row.mean, position, marker="D", color=colour, markersize=7)
     axes.set_yticks(range(len(table)), list(table["variant"]))
     axes.invert_yaxis()
-    level = f"{report.settings.confidence:.0%}"
+    level = percent(report.settings.confidence)
     axes.set_xlabel(f"test {report_metric(report)} (dots: seeds; bar: {level} t-interval)")
     axes.set_title("Contenders")
     return figure

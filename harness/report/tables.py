@@ -1,15 +1,14 @@
 """The report's tables as rows of text, shared by the Markdown, LaTeX, HTML and terminal
 renderers: contenders, comparisons and cost here, the rest in ablation_tables and
-diagnostic_tables. Formatting only: every figure comes from a SuiteReport
-(harness.analysis.suite_report)."""
+diagnostic_tables, the sentences in wording. Formatting only: every figure comes from a
+SuiteReport (harness.analysis.suite_report)."""
 
 from __future__ import annotations
 
 import pandas as pd
 
-from harness.analysis.bounds import range_advice
 from harness.analysis.suite_report import SuiteReport
-from harness.formatting import fixed, interval, p_text, signed, signed_interval
+from harness.formatting import fixed, interval, p_text, percent, signed, signed_interval
 from harness.report.ablation_tables import axis_table, interaction_tables, level_table
 from harness.report.diagnostic_tables import (
     arrival_table,
@@ -17,89 +16,50 @@ from harness.report.diagnostic_tables import (
     homophily_map_table,
     homophily_table,
 )
-from harness.report.text_table import TextTable, _table, points, report_metric
+from harness.report.text_table import (
+    TextTable,
+    _table,
+    as_text,
+    column_table,
+    points,
+    report_metric,
+)
+from harness.report.wording import with_reasons
 
 
 def contender_table(report: SuiteReport) -> TextTable:
-    level = f"{report.settings.confidence:.0%}"
-    rows = [
-        [
-            r.variant,
-            r.model,
-            r.side,
-            str(r.seeds),
-            f"{fixed(r.mean)} ± {fixed(r.std)}",
-            fixed(r.median),
-            f"{fixed(r.min)} to {fixed(r.max)}",
-            interval(r.t_low, r.t_high),
-            interval(r.bootstrap_low, r.bootstrap_high),
-        ]
-        for r in report.contenders.itertuples()
+    level = percent(report.settings.confidence)
+    columns = [as_text("contender", "variant"), as_text("model"), as_text("side"), as_text("seeds")]
+    columns += [
+        (f"test {report_metric(report)} mean ± std", lambda r: f"{fixed(r.mean)} ± {fixed(r.std)}"),
+        ("median", lambda r: fixed(r.median)),
+        ("min to max", lambda r: f"{fixed(r.min)} to {fixed(r.max)}"),
+        (f"{level} t-interval", lambda r: interval(r.t_low, r.t_high)),
+        (f"{level} bootstrap", lambda r: interval(r.bootstrap_low, r.bootstrap_high)),
     ]
-    header = ["contender", "model", "side", "seeds", f"test {report_metric(report)} mean ± std"]
-    header += ["median", "min to max", f"{level} t-interval", f"{level} bootstrap"]
-    return _table("contenders", "Contenders over seeds", header, rows)
+    return column_table("contenders", "Contenders over seeds", report.contenders, columns)
 
 
 def comparison_table(report: SuiteReport) -> TextTable:
-    level = f"{report.settings.confidence:.0%}"
-    rows = [
-        [
-            r.attention,
-            r.baseline,
-            str(r.seeds),
-            signed(r.mean_difference, 2),
-            signed_interval(r.t_low, r.t_high),
-            signed_interval(r.bootstrap_low, r.bootstrap_high),
-            f"{fixed(r.t_statistic, 2)} ({r.df})",
-            p_text(r.p_t),
-            p_text(r.p_t_holm),
-            p_text(r.p_wilcoxon),
-            fixed(r.effect_size, 2),
-            r.verdict,
-        ]
-        for r in report.comparisons.itertuples()
+    level = percent(report.settings.confidence)
+    columns = [as_text("attention"), as_text("baseline"), as_text("seeds")]
+    columns += [
+        ("difference (points)", lambda r: signed(r.mean_difference, 2)),
+        (f"{level} t-interval", lambda r: signed_interval(r.t_low, r.t_high)),
+        (f"{level} bootstrap", lambda r: signed_interval(r.bootstrap_low, r.bootstrap_high)),
+        ("t (df)", lambda r: f"{fixed(r.t_statistic, 2)} ({r.df})"),
+        ("p", lambda r: p_text(r.p_t)),
+        ("Holm p", lambda r: p_text(r.p_t_holm)),
+        ("Wilcoxon p", lambda r: p_text(r.p_wilcoxon)),
+        ("d_z", lambda r: fixed(r.effect_size, 2)),
+        as_text("verdict"),
     ]
-    header = ["attention", "baseline", "seeds", "difference (points)", f"{level} t-interval"]
-    header += [f"{level} bootstrap", "t (df)", "p", "Holm p", "Wilcoxon p", "d_z", "verdict"]
     note = (
         f"Differences are attention minus baseline in {report_metric(report)} points on shared "
         f"seeds; minimum gain that matters: {points(report.settings.minimum_gain)}; Holm's "
         "adjustment runs over all comparisons of the suite."
     )
-    return _table("comparisons", "Paired comparisons", header, rows, note)
-
-
-def reasons(report: SuiteReport) -> list[str]:
-    """One line per comparison: the verdict and why; then one per t-interval shown clipped."""
-    return [
-        f"{r.attention} vs {r.baseline}: {r.verdict} ({r.reason})"
-        for r in report.comparisons.itertuples()
-    ] + range_notes(report)
-
-
-def range_notes(report: SuiteReport) -> list[str]:
-    """Each t-interval that passed the metric's possible range (analysis.bounds)."""
-    level = f"{report.settings.confidence:.0%}"
-    notes = []
-    for r in report.contenders.itertuples():
-        if r.t_clipped:
-            notes.append(
-                f"{r.variant}: the {level} t-interval of its mean passes the possible range 0 to "
-                f"1 and is shown clipped; {range_advice(r.seeds, _count(r.seeds_for_range))}"
-            )
-    for r in report.comparisons.itertuples():
-        if r.t_clipped:
-            notes.append(
-                f"{r.attention} vs {r.baseline}: the {level} t-interval of the difference passes "
-                f"the possible ±100 points and is shown clipped; "
-                f"{range_advice(r.seeds, _count(r.seeds_for_range))}"
-            )
-    return notes
-
-
-def _count(value: object) -> int | None:
-    return None if value is None or pd.isna(value) else int(value)
+    return column_table("comparisons", "Paired comparisons", report.comparisons, columns, note)
 
 
 def cost_table(report: SuiteReport) -> TextTable:
@@ -142,7 +102,7 @@ def frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
     """The analysis DataFrames by file stem, for CSV (full precision, no formatting)."""
     out = {
         "contenders": report.contenders,
-        "comparisons": report.comparisons,
+        "comparisons": with_reasons(report.comparisons, report.settings),
         "ablation_levels": report.ablation.levels,
         "ablation_axes": report.ablation.axes,
         "ablation_interactions": report.ablation.interactions,

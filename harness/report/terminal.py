@@ -12,17 +12,18 @@ from rich.table import Table
 
 from harness.analysis.axes import AblationView
 from harness.analysis.suite_report import SuiteReport
-from harness.formatting import fixed, metric_label
+from harness.formatting import fixed, metric_label, percent
 from harness.report.breakdown import TERMINAL_ROWS, headline_table, report_tables
 from harness.report.diagnostic_tables import arrival_table
-from harness.report.tables import comparison_table, reasons
+from harness.report.tables import comparison_table
 from harness.report.text_table import TextTable
+from harness.report.wording import breakdown_summary, headline_sentence, reasons
 
 
 def summary_table(summary: pd.DataFrame, title: str) -> Table:
     """Contender, metric mean +- std, t-interval, costs; the best mean in bold green."""
     metric = metric_label(summary["metric"].iloc[0])
-    level = f"{summary['confidence'].iloc[0]:.0%}"
+    level = percent(summary["confidence"].iloc[0])
     table = Table(title=title, title_justify="left")
     for header in (
         "contender",
@@ -75,7 +76,7 @@ def axis_level_table(
     """One section per axis: each level's test metric, its effect, and its attention."""
     first = levels.iloc[0]
     label = metric_label(metric)
-    level = f"{confidence:.0%}"
+    level = percent(confidence)
     table = Table(
         title=f"Ablation of '{escape(str(first['contender']))}' by axis "
         f"(suite {escape(str(first['suite']))})",
@@ -203,16 +204,16 @@ def print_verdicts(report: SuiteReport, console: Console | None = None) -> None:
     """The paired comparisons, the reason for each verdict and the headline sentence."""
     console = console or Console()
     if not report.comparisons.empty:
-        level = f"{report.settings.confidence:.0%}"
+        level = percent(report.settings.confidence)
         headers = tuple(h.replace("LEVEL", level) for h in TERMINAL_COMPARISON)
         console.print(text_table(narrow(comparison_table(report), headers)))
     for line in reasons(report):
         console.print(f"  {escape(line)}", highlight=False)
-    console.print(f"[bold]Verdict:[/bold] {escape(report.headline)}", highlight=False)
+    console.print(f"[bold]Verdict:[/bold] {escape(headline_sentence(report))}", highlight=False)
     nodes = headline_table(report, TERMINAL_ROWS, summary=False)
     if nodes is not None:
         console.print(text_table(nodes))
-        console.print(escape(report.breakdown.summary), highlight=False)
+        console.print(escape(breakdown_summary(report.breakdown)), highlight=False)
 
 
 def print_arrival(report: SuiteReport, console: Console | None = None) -> None:

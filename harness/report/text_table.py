@@ -3,10 +3,14 @@ Formatting only: every figure comes from a SuiteReport (harness.analysis.suite_r
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
+from typing import Any
+
+import pandas as pd
 
 from harness.analysis.suite_report import SuiteReport
-from harness.formatting import metric_label
+from harness.formatting import metric_label, percent
 
 
 @dataclass(frozen=True)
@@ -31,7 +35,7 @@ def facts(report: SuiteReport) -> str:
     return (
         f"Metric: test {report_metric(report)}; {seed_count(report)}; minimum "
         f"gain that matters: {points(settings.minimum_gain)}; confidence "
-        f"{settings.confidence:.0%}; {settings.bootstrap_resamples} bootstrap resamples. "
+        f"{percent(settings.confidence)}; {settings.bootstrap_resamples} bootstrap resamples. "
         "Figures are estimates on this data under these splits and seeds, not guarantees "
         "about other data."
     )
@@ -47,6 +51,24 @@ def seed_count(report: SuiteReport) -> str:
     counts = report.contenders["seeds"]
     low, high = int(counts.min()), int(counts.max())
     return f"{high} seeds" if low == high else f"{low} to {high} seeds per contender"
+
+
+# a column of a table: its header and how a row (a named tuple of a DataFrame) is written in it
+Column = tuple[str, Callable[[Any], str]]
+
+
+def as_text(header: str, field: str | None = None) -> Column:
+    """A column showing a row's field (named as the header unless given) as it is."""
+    return header, lambda row: str(getattr(row, field or header))
+
+
+def column_table(
+    name: str, title: str, frame: pd.DataFrame, columns: list[Column], note: str = ""
+) -> TextTable:
+    """One row per row of `frame`, each cell written as its column says."""
+    header = [heading for heading, _ in columns]
+    rows = [[cell(row) for _, cell in columns] for row in frame.itertuples()]
+    return _table(name, title, header, rows, note)
 
 
 def _table(name: str, title: str, header: list[str], rows: list[list[str]], note: str = ""):
