@@ -20,6 +20,10 @@ def test_signed_differences_and_points() -> None:
     assert f.as_points(float("nan")) == "-"
 
 
+def test_confidence_levels_as_percentages() -> None:
+    assert [f.percent(c) for c in (0.95, 0.9, 0.99, 0.8)] == ["95%", "90%", "99%", "80%"]
+
+
 def test_p_values() -> None:
     assert [f.p_text(p) for p in (0.0004, 0.0123, 0.43)] == ["< 0.001", "0.012", "0.43"]
     assert f.p_phrase(0.0004) == "p < 0.001" and f.p_phrase(0.05) == "p = 0.05"
