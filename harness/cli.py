@@ -9,6 +9,14 @@ import sys
 from pathlib import Path
 
 from harness import screen
+from harness.arguments import (
+    OneLineParser,
+    cluster_address,
+    output_file,
+    positive_float,
+    positive_int,
+    store_location,
+)
 from harness.errors import InputError
 
 
@@ -131,63 +139,6 @@ def checked_cluster(args: argparse.Namespace) -> str | None:
     if args.cluster is not None and args.jobs > 1:
         raise InputError("--cluster and --jobs: given both; allowed: one of them")
     return args.cluster
-
-
-def cluster_address(text: str) -> str:
-    """local:N with N >= 1, or a scheduler address such as tcp://10.0.0.5:8786."""
-    kind, _, rest = text.partition(":")
-    if kind == "local":
-        if rest.isdigit() and int(rest) >= 1:
-            return text
-        raise argparse.ArgumentTypeError(f"given {text!r}; allowed: local:N with N >= 1")
-    if not rest or any(character.isspace() for character in text):
-        raise argparse.ArgumentTypeError(
-            f"given {text!r}; allowed: a scheduler address such as tcp://10.0.0.5:8786, or local:N"
-        )
-    return text
-
-
-def positive_int(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"given {text!r}; allowed: a whole number >= 1") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"given {value}; allowed: a whole number >= 1")
-    return value
-
-
-def positive_float(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"given {text!r}; allowed: a number > 0") from None
-    if not value > 0 or value == float("inf"):
-        raise argparse.ArgumentTypeError(f"given {text}; allowed: a number > 0")
-    return value
-
-
-class OneLineParser(argparse.ArgumentParser):
-    """Command-line mistakes are bad input too: one line, exit status 2 (subcommands inherit)."""
-
-    def error(self, message: str) -> None:
-        self.exit(2, f"heedful: error: {self.prog}: {' '.join(message.split())}\n")
-
-
-def output_file(text: str) -> Path:
-    """A file the command will write: not an existing folder."""
-    if Path(text).is_dir():
-        raise argparse.ArgumentTypeError(f"given {text!r}, a folder; allowed: a file path")
-    return Path(text)
-
-
-def store_location(text: str):  # noqa: ANN201 - a storage Location
-    from harness.storage.database import locate
-
-    try:
-        return locate(text)
-    except InputError as error:
-        raise argparse.ArgumentTypeError(str(error)) from None
 
 
 def parser() -> argparse.ArgumentParser:

@@ -1,0 +1,66 @@
+"""Command-line argument types: each turns one option's text into a checked value, or says in
+one line what was given and what is allowed (argparse prints it and exits with status 2)."""
+
+from __future__ import annotations
+
+import argparse
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+from harness.errors import InputError
+
+
+class OneLineParser(argparse.ArgumentParser):
+    """Command-line mistakes are bad input too: one line, exit status 2 (subcommands inherit)."""
+
+    def error(self, message: str) -> None:
+        self.exit(2, f"heedful: error: {self.prog}: {' '.join(message.split())}\n")
+
+
+def _number(text: str, kind: Callable[[str], Any], allowed: str, fits: Callable[[Any], bool]):  # noqa: ANN202
+    try:
+        value = kind(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"given {text!r}; allowed: {allowed}") from None
+    if not fits(value):
+        raise argparse.ArgumentTypeError(f"given {text}; allowed: {allowed}")
+    return value
+
+
+def positive_int(text: str) -> int:
+    return _number(text, int, "a whole number >= 1", lambda value: value >= 1)
+
+
+def positive_float(text: str) -> float:
+    return _number(text, float, "a number > 0", lambda value: 0 < value < float("inf"))
+
+
+def cluster_address(text: str) -> str:
+    """local:N with N >= 1, or a scheduler address such as tcp://10.0.0.5:8786."""
+    kind, _, rest = text.partition(":")
+    if kind == "local":
+        if rest.isdigit() and int(rest) >= 1:
+            return text
+        raise argparse.ArgumentTypeError(f"given {text!r}; allowed: local:N with N >= 1")
+    if not rest or any(character.isspace() for character in text):
+        raise argparse.ArgumentTypeError(
+            f"given {text!r}; allowed: a scheduler address such as tcp://10.0.0.5:8786, or local:N"
+        )
+    return text
+
+
+def output_file(text: str) -> Path:
+    """A file the command will write: not an existing folder."""
+    if Path(text).is_dir():
+        raise argparse.ArgumentTypeError(f"given {text!r}, a folder; allowed: a file path")
+    return Path(text)
+
+
+def store_location(text: str):  # noqa: ANN201 - a storage Location
+    from harness.storage.database import locate
+
+    try:
+        return locate(text)
+    except InputError as error:
+        raise argparse.ArgumentTypeError(str(error)) from None
