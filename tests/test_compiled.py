@@ -12,7 +12,8 @@ from harness.data import load_graph
 from harness.data.splits import make_split
 from harness.execution.local import pending, record_of
 from harness.models import build_model
-from harness.planning import expand, load_suite, resolve_compile
+from harness.planning import expand, load_suite
+from harness.planning.run_choices import resolve_compile
 from harness.schema.data import SyntheticData
 from harness.schema.training import Training
 from harness.storage import store

@@ -29,7 +29,7 @@ STAGES = (
     ("harness.report",),
     ("harness.commands", "harness.api"),
     ("harness.screen",),
-    ("harness.cli",),
+    ("harness.arguments", "harness.cli"),
 )
 
 

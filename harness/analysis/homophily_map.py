@@ -1,6 +1,6 @@
 """Homophily map: the suite's contenders on synthetic graphs across a range of edge homophily.
 
-Each synthetic graph (planned in harness/planning.py) is a contextual stochastic block model
+Each synthetic graph (planned in harness/planning/) is a contextual stochastic block model
 (harness/data/synthetic.py) matched
 to the suite's data in nodes, average degree, number of classes and their balance, and feature
 width; only the edge homophily moves. Where the suite's own data falls on that axis (its

@@ -15,7 +15,8 @@ import torch
 
 from harness.execution.pool import Worker, Workers, available_cores, start_workers
 from harness.models import load_builders
-from harness.planning import COMPILE_MIN_EDGES, RunSpec, declared_edges
+from harness.planning import RunSpec
+from harness.planning.run_choices import COMPILE_MIN_EDGES, declared_edges
 from harness.storage import store
 from harness.storage.predictions import encode, to_text
 from harness.training.fit import RunResult, as_trained

@@ -18,6 +18,7 @@ from pydantic import BaseModel, ValidationError
 import harness
 from harness.digest import json_digest
 from harness.errors import InputError
+from harness.planning.run_choices import resolve_compile, sampler_in_use
 from harness.schema.ablation import (
     DEFAULT_HOP_CACHE,
     HopSettings,
@@ -36,8 +37,6 @@ from harness.schema.tuning import TRAINING_KEYS, check_tuning
 HOP_CACHE_VARIABLE = "HEEDFUL_CACHE"
 
 UNSAMPLED = {"batch_size", "fanout"}
-TORCH_SAMPLER = "heedful_uniform"
-PYG_SAMPLER = "pyg_neighbor"
 
 
 @dataclass(frozen=True)
@@ -97,81 +96,6 @@ class RunSpec:
             return frozenset({self.key})
         eager = replace(self, training=self.training.model_copy(update={"compile": False}))
         return frozenset({self.key, eager.key})
-
-
-# Automatic compiling pays back when the epochs times the per-epoch saving exceed the one-off
-# compile time; the saving grows with the edges, so the rule is a count of edge-epochs per model
-# kind (directed edges x maximum epochs), measured by benchmarks/large_graphs.py (README,
-# Performance). Kinds that are not listed never compile automatically.
-COMPILE_PAYBACK_EDGE_EPOCHS: dict[str, float] = {
-    "gat": 19e6,  # paid back in 9.4 epochs on 2M edges
-    "gatv2": 19e6,
-    "dot_product": 19e6,
-    "gcn": 26e6,  # 13.2 epochs on 2M edges
-    "sage": 35e6,  # 17.4 epochs on 2M edges
-}
-COMPILE_MIN_EDGES = 200_000  # below this, even a long run's saving is lost in noise
-
-
-def declared_edges(data: BaseModel) -> int | None:
-    """Directed edges the data section will give, known before loading it; None if unknown.
-
-    Synthetic graphs: nodes x average degree; tables: edge rows (twice if undirected); bundled
-    graphs are small. PyG datasets are not counted without loading them.
-    """
-    if data.source == "synthetic":
-        return round(data.nodes * data.average_degree)
-    if data.source == "tables":
-        return table_rows(data.edges) * (1 if data.directed else 2)
-    if data.source in ("karate", "digits"):
-        return 0
-    return None
-
-
-_ROWS: dict[tuple[str, int, int], int] = {}
-
-
-def table_rows(path: str) -> int:
-    """Data rows of a CSV (lines after the header) or Parquet file (from its footer)."""
-    stat = Path(path).stat()
-    cache_key = (path, stat.st_size, stat.st_mtime_ns)
-    if cache_key not in _ROWS:
-        if Path(path).suffix.lower() == ".csv":
-            with open(path, "rb") as handle:
-                lines = sum(block.count(b"\n") for block in iter(lambda: handle.read(1 << 20), b""))
-            _ROWS[cache_key] = max(lines - 1, 0)
-        else:
-            import pyarrow.parquet  # only suites with Parquet tables need it
-
-            _ROWS[cache_key] = pyarrow.parquet.ParquetFile(path).metadata.num_rows
-    return _ROWS[cache_key]
-
-
-def resolve_compile(training: Training, model: str, data: BaseModel) -> Training:
-    """Training with `compile = "auto"` decided: true or false, before any key is taken.
-    Sampled runs are never compiled (every batch has another shape)."""
-    if training.sampled and training.compile is not False:
-        return training.model_copy(update={"compile": False})
-    if training.compile != "auto":
-        return training
-    edges = declared_edges(data)
-    payback = COMPILE_PAYBACK_EDGE_EPOCHS.get(model)
-    wanted = (
-        edges is not None
-        and payback is not None
-        and edges >= COMPILE_MIN_EDGES
-        and edges * training.epochs >= payback
-    )
-    return training.model_copy(update={"compile": wanted})
-
-
-def sampler_in_use() -> str:
-    """The neighbour sampler of this installation: PyG's own needs pyg-lib or torch-sparse."""
-    import torch_geometric.typing  # only sampled runs pay for importing torch here
-
-    if torch_geometric.typing.WITH_PYG_LIB or torch_geometric.typing.WITH_TORCH_SPARSE:
-        return PYG_SAMPLER
-    return TORCH_SAMPLER
 
 
 def read_suite_file(path: str | Path) -> dict:

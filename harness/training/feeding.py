@@ -11,7 +11,7 @@ from torch import nn
 from torch_geometric.data import Data
 
 from harness.models import unwrap
-from harness.planning import sampler_in_use
+from harness.planning.run_choices import sampler_in_use
 from harness.schema.training import Training
 from harness.training.sampling import batch_loader, fanout_counts
 

@@ -22,7 +22,7 @@ from torch_geometric.data import Data
 from torch_geometric.loader import NodeLoader
 from torch_geometric.sampler import BaseSampler, NodeSamplerInput, SamplerOutput
 
-from harness.planning import PYG_SAMPLER, sampler_in_use
+from harness.planning.run_choices import PYG_SAMPLER, sampler_in_use
 
 ALL_NEIGHBOURS = -1
 
