@@ -23,6 +23,36 @@ NAME_PATTERN = re.compile(r"[A-Za-z0-9_-]{1,64}")
 NAMES_ALLOWED = "allowed: ASCII letters, digits, _ and -, 1 to 64 characters"
 
 
+def link_split_problem(split: SplitSection) -> str | None:
+    """What a link suite's split may not be: another method, or shares not summing to 1."""
+    if split.method != "fractions":
+        return (
+            f"method '{split.method}' is for node classification; allowed for link "
+            "prediction: fractions (shares of the edges, or of the nodes when inductive)"
+        )
+    total = split.train + split.validation + split.test
+    if abs(total - 1) > 1e-9:
+        return (
+            f"train + validation + test = {total:g}; allowed for link prediction: shares "
+            "of the edges (of the nodes when inductive) that sum to 1"
+        )
+    return None
+
+
+def link_analysis_problem(analysis: Analysis) -> str | None:
+    """Bin edges of the per-node breakdown, which groups scored test nodes, not edges."""
+    for key in ("local_homophily_edges", "degree_edges"):
+        if key in analysis.model_fields_set:
+            return (
+                f"{key} is for the per-node breakdown, not available for link prediction "
+                "(it groups scored test nodes); allowed: leave it out"
+            )
+    return None
+
+
+LINK_SECTION_CHECKS = {"split": link_split_problem, "analysis": link_analysis_problem}
+
+
 def check_name(name: str) -> str:
     """A suite or contender name, or ValueError saying what is allowed."""
     if not NAME_PATTERN.fullmatch(name):
@@ -78,23 +108,14 @@ class Suite(StrictModel):
             )
         return link
 
-    @field_validator("split")
+    @field_validator("split", "analysis")
     @classmethod
-    def _edge_shares(cls, split: SplitSection, info: ValidationInfo) -> SplitSection:
-        if info.data.get("task") != "link_prediction":
-            return split
-        if split.method != "fractions":
-            raise ValueError(
-                f"method '{split.method}' is for node classification; allowed for link "
-                "prediction: fractions (shares of the edges, or of the nodes when inductive)"
-            )
-        total = split.train + split.validation + split.test
-        if abs(total - 1) > 1e-9:
-            raise ValueError(
-                f"train + validation + test = {total:g}; allowed for link prediction: shares "
-                "of the edges (of the nodes when inductive) that sum to 1"
-            )
-        return split
+    def _fits_link_prediction(cls, value: Any, info: ValidationInfo) -> Any:
+        if info.data.get("task") == "link_prediction":
+            problem = LINK_SECTION_CHECKS[info.field_name](value)
+            if problem:
+                raise ValueError(problem)
+        return value
 
     @field_validator(*NOT_FOR_LINKS)
     @classmethod
@@ -130,19 +151,6 @@ class Suite(StrictModel):
             if not NAME_PATTERN.fullmatch(name):
                 raise ValueError(f"contender name {name!r} is not allowed; {NAMES_ALLOWED}")
         return contenders
-
-    @field_validator("analysis")
-    @classmethod
-    def _no_breakdown_bins_for_links(cls, analysis: Analysis, info: ValidationInfo) -> Analysis:
-        if info.data.get("task") != "link_prediction":
-            return analysis
-        for key in ("local_homophily_edges", "degree_edges"):
-            if key in analysis.model_fields_set:
-                raise ValueError(
-                    f"{key} is for the per-node breakdown, not available for link prediction "
-                    "(it groups scored test nodes); allowed: leave it out"
-                )
-        return analysis
 
     @field_validator("analysis")
     @classmethod
