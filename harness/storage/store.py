@@ -24,6 +24,7 @@ from harness.storage.tables import TEST_METRICS as TEST_METRICS  # execution fil
 
 DEFAULT_STORE = Path("runs/heedful.db")
 JSON_COLUMNS = ("options", "point", "curve", "extras")
+MEASURED_COLUMNS = ("curve", "extras")  # kept to six significant digits; settings kept exactly
 # NaN is kept as NULL; read back, an all-NULL column would hold None instead of NaN
 NULLABLE_NUMBERS = ("val_metric", "test_metric", *TEST_COLUMNS)
 
@@ -40,13 +41,28 @@ def finished_keys(store: Store, suite: str) -> set[tuple[str, str]]:
     return {(row["contender"], row["key"]) for row in rows}
 
 
+def significant(value: Any) -> Any:
+    """Floats in a JSON value rounded to six significant digits: curves and diagnostics are
+    measured on a few hundred nodes, so the digits past six are noise that costs space."""
+    if isinstance(value, float):
+        return float(f"{value:.6g}")
+    if isinstance(value, list | tuple):
+        return [significant(item) for item in value]
+    if isinstance(value, dict):
+        return {key: significant(item) for key, item in value.items()}
+    return value
+
+
 def save_run(store: Store, record: dict[str, Any]) -> bool:
     """Insert one finished run (and its predictions, given as text) in one transaction;
     False when it was stored already."""
     row = dict(record)
     predictions = row.pop("predictions", None)
     for column in JSON_COLUMNS:
-        row[column] = json.dumps(row.get(column, {} if column != "curve" else []), sort_keys=True)
+        value = row.get(column, {} if column != "curve" else [])
+        if column in MEASURED_COLUMNS:
+            value = significant(value)
+        row[column] = json.dumps(value, sort_keys=True)
     for column in NULLABLE_NUMBERS:
         if row.get(column) is not None and row[column] != row[column]:
             row[column] = None  # NaN
