@@ -146,7 +146,7 @@ def analyse(
     table = describe(runs, settings)
     judged = judge_all(paired_comparisons(runs, settings), settings)
     nodes = None
-    if predictions and data is not None:
+    if settings.breakdown and predictions and data is not None:
         best = best_pair(table)
         pair = None if best is None else (best[0]["variant"], best[1]["variant"])
         nodes = breakdown(with_variants(runs), predictions, data, settings, pair)
@@ -217,7 +217,7 @@ def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
 
         source = load_suite(suite)
         mapped = stored_homophily_map(store_path, source)
-        predictions = load_predictions(store_path, loaded["key"])
+        predictions = predictions_for(store_path, loaded, source.analysis)
         data = load_graph(source.data) if predictions else None
         missing = missing_runs(loaded, source)
     homophily = graph_homophily(store_path, name)
@@ -226,9 +226,14 @@ def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
 
 def analyse_suite_runs(store_path: str | Path, runs: pd.DataFrame, suite: Suite) -> SuiteReport:
     """analyse() of a suite's runs, with the per-node breakdown when predictions are stored."""
-    predictions = load_predictions(store_path, runs["key"])
+    predictions = predictions_for(store_path, runs, suite.analysis)
     data = load_graph(suite.data) if predictions else None
     return analyse(runs, suite.analysis, predictions=predictions, data=data)
+
+
+def predictions_for(store_path: str | Path, runs: pd.DataFrame, settings: Analysis) -> dict:
+    """The runs' stored predictions, or none when the suite turned its breakdown off."""
+    return load_predictions(store_path, runs["key"]) if settings.breakdown else {}
 
 
 def node_breakdown(store_path: str | Path, suite: str | Path) -> pd.DataFrame:
@@ -238,7 +243,13 @@ def node_breakdown(store_path: str | Path, suite: str | Path) -> pd.DataFrame:
         raise InputError(f"{suite}: suite file not found; the breakdown reads the suite's data")
     from harness.planning import load_suite
 
-    if load_suite(suite).task == "link_prediction":
+    source = load_suite(suite)
+    if not source.analysis.breakdown:
+        raise InputError(
+            f"{suite}: analysis.breakdown: given false; the breakdown needs it true (the default), "
+            "and runs stored with it true"
+        )
+    if source.task == "link_prediction":
         raise InputError(
             f"{suite}: task: given 'link_prediction'; the per-node breakdown groups scored test "
             "nodes, which a link suite has not; allowed: a node classification suite"

@@ -66,7 +66,7 @@ def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
         "curve": result.curve,
         "extras": result.extras,
     }
-    if result.predictions is not None:
+    if result.predictions is not None and spec.keep_predictions:
         record["predictions"] = to_text(encode(result.predictions))
     return record
 

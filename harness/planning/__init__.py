@@ -56,6 +56,7 @@ class RunSpec:
     hop_cache: str = DEFAULT_HOP_CACHE  # where k-hop edge sets are cached; not in the key
     task: str = DEFAULT_TASK
     link: BaseModel | None = None  # the `[link]` options of a link prediction suite
+    keep_predictions: bool = True  # store test-node probabilities (breakdown); not in the key
 
     @property
     def model(self) -> str:
@@ -188,6 +189,7 @@ def run_spec(
         hop_cache=hop_cache_directory(suite.hops),
         task=suite.task,
         link=suite.link_options if suite.task == "link_prediction" else None,
+        keep_predictions=suite.analysis.breakdown,
     )
 
 

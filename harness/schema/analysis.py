@@ -13,7 +13,8 @@ class Analysis(StrictModel):
     `minimum_gain` is the smallest difference that matters, in metric points (one point is
     0.01 of a metric that runs from 0 to 1). `attention` and `baselines` name the contenders
     of each side of the paired comparisons; left empty, attention model kinds form one side
-    and all other contenders the other.
+    and all other contenders the other. `breakdown = false` keeps no per-node predictions
+    for new runs and leaves the per-node breakdown out (for graphs with very many test nodes).
     """
 
     minimum_gain: float = Field(1.0, ge=0, le=100)
@@ -23,6 +24,7 @@ class Analysis(StrictModel):
     baselines: list[str] = []
     local_homophily_edges: list[float] = [0.0, 0.2, 0.4, 0.6, 0.8, 1.0]
     degree_edges: list[int] = []
+    breakdown: bool = True
 
     @field_validator("local_homophily_edges")
     @classmethod

@@ -41,7 +41,7 @@ def link_split_problem(split: SplitSection) -> str | None:
 
 def link_analysis_problem(analysis: Analysis) -> str | None:
     """Bin edges of the per-node breakdown, which groups scored test nodes, not edges."""
-    for key in ("local_homophily_edges", "degree_edges"):
+    for key in ("local_homophily_edges", "degree_edges", "breakdown"):
         if key in analysis.model_fields_set:
             return (
                 f"{key} is for the per-node breakdown, not available for link prediction "
