@@ -16,6 +16,7 @@ from harness.execution.memory import GraphSize, message_edges, run_bytes, saved_
 from harness.models import build_model, unwrap
 from harness.models.interface import AttentionNetwork, Network
 from harness.models.stack import LayerStack, widths
+from harness.planning.run_choices import resolve_compile
 from harness.schema.contenders import ContenderBase
 from harness.schema.data import SyntheticData
 from harness.schema.model_kinds import MODEL_KINDS, ModelKind, SavedFloats, attends
@@ -50,6 +51,13 @@ def with_leaf(x: torch.Tensor, edges: torch.Tensor, at: int) -> tuple[torch.Tens
 def keeps_the_contract(name: str) -> None:
     kind = MODEL_KINDS[name]
     assert name in get_args(kind.options.model_fields["model"].annotation)
+    # automatic compiling: a positive edge-epoch count, or never (planning/run_choices.py)
+    assert kind.compile_payback is None or kind.compile_payback > 0
+    large = Training(compile="auto", epochs=1000)
+    # 1M declared edges x 1000 epochs
+    wanted = kind.compile_payback is not None and kind.compile_payback <= 1000 * 1_000_000
+    edges = SyntheticData(source="synthetic", nodes=100_000, classes=3, average_degree=10)
+    assert resolve_compile(large, name, edges).compile is wanted
     options = kind.options.model_validate({"model": name, "layers": LAYERS, "hidden": 4})
     torch.manual_seed(0)
     model = build_model(options, IN_DIM, OUT_DIM)

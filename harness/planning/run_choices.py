@@ -7,22 +7,16 @@ from pathlib import Path
 
 from pydantic import BaseModel
 
+from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.training import Training
 
 TORCH_SAMPLER = "heedful_uniform"
 PYG_SAMPLER = "pyg_neighbor"
 
 # Automatic compiling pays back when the epochs times the per-epoch saving exceed the one-off
-# compile time; the saving grows with the edges, so the rule is a count of edge-epochs per model
-# kind (directed edges x maximum epochs), measured by benchmarks/large_graphs.py (README,
-# Performance). Kinds that are not listed never compile automatically.
-COMPILE_PAYBACK_EDGE_EPOCHS: dict[str, float] = {
-    "gat": 19e6,  # paid back in 9.4 epochs on 2M edges
-    "gatv2": 19e6,
-    "dot_product": 19e6,
-    "gcn": 26e6,  # 13.2 epochs on 2M edges
-    "sage": 35e6,  # 17.4 epochs on 2M edges
-}
+# compile time; the saving grows with the edges, so each model kind declares a count of
+# edge-epochs (its registry entry's `compile_payback`). Kinds without one never compile
+# automatically.
 COMPILE_MIN_EDGES = 200_000  # below this, even a long run's saving is lost in noise
 
 
@@ -68,7 +62,8 @@ def resolve_compile(training: Training, model: str, data: BaseModel) -> Training
     if training.compile != "auto":
         return training
     edges = declared_edges(data)
-    payback = COMPILE_PAYBACK_EDGE_EPOCHS.get(model)
+    kind = MODEL_KINDS.get(model)
+    payback = None if kind is None else kind.compile_payback
     wanted = (
         edges is not None
         and payback is not None

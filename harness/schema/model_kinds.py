@@ -41,7 +41,9 @@ class ModelKind:
     node's output depends on, e.g. through degree normalisation. `message_edges`: whether its
     layers read edges at all; `self_loops`: whether it adds one self-loop per node to them.
     A kind that `attends` builds a network with attention weights
-    (harness.models.interface.AttentionNetwork), which the diagnostics read."""
+    (harness.models.interface.AttentionNetwork), which the diagnostics read. `compile_payback`:
+    directed edges x maximum epochs from which `compile = "auto"` compiles it (the one-off
+    compile time is paid back; benchmarks/large_graphs.py, README Performance); None: never."""
 
     options: type[ContenderBase]  # pydantic class with `model: Literal[<kind name>, ...]`
     builder: str  # "module:function", build(options, in_dim, out_dim) -> torch module
@@ -50,6 +52,7 @@ class ModelKind:
     self_loops: bool = False
     attends: bool = False
     extra_hops: int = 0
+    compile_payback: float | None = None
 
 
 ATTENTION = "harness.models.attention:build"
@@ -58,12 +61,12 @@ STATIC_SCORES = SavedFloats(node_inputs=2, node_outputs=3, edge_outputs=1, edge_
 # dynamic and dot-product scores: a score vector per edge and head before it is reduced
 VECTOR_SCORES = SavedFloats(node_inputs=2, node_outputs=3, edge_outputs=2, edge_scalars=6)
 
+ATTENDING = {"self_loops": True, "attends": True, "compile_payback": 19e6}  # 9.4 epochs, 2M edges
+
 MODEL_KINDS: dict[str, ModelKind] = {
-    "gat": ModelKind(AttentionOptions, ATTENTION, STATIC_SCORES, self_loops=True, attends=True),
-    "gatv2": ModelKind(AttentionOptions, ATTENTION, VECTOR_SCORES, self_loops=True, attends=True),
-    "dot_product": ModelKind(
-        AttentionOptions, ATTENTION, VECTOR_SCORES, self_loops=True, attends=True
-    ),
+    "gat": ModelKind(AttentionOptions, ATTENTION, STATIC_SCORES, **ATTENDING),
+    "gatv2": ModelKind(AttentionOptions, ATTENTION, VECTOR_SCORES, **ATTENDING),
+    "dot_product": ModelKind(AttentionOptions, ATTENTION, VECTOR_SCORES, **ATTENDING),
     # D^{-1/2} (A + I) D^{-1/2}: a neighbour's degree counts its own neighbours, one hop on;
     # one normalised weight per edge
     "gcn": ModelKind(
@@ -72,11 +75,13 @@ MODEL_KINDS: dict[str, ModelKind] = {
         SavedFloats(node_inputs=1, node_outputs=2, edge_scalars=1),
         self_loops=True,
         extra_hops=1,
+        compile_payback=26e6,  # 13.2 epochs on 2M edges
     ),
     "sage": ModelKind(
         NeighbourMeanOptions,
         "harness.models.neighbour_mean:build",
         SavedFloats(node_inputs=2, node_outputs=2),
+        compile_payback=35e6,  # 17.4 epochs on 2M edges
     ),
     "mlp": ModelKind(
         MLPOptions,
