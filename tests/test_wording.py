@@ -1,5 +1,6 @@
-"""The sentences of a report, pinned word for word: verdict reasons, headlines, range notes
-and the per-node summary. Figures come from crafted run tables (tests/test_verdict.py)."""
+"""The sentences of a report, pinned word for word: verdict reasons, headlines, range notes,
+the per-node summary, what of a suite is missing and warnings recorded in runs. Figures come
+from crafted run tables (tests/test_verdict.py)."""
 
 from __future__ import annotations
 
@@ -9,8 +10,16 @@ from test_bounds import spread_runs
 from test_verdict import CLEAR_GAIN, CLEAR_LOSS, NOISY, SETTINGS, TIE, crafted
 
 from harness.analysis.breakdown import Breakdown
+from harness.analysis.stats import RecordedWarning
+from harness.analysis.suite_report import Incomplete
 from harness.api import analyse
-from harness.report.wording import breakdown_summary, headline_sentence, reasons
+from harness.report.wording import (
+    breakdown_summary,
+    headline_sentence,
+    incomplete_line,
+    reasons,
+    warning_line,
+)
 
 SMALL_GAIN = [2.0, 1.0, 3.5, 0.4, 2.6]
 A, B = "att (gat, 8 heads)", "conv (gcn)"
@@ -135,3 +144,18 @@ def test_breakdown_summary_word_for_word(chosen, sentence):
         GROUPS, GROUPS.iloc[chosen].assign(attention="att", baseline="conv"), "att", "conv"
     )
     assert breakdown_summary(nodes) == LEAD + sentence
+
+
+def test_what_is_missing_and_recorded_warnings_word_for_word():
+    missing = Incomplete(3, 6, ("features_only",), (("convolution", (1, 4)),))
+    assert incomplete_line(missing) == (
+        "incomplete: 3 of 6 runs stored; no runs yet of features_only; convolution lacks seeds "
+        "1, 4; figures cover the stored runs only"
+    )
+    assert incomplete_line(Incomplete(5, 6, (), ())) == (
+        "incomplete: 5 of 6 runs stored; figures cover the stored runs only"
+    )
+    warning = RecordedWarning("plain", "the test split holds 2 of 3 classes", 1, 2)
+    assert warning_line(warning) == (
+        "warning: plain: the test split holds 2 of 3 classes (1 of 2 runs)"
+    )

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 import warnings
 from collections import Counter
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -266,18 +267,29 @@ def summarise(runs: pd.DataFrame, confidence: float = 0.95) -> pd.DataFrame:
                 "seconds_per_epoch": float(group["seconds_per_epoch"].mean()),
                 "params": int(group["params"].iloc[0]),
                 "peak_mb": float(group["peak_mb"].max()),
-                "warnings": run_warnings(group),
+                "warnings": run_warnings(group, contender),
             }
         )
     return pd.DataFrame(rows)
 
 
-def run_warnings(runs: pd.DataFrame) -> tuple[str, ...]:
-    """The warnings recorded in runs (extras["warnings"]), each with how many runs hold it."""
+@dataclass(frozen=True)
+class RecordedWarning:
+    """A warning recorded in runs of a contender (extras["warnings"]): in `count` of `runs`."""
+
+    contender: str
+    text: str
+    count: int
+    runs: int
+
+
+def run_warnings(runs: pd.DataFrame, contender: str) -> tuple[RecordedWarning, ...]:
+    """The warnings recorded in a contender's runs, each with how many runs hold it."""
     texts = [
         text
         for extras in runs["extras"]
         if isinstance(extras, dict)
         for text in extras.get("warnings", [])
     ]
-    return tuple(f"{text} ({count} of {len(runs)} runs)" for text, count in Counter(texts).items())
+    counted = Counter(texts).items()
+    return tuple(RecordedWarning(contender, text, count, len(runs)) for text, count in counted)

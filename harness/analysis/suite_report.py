@@ -14,7 +14,13 @@ from harness.analysis.ablation_effects import AblationEffects, ablation_effects
 from harness.analysis.arrival import arrival_summary
 from harness.analysis.breakdown import Breakdown, breakdown
 from harness.analysis.cost import cost_tradeoff
-from harness.analysis.stats import describe, paired_comparisons, run_warnings, with_variants
+from harness.analysis.stats import (
+    RecordedWarning,
+    describe,
+    paired_comparisons,
+    run_warnings,
+    with_variants,
+)
 from harness.analysis.verdict import Headline, best_pair, headline, judge_all
 from harness.data import load_graph
 from harness.errors import InputError
@@ -27,6 +33,17 @@ from harness.training.fit import NodePredictions
 
 if TYPE_CHECKING:
     from harness.analysis.homophily_map import HomophilyMapSummary
+
+
+@dataclass(frozen=True)
+class Incomplete:
+    """What of a suite is not stored yet: runs stored of those it expands to, contenders with
+    no run, and the seeds each other contender lacks."""
+
+    stored: int
+    expected: int
+    absent: tuple[str, ...]
+    lacking: tuple[tuple[str, tuple[int, ...]], ...]
 
 
 @dataclass(frozen=True)
@@ -48,7 +65,8 @@ class SuiteReport:
     homophily_map: HomophilyMapSummary | None = None  # stored homophily-map runs, if any
     breakdown: Breakdown | None = None  # per node group; needs stored predictions and the data
     # said before everything else: runs of the suite not stored yet, warnings recorded in runs
-    notices: tuple[str, ...] = ()
+    incomplete: Incomplete | None = None
+    warnings: tuple[RecordedWarning, ...] = ()
 
 
 def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFrame:
@@ -131,7 +149,7 @@ def analyse(
     homophily_map: HomophilyMapSummary | None = None,
     predictions: dict[str, NodePredictions] | None = None,
     data: Data | None = None,
-    missing: str | None = None,
+    missing: Incomplete | None = None,
 ) -> SuiteReport:
     """Every analysis of the runs of one suite; the graph's homophily measures and homophily
     map come from the store (graph_homophily, stored_homophily_map) when known, and the
@@ -165,21 +183,22 @@ def analyse(
         arrival=arrival_summary(runs, settings.confidence),
         homophily_map=homophily_map,
         breakdown=nodes,
-        notices=((missing,) if missing else ()) + warning_lines(runs),
+        incomplete=missing,
+        warnings=recorded_warnings(runs),
     )
 
 
-def warning_lines(runs: pd.DataFrame) -> tuple[str, ...]:
-    """`warning: contender: text (k of n runs)` for each warning recorded in the runs."""
+def recorded_warnings(runs: pd.DataFrame) -> tuple[RecordedWarning, ...]:
+    """Each warning recorded in the runs, per contender."""
     return tuple(
-        f"warning: {contender}: {text}"
+        warning
         for contender, group in runs.groupby("contender", sort=False)
-        for text in run_warnings(group)
+        for warning in run_warnings(group, str(contender))
     )
 
 
-def missing_runs(runs: pd.DataFrame, suite: Suite) -> str | None:
-    """What of a suite is not stored yet, in one line; None when every run is stored."""
+def missing_runs(runs: pd.DataFrame, suite: Suite) -> Incomplete | None:
+    """What of a suite is not stored yet; None when every run is stored."""
     from harness.planning import expand
 
     specs = expand(suite)
@@ -190,15 +209,12 @@ def missing_runs(runs: pd.DataFrame, suite: Suite) -> str | None:
     absent = [
         c for c in dict.fromkeys(s.contender for s in specs) if c not in set(runs["contender"])
     ]
-    parts = [f"{len(specs) - len(missing)} of {len(specs)} runs stored"]
-    if absent:
-        parts.append(f"no runs yet of {', '.join(absent)}")
     seeds: dict[str, set[int]] = {}
     for spec in missing:
         if spec.contender not in absent:
             seeds.setdefault(spec.contender, set()).add(spec.seed)
-    parts += [f"{c} lacks seeds {', '.join(map(str, sorted(s)))}" for c, s in seeds.items()]
-    return "incomplete: " + "; ".join(parts) + "; figures cover the stored runs only"
+    lacking = tuple((contender, tuple(sorted(s))) for contender, s in seeds.items())
+    return Incomplete(len(specs) - len(missing), len(specs), tuple(absent), lacking)
 
 
 def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:

@@ -10,7 +10,7 @@ from harness.report.breakdown import report_tables
 from harness.report.plots import PLOT_TITLES
 from harness.report.text_table import TextTable, facts
 from harness.report.trend import TREND_TITLE
-from harness.report.wording import headline_sentence, reasons
+from harness.report.wording import headline_sentence, notices, reasons
 
 STYLE = """
 body { font-family: system-ui, sans-serif; margin: 2rem auto; max-width: 1200px;
@@ -79,7 +79,7 @@ def render(report: SuiteReport, plots: dict[str, bytes], trend: bytes | None = N
 </head>
 <body>
 <h1>Heedful report: {escape(report.suite)}</h1>
-{"".join(f'<p class="notice">{escape(notice)}</p>' for notice in report.notices)}
+{"".join(f'<p class="notice">{escape(notice)}</p>' for notice in notices(report))}
 <blockquote>{escape(headline_sentence(report))}</blockquote>
 <p class="note">{escape(facts(report))}</p>
 <h2>Plots</h2>

@@ -5,7 +5,7 @@ from __future__ import annotations
 from harness.analysis.suite_report import SuiteReport
 from harness.report.breakdown import report_tables
 from harness.report.text_table import TextTable
-from harness.report.wording import headline_sentence
+from harness.report.wording import headline_sentence, notices
 
 _SPECIAL = {
     "\\": r"\textbackslash{}",
@@ -65,7 +65,7 @@ def render(report: SuiteReport) -> str:
             r"\usepackage[margin=2cm]{geometry}",
             r"\begin{document}",
             rf"\section*{{Heedful report: {escape(report.suite)}}}",
-            *[rf"\textbf{{{escape(notice)}}}\par" for notice in report.notices],
+            *[rf"\textbf{{{escape(notice)}}}\par" for notice in notices(report)],
             escape(headline_sentence(report)),
             "",
             body,

@@ -7,7 +7,7 @@ from harness.report.breakdown import report_tables
 from harness.report.markdown_text import escape
 from harness.report.plots import PLOT_TITLES
 from harness.report.text_table import TextTable, facts
-from harness.report.wording import headline_sentence, reasons
+from harness.report.wording import headline_sentence, notices, reasons
 
 
 def table(part: TextTable) -> str:
@@ -31,7 +31,7 @@ def render(report: SuiteReport, plots: list[str]) -> str:
         "",
         escape(facts(report)),
     ]
-    parts[1:1] = [line for notice in report.notices for line in ("", f"**{escape(notice)}**")]
+    parts[1:1] = [line for notice in notices(report) for line in ("", f"**{escape(notice)}**")]
     for part in report_tables(report):
         parts += ["", table(part)]
         if part.name == "comparisons":

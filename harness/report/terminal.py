@@ -17,7 +17,13 @@ from harness.report.breakdown import TERMINAL_ROWS, headline_table, report_table
 from harness.report.diagnostic_tables import arrival_table
 from harness.report.tables import comparison_table
 from harness.report.text_table import TextTable
-from harness.report.wording import breakdown_summary, headline_sentence, reasons
+from harness.report.wording import (
+    breakdown_summary,
+    headline_sentence,
+    notices,
+    reasons,
+    warning_line,
+)
 
 
 def summary_table(summary: pd.DataFrame, title: str) -> Table:
@@ -59,8 +65,8 @@ def print_summary(summary: pd.DataFrame, console: Console | None = None) -> None
     for suite, group in summary.groupby("suite", sort=False):
         console.print(summary_table(group.reset_index(drop=True), f"Suite: {escape(str(suite))}"))
         for row in group.itertuples():
-            for text in getattr(row, "warnings", ()):
-                console.print(f"warning: {row.contender}: {text}", markup=False, highlight=False)
+            for warning in getattr(row, "warnings", ()):
+                console.print(warning_line(warning), markup=False, highlight=False)
 
 
 def _share(value: float, chance: float) -> str:
@@ -226,7 +232,7 @@ def print_arrival(report: SuiteReport, console: Console | None = None) -> None:
 def print_report(report: SuiteReport, console: Console | None = None) -> None:
     """Every table of the report, then the verdicts."""
     console = console or Console()
-    for line in report.notices:
+    for line in notices(report):
         console.print(line, markup=False, highlight=False, soft_wrap=True)
     for part in report_tables(report):
         if part.name not in ("comparisons", "breakdown_headline"):

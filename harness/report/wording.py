@@ -1,6 +1,7 @@
-"""The sentences of a report, written from the analysis's figures: why each comparison got its
-verdict, the headline comparison, the notes on clipped t-intervals and where the per-node gain
-concentrates. Wording only: every figure comes from harness.analysis."""
+"""The sentences of a report, written from the analysis's figures: what of a suite is missing,
+warnings recorded in runs, why each comparison got its verdict, the headline comparison, the
+notes on clipped t-intervals and where the per-node gain concentrates. Wording only: every
+figure comes from harness.analysis."""
 
 from __future__ import annotations
 
@@ -8,7 +9,8 @@ import pandas as pd
 
 from harness.analysis.bounds import SEED_CAP
 from harness.analysis.breakdown import Breakdown
-from harness.analysis.suite_report import SuiteReport
+from harness.analysis.stats import RecordedWarning
+from harness.analysis.suite_report import Incomplete, SuiteReport
 from harness.analysis.verdict import (
     BETTER,
     EXCLUDES_ZERO,
@@ -23,6 +25,26 @@ from harness.analysis.verdict import (
 )
 from harness.formatting import metric_label, p_phrase, percent, signed
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
+
+
+def notices(report: SuiteReport) -> list[str]:
+    """Said before everything else: what of the suite is not stored yet, then each warning
+    recorded in its runs."""
+    lines = [] if report.incomplete is None else [incomplete_line(report.incomplete)]
+    return lines + [warning_line(warning) for warning in report.warnings]
+
+
+def incomplete_line(missing: Incomplete) -> str:
+    parts = [f"{missing.stored} of {missing.expected} runs stored"]
+    if missing.absent:
+        parts.append(f"no runs yet of {', '.join(missing.absent)}")
+    parts += [f"{c} lacks seeds {', '.join(map(str, seeds))}" for c, seeds in missing.lacking]
+    return "incomplete: " + "; ".join(parts) + "; figures cover the stored runs only"
+
+
+def warning_line(warning: RecordedWarning) -> str:
+    """`warning: contender: text (k of n runs)`."""
+    return f"warning: {warning.contender}: {warning.text} ({warning.count} of {warning.runs} runs)"
 
 
 def reason(
