@@ -27,10 +27,11 @@ sys.path.insert(0, str(ROOT))
 import optuna  # noqa: E402
 import torch  # noqa: E402
 
-from harness.planning import parse_suite  # noqa: E402
+from harness.execution.executors import LocalExecutor  # noqa: E402
+from harness.planning import load_suite, parse_suite  # noqa: E402
 from harness.tuning.results import epochs_trained  # noqa: E402
 from harness.tuning.storage import open_storage  # noqa: E402
-from harness.tuning.workers import tuning_studies, usage, work, work_in_processes  # noqa: E402
+from harness.tuning.workers import tune, tuning_studies, usage, work  # noqa: E402
 
 
 def toml_text(raw: dict) -> str:
@@ -99,7 +100,7 @@ def wall_time(raw: dict, folder: Path, jobs: int) -> float:
     path.write_text(toml_text(raw))
     url = f"sqlite:///{folder / (raw['name'] + '-tuning.db')}"
     started = time.perf_counter()
-    work_in_processes(str(path), folder / f"{raw['name']}.db", url, jobs)
+    tune(load_suite(str(path)), folder / f"{raw['name']}.db", url, LocalExecutor(jobs, 1))
     return time.perf_counter() - started
 
 

@@ -16,6 +16,7 @@ from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, T
 from harness.commands.feedback import Advance, Feedback
 
 if TYPE_CHECKING:
+    from harness.commands.executing import Executed
     from harness.commands.gates import BaselineOutcome, GateRun
     from harness.commands.inspect import (
         CheckOutcome,
@@ -24,7 +25,8 @@ if TYPE_CHECKING:
         ReportOutcome,
         ShowOutcome,
     )
-    from harness.commands.run import Executed, MapOutcome, RunOutcome, TunedOutcome, TuningFrames
+    from harness.commands.run import MapOutcome, RunOutcome
+    from harness.commands.tuned import TunedOutcome, TuningFrames
 
 # piped output (logs, CI) is not cut to 80 columns: long contender names would be cut short
 console = Console(width=None if sys.stdout.isatty() else 200)

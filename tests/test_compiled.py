@@ -10,7 +10,7 @@ import torch
 
 from harness.data import load_graph
 from harness.data.splits import make_split
-from harness.execution.local import pending, record_of
+from harness.execution.runs import pending, record_of
 from harness.models import build_model
 from harness.planning import expand, load_suite
 from harness.planning.run_choices import resolve_compile

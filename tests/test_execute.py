@@ -17,10 +17,12 @@ import torch
 
 import harness.execution.local
 import harness.execution.pool
+import harness.execution.runs
 from harness.cli import main
 from harness.errors import InputError
-from harness.execution.local import execute, pending
+from harness.execution.local import execute
 from harness.execution.pool import check_threads
+from harness.execution.runs import pending
 from harness.planning import expand, load_suite
 from harness.storage import store
 from harness.training.fit import perform
@@ -83,10 +85,10 @@ def test_too_many_threads_is_a_one_line_error_before_anything_runs(
 
 def test_each_process_trains_with_the_threads_asked_for(tiny_suite, store_path, monkeypatch):
     seen = []
-    real_perform = harness.execution.local.perform
+    real_perform = harness.execution.runs.perform
     monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 2)
     monkeypatch.setattr(
-        harness.execution.local,
+        harness.execution.runs,
         "perform",
         lambda spec: seen.append(torch.get_num_threads()) or real_perform(spec),
     )
@@ -293,9 +295,9 @@ def test_a_run_that_kills_its_worker_twice_is_reported_and_the_rest_stored(
 ):
     specs = expand(load_suite(tiny_suite))
     doomed = specs[0]  # the first run goes to the worker
-    real = harness.execution.local.perform
+    real = harness.execution.runs.perform
     monkeypatch.setattr(
-        harness.execution.local, "perform", killing_perform(doomed.key, real, os.getpid())
+        harness.execution.runs, "perform", killing_perform(doomed.key, real, os.getpid())
     )
     outcome = execute(specs, store_path, jobs=2)
     assert (outcome.finished, outcome.interrupted) == (len(specs) - 1, False)
@@ -308,9 +310,9 @@ def test_the_run_command_names_the_lost_run_and_exits_3(
     tiny_suite, store_path, monkeypatch, capsys
 ):
     specs = expand(load_suite(tiny_suite))
-    real = harness.execution.local.perform
+    real = harness.execution.runs.perform
     monkeypatch.setattr(
-        harness.execution.local, "perform", killing_perform(specs[0].key, real, os.getpid())
+        harness.execution.runs, "perform", killing_perform(specs[0].key, real, os.getpid())
     )
     status = main(["run", str(tiny_suite), "--jobs", "2", "--quiet", "--store", str(store_path)])
     assert status == 3

@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from harness.cli import main
-from harness.execution.local import record_of
+from harness.execution.runs import record_of
 from harness.planning import expand, load_suite
 from harness.storage import store
 from harness.training.fit import RunResult

@@ -13,7 +13,7 @@ import pytest
 
 from harness.api import analyse, analyse_store
 from harness.cli import main
-from harness.execution.local import record_of
+from harness.execution.runs import record_of
 from harness.planning import expand, load_suite
 from harness.report import html, latex, markdown
 from harness.report.files import WRITERS

@@ -3,15 +3,16 @@
 from __future__ import annotations
 
 import time
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+from harness.commands.executing import Executed, ExecutedStatus, execute_specs
 from harness.commands.feedback import SILENT, Feedback
-from harness.commands.run import Executed, execute_specs
-from harness.execution.local import pending
-from harness.execution.pool import check_threads
+from harness.execution.executors import Resources, executor_for
 from harness.execution.preflight import preflight
+from harness.execution.runs import pending
 from harness.gate.baseline import (
     build_baseline,
     check_gateable,
@@ -37,32 +38,33 @@ if TYPE_CHECKING:
 
 
 def _run_for_gate(
-    suite: Suite,
-    specs: list[RunSpec],
+    suite_path: str,
     store_path: Location,
-    jobs: int,
-    threads: int,
+    given: Resources,
     feedback: Feedback,
-    cluster=None,
-) -> Executed:
-    check_threads(jobs, threads)
+    check: Callable[[Suite, list[RunSpec]], None] = lambda suite, specs: None,
+) -> tuple[Suite, list[RunSpec], Executed]:
+    """A suite that can be gated, checked by `check` before its data loads; its runs trained,
+    or reused from the store."""
+    executor = executor_for(given)  # processes x threads checked first
+    suite = load_suite(suite_path)
+    check_gateable(suite, suite_path)
+    specs = expand(suite)
+    check(suite, specs)
+    preflight(suite, suite_path)
     todo = len(pending(specs, store_path))
     if todo:
         feedback.note(f"{suite.name}: training {todo} runs, reusing {len(specs) - todo}")
-    return execute_specs(specs, store_path, jobs, threads, SILENT, cluster=cluster)
+    return suite, specs, execute_specs(specs, store_path, executor, SILENT)
 
 
 @dataclass(frozen=True)
-class BaselineOutcome:
+class BaselineOutcome(ExecutedStatus):
     suite: Suite
     store: Location
     executed: Executed
     runs: int
     saved: Path | None = None
-
-    @property
-    def status(self) -> int:
-        return self.executed.status
 
 
 def baseline(
@@ -74,11 +76,8 @@ def baseline(
     feedback: Feedback = SILENT,
     cluster=None,
 ) -> BaselineOutcome:
-    suite = load_suite(suite_path)
-    check_gateable(suite, suite_path)
-    specs = expand(suite)
-    preflight(suite, suite_path)
-    executed = _run_for_gate(suite, specs, store_path, jobs, threads, feedback, cluster)
+    given = Resources(jobs, threads, cluster=cluster)
+    suite, specs, executed = _run_for_gate(suite_path, store_path, given, feedback)
     if executed.stopped:
         return BaselineOutcome(suite, store_path, executed, len(specs))
     document = build_baseline(
@@ -112,14 +111,15 @@ def gate(
     feedback: Feedback = SILENT,
     cluster=None,
 ) -> GateRun:
-
-    suite = load_suite(suite_path)
-    check_gateable(suite, suite_path)
     stored = read_baseline(baseline_path)
-    specs = expand(suite)
-    check_matches(stored, suite, specs, baseline_path)
-    preflight(suite, suite_path)
-    executed = _run_for_gate(suite, specs, store_path, jobs, threads, feedback, cluster)
+    given = Resources(jobs, threads, cluster=cluster)
+    suite, specs, executed = _run_for_gate(
+        suite_path,
+        store_path,
+        given,
+        feedback,
+        lambda suite, specs: check_matches(stored, suite, specs, baseline_path),
+    )
     if executed.stopped:
         return GateRun(store_path, executed)
     environment = environment_fingerprint(threads)

@@ -75,8 +75,8 @@ def describe(suite_path: str) -> DescribeOutcome:
 
 
 def tuning(suite_path: str, store_path: Location, storage: str | None) -> Any:
-    """What tuning did for a tuned suite (a harness.commands.run.TuningFrames)."""
-    from harness.commands.run import tuning_frames
+    """What tuning did for a tuned suite (a harness.commands.tuned.TuningFrames)."""
+    from harness.commands.tuned import tuning_frames
     from harness.tuning.storage import default_storage_url
 
     suite = load_suite(suite_path)

@@ -6,80 +6,33 @@ start before them, so that their imports overlap this process's.
 
 from __future__ import annotations
 
-from collections.abc import Iterator
-from contextlib import contextmanager
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 
+from harness.commands.executing import (
+    Executed,
+    ExecutedStatus,
+    check_cluster_use,
+    connected_cluster,
+    execute_specs,
+)
 from harness.commands.feedback import SILENT, Feedback
+from harness.commands.tuned import TunedOutcome, run_tuned
 from harness.errors import InputError
+from harness.execution.executors import Executor, Resources, executor_for
 from harness.planning import load_suite
 from harness.schema.suite import Suite
 
 if TYPE_CHECKING:
     from harness.storage.database import Location
 
-INTERRUPTED = 130
-RUNS_FAILED = 3
+__all__ = ["check_cluster_use", "connected_cluster"]  # the command line imports them from here
 
 
 @dataclass(frozen=True)
-class Executed:
-    """What an execution did: runs trained, reused from the store, whether it was cut off, and
-    one line per run that could not finish (naming its spec)."""
-
-    trained: int
-    reused: int
-    interrupted: bool
-    failures: tuple[str, ...] = ()
-
-    @property
-    def stopped(self) -> bool:
-        return self.interrupted or bool(self.failures)
-
-    @property
-    def status(self) -> int:
-        if self.interrupted:
-            return INTERRUPTED
-        return RUNS_FAILED if self.failures else 0
-
-
-def check_cluster_use(
-    suite_path: str, store_path: Location, storage: str | None, address: str | None
-) -> None:
-    """Before connecting: a tuned suite on a cluster needs a storage its workers reach."""
-    if address is None:
-        return
-    suite = load_suite(suite_path)
-    if suite.tuning is not None:
-        from harness.tuning.on_cluster import check_shared
-        from harness.tuning.storage import default_storage_url
-
-        check_shared(address, storage or default_storage_url(store_path))
-
-
-@contextmanager
-def connected_cluster(address: str | None) -> Iterator[Any]:
-    """The Dask cluster of `--cluster` (its workers checked before anything is stored), or
-    None without one; the cluster is handed to the command functions below."""
-    if address is None:
-        yield None
-        return
-    try:
-        from harness.execution.cluster import connected
-    except ImportError:
-        raise InputError(
-            "--cluster: Dask's distributed is not installed; allowed: install Heedful's "
-            "`cluster` extra (pip install 'heedful[cluster]')"
-        ) from None
-    with connected(address) as cluster:
-        yield cluster
-
-
-@dataclass(frozen=True)
-class RunOutcome:
+class RunOutcome(ExecutedStatus):
     """A fixed-settings suite run: what ran, and the analysis of its stored runs."""
 
     suite: Suite
@@ -90,69 +43,15 @@ class RunOutcome:
     report: Any = None  # harness.analysis.suite_report.SuiteReport
     profile: Any = None  # the data's stored profile, which the homophily map matches
 
-    @property
-    def status(self) -> int:
-        return self.executed.status
-
 
 @dataclass(frozen=True)
-class TuningFrames:
-    """What tuning did, per contender: budget used, chosen settings, curves, parameters."""
-
-    summary: pd.DataFrame
-    settings: pd.DataFrame
-    curves: pd.DataFrame
-    parameters: pd.DataFrame
-
-
-@dataclass(frozen=True)
-class TunedOutcome:
-    """A tuned suite run: the tuning, and the analysis of the seeded repeats."""
-
-    suite: Suite
-    storage_url: str
-    tuning: TuningFrames
-    summary: pd.DataFrame
-    report: Any = None  # SuiteReport; None when no repeat is stored
-    status: int = 0
-
-
-@dataclass(frozen=True)
-class MapOutcome:
+class MapOutcome(ExecutedStatus):
     """The homophily map: its runs on matched synthetic graphs and their summary."""
 
     planned: int
     store: Location
     executed: Executed
     summary: Any = None  # harness.analysis.homophily_map.HomophilyMapSummary
-
-    @property
-    def status(self) -> int:
-        return self.executed.status
-
-
-def execute_specs(
-    specs: list,
-    store_path: Location,
-    jobs: int,
-    threads: int,
-    feedback: Feedback,
-    workers=None,
-    cluster=None,
-) -> Executed:
-    """Run the specs not stored yet on local processes (or on the cluster of `cluster`),
-    counting each finished run in the feedback's progress."""
-    from harness.execution.local import execute, pending
-
-    todo = len(pending(specs, store_path))
-    with feedback.progress(specs[0].suite if specs else "", todo) as advance:
-        if cluster is None:
-            done = execute(specs, store_path, jobs, lambda _: advance(), workers, threads)
-        else:
-            from harness.execution.cluster import execute_on_cluster
-
-            done = execute_on_cluster(specs, store_path, cluster, threads, lambda _: advance())
-    return Executed(done.finished, done.skipped, done.interrupted, done.failures)
 
 
 def run_suite(
@@ -168,13 +67,14 @@ def run_suite(
     """Run or tune a suite file, reusing stored runs; stops before training when a run's
     estimated peak memory (times `jobs`) exceeds `memory_limit` GiB (default: the machine's)."""
     from harness.execution.memory import check_suite_memory
-    from harness.execution.pool import check_threads, start_method, start_workers
+    from harness.execution.pool import start_method, start_workers
 
     suite = load_suite(suite_path)
-    check_threads(jobs, threads)
+    # processes x threads checked against the cores (a cluster connects once they fit)
+    executor = executor_for(Resources(jobs, threads, cluster=cluster))
     if suite.tuning is not None:
         return run_tuned(
-            suite, suite_path, store_path, jobs, threads, storage, memory_limit, feedback, cluster
+            suite, suite_path, store_path, executor, jobs, storage, memory_limit, feedback
         )
     if storage is not None:
         raise InputError(
@@ -187,10 +87,10 @@ def run_suite(
     early = jobs > 1 and start_method(threads) == "spawn"
     preload = ("harness.execution.local",)  # the run code, loaded while this process imports
     workers = start_workers(jobs - 1, threads, preload) if early else None
+    if workers is not None:
+        executor = executor_for(Resources(jobs, threads, workers, cluster))
     try:
-        return run_fixed(
-            suite, suite_path, store_path, jobs, threads, memory_limit, feedback, workers, cluster
-        )
+        return run_fixed(suite, suite_path, store_path, executor, jobs, memory_limit, feedback)
     except BaseException:
         if workers is not None:
             workers.terminate()
@@ -201,13 +101,12 @@ def run_fixed(
     suite: Suite,
     suite_path: str,
     store_path: Location,
+    executor: Executor,
     jobs: int,
-    threads: int,
     memory_limit: float | None,
     feedback: Feedback,
-    workers=None,
-    cluster=None,
 ) -> RunOutcome:
+    """A fixed-settings suite on the executor (`jobs` for the memory check), then its analysis."""
     from harness.analysis.axes import ablation_view, label_points
     from harness.analysis.stats import summarise
     from harness.analysis.suite_report import analyse_suite_runs
@@ -221,7 +120,7 @@ def run_fixed(
     facts = preflight(suite, suite_path)
     check_suite_memory(suite, suite_path, jobs, memory_limit, facts.size)
     profile = record_profile(suite, store_path)
-    executed = execute_specs(specs, store_path, jobs, threads, feedback, workers, cluster)
+    executed = execute_specs(specs, store_path, executor, feedback)
     if executed.stopped:
         return RunOutcome(suite, store_path, executed)
     runs = spec_runs(store_path, specs)
@@ -247,75 +146,9 @@ def run_homophily_map(
     suite, store_path = outcome.suite, outcome.store
     specs = map_specs(suite, outcome.profile)
     feedback.note(f"homophily map: {len(specs)} runs on matched synthetic graphs")
-    executed = execute_specs(specs, store_path, jobs, threads, SILENT, cluster=cluster)
+    executor = executor_for(Resources(jobs, threads, cluster=cluster))
+    executed = execute_specs(specs, store_path, executor, SILENT)
     if executed.stopped:
         return MapOutcome(len(specs), store_path, executed)
     summary = summarise_map(spec_runs(store_path, specs), outcome.profile, suite.metric)
     return MapOutcome(len(specs), store_path, executed, summary)
-
-
-def checked_storage(suite: Suite, store_path: Location, storage: str | None) -> str:
-    """The tuning storage URL (default: beside the result store), opened once to check it."""
-    from harness.tuning.storage import default_storage_url, open_storage
-
-    url = storage or default_storage_url(store_path)
-    open_storage(url, suite.tuning.heartbeat_seconds, suite.tuning.grace_seconds)
-    return url
-
-
-def tuning_frames(suite: Suite, storage_url: str) -> TuningFrames:
-    """What tuning did so far, read from the tuning storage."""
-    from harness.tuning import results
-    from harness.tuning.storage import open_storage
-
-    tuning = suite.tuning
-    storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds, False)
-    summaries = results.tuning_summary(suite, storage)
-    return TuningFrames(
-        results.summary_frame(summaries),
-        results.settings_frame(summaries),
-        results.curve_frame(summaries),
-        results.parameter_frame(suite, summaries),
-    )
-
-
-def run_tuned(
-    suite: Suite,
-    suite_path: str,
-    store_path: Location,
-    jobs: int,
-    threads: int,
-    storage: str | None,
-    memory_limit: float | None,
-    feedback: Feedback,
-    cluster=None,
-) -> TunedOutcome:
-    """Tune every contender with one budget, then run the seeded repeats (shared storage)."""
-    from harness.analysis.stats import summarise
-    from harness.analysis.suite_report import analyse_suite_runs
-    from harness.execution.memory import check_suite_memory
-    from harness.execution.preflight import preflight
-    from harness.storage import store
-    from harness.storage.profiles import record_profile
-    from harness.tuning.storage import parse_url, shown
-    from harness.tuning.workers import work_in_processes
-
-    url = checked_storage(suite, store_path, storage)  # a bad storage fails before any write
-    check_suite_memory(suite, suite_path, jobs, memory_limit)
-    facts = preflight(suite, suite_path)
-    check_suite_memory(suite, suite_path, jobs, memory_limit, facts.size)
-    record_profile(suite, store_path)
-    shown_url = shown(parse_url(url))  # never the password
-    where = f"{jobs} worker(s)" if cluster is None else f"the cluster {cluster.address}"
-    feedback.note(f"{suite.name}: tuning with {where} on storage {shown_url}")
-    if cluster is None:
-        work = work_in_processes(suite_path, store_path, url, jobs, threads)
-    else:
-        from harness.tuning.on_cluster import work_on_cluster
-
-        work = work_on_cluster(suite, store_path, url, cluster, threads)
-    frames = tuning_frames(suite, url)
-    runs = store.load_runs(store_path, [suite.name])
-    runs = runs[runs["key"].isin(work.keys)]
-    report = analyse_suite_runs(store_path, runs, suite) if not runs.empty else None
-    return TunedOutcome(suite, url, frames, summarise(runs, suite.analysis.confidence), report)

@@ -1,1 +1,2 @@
-"""Takes run specs; gives finished runs, trained on local processes and stored as each ends."""
+"""Takes run specs; gives finished runs, trained by an executor (local processes or a Dask
+cluster, harness/execution/executors.py) and stored as each ends."""

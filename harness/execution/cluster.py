@@ -3,7 +3,8 @@
 Workers only train: each finished run comes back to this process, which stores it the moment
 it arrives, so the store has one writer and workers need no access to it. A worker that dies
 mid-run has its run given to another worker by the scheduler, at most `allowed-failures` times
-(Dask's setting; RESUBMISSIONS for `local:N` clusters); a run that raises is reported once.
+(Dask's setting; RESUBMISSIONS for `local:N` clusters); a run that raises is reported once,
+and one that raises InputError stops them all, as on local processes.
 """
 
 from __future__ import annotations
@@ -25,10 +26,10 @@ from distributed.scheduler import KilledWorker
 
 import harness
 from harness.errors import InputError
-from harness.execution.local import Outcome, pending, record_of
+from harness.execution.runs import Outcome, describe, failure_line, pending, record_of
 from harness.planning import RunSpec
 from harness.storage import store
-from harness.training.fit import perform
+from harness.training.tasks import perform
 
 RESUBMISSIONS = 3  # Dask's own default for allowed-failures, stated for local clusters too
 CONNECT_SECONDS = 5
@@ -132,18 +133,14 @@ def train_on_worker(spec: RunSpec, threads: int) -> tuple[dict[str, Any], str, d
     return record_of(spec, perform(spec)), get_worker().address, fingerprint()
 
 
-def describe(spec: RunSpec) -> str:
-    return f"run {spec.suite}/{spec.label} seed {spec.seed} (key {spec.key})"
-
-
-def failure_line(spec: RunSpec, error: BaseException) -> str:
+def cluster_failure_line(spec: RunSpec, error: BaseException) -> str:
+    """The line of a run that did not come back; InputError raises again (see failure_line)."""
     if isinstance(error, KilledWorker):
         return (
             f"{describe(spec)}: its worker died {RESUBMISSIONS + 1} times (out of memory, or "
             "killed); everything else is stored"
         )
-    message = " ".join(str(error).split()) or "no message"
-    return f"{describe(spec)} failed: {type(error).__name__}: {message}"
+    return failure_line(spec, error)
 
 
 def execute_on_cluster(
@@ -169,7 +166,7 @@ def execute_on_cluster(
         for future in as_completed(futures):
             spec = futures.pop(future)
             if future.status == "error":
-                failures.append(failure_line(spec, future.exception()))
+                failures.append(cluster_failure_line(spec, future.exception()))
                 continue
             record, worker, theirs = future.result()
             if (line := difference(worker, theirs)) is not None:
@@ -185,3 +182,27 @@ def execute_on_cluster(
             with suppress(Exception):
                 client.cancel(list(futures))
     return Outcome(len(specs), len(specs) - len(todo), finished, interrupted, tuple(failures))
+
+
+def _with_threads(task: Callable[..., Any], arguments: tuple, threads: int) -> Any:
+    torch.set_num_threads(threads)
+    return task(*arguments)
+
+
+def run_copies_on_cluster(
+    task: Callable[..., Any], arguments: tuple, cluster: Cluster, threads: int = 1
+) -> list[Any]:
+    """`task(*arguments)` once per worker of the cluster, on `threads` torch threads; their
+    results. Ctrl-C or an error cancels the copies still running."""
+    client = cluster.client
+    count = max(1, len(client.scheduler_info()["workers"]))
+    batch = uuid.uuid4().hex[:8]
+    futures = [
+        client.submit(_with_threads, task, arguments, threads, key=f"heedful-copy-{batch}-{n}")
+        for n in range(count)
+    ]
+    try:
+        return client.gather(futures)
+    except BaseException:
+        client.cancel(futures)
+        raise

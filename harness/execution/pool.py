@@ -23,18 +23,20 @@ def available_cores() -> int:
     return len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
 
 
-def check_threads(jobs: int, threads: int) -> None:
-    """Jobs and torch threads per job are allowed only while jobs x threads <= cores: more
+def check_threads(jobs: int, threads: int, option: str = "--jobs", noun: str = "jobs") -> None:
+    """Processes (jobs, or the workers of a local cluster: `option` and `noun` name them) and
+    torch threads per process are allowed only while processes x threads <= cores: more
     processes than cores only compete for them (and each holds its own copy of torch)."""
     cores = available_cores()
     if jobs > cores:
         raise InputError(
-            f"--jobs: {jobs} jobs need {jobs} cores, {cores} are usable; allowed: jobs <= {cores}"
+            f"{option}: {jobs} {noun} need {jobs} cores, {cores} are usable; "
+            f"allowed: {noun} <= {cores}"
         )
     if threads > 1 and jobs * threads > cores:
         raise InputError(
-            f"--threads: {jobs} jobs x {threads} threads need {jobs * threads} cores, "
-            f"{cores} are usable; allowed: jobs x threads <= {cores}"
+            f"--threads: {jobs} {noun} x {threads} threads need {jobs * threads} cores, "
+            f"{cores} are usable; allowed: {noun} x threads <= {cores}"
         )
 
 

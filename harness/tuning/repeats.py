@@ -15,7 +15,7 @@ from dataclasses import replace
 import optuna
 from optuna.trial import FrozenTrial, Trial, TrialState
 
-from harness.execution.local import record_of
+from harness.execution.runs import record_of
 from harness.planning import expand, with_settings
 from harness.schema.suite import Suite
 from harness.storage import store

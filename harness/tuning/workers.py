@@ -14,18 +14,14 @@ next worker that looks and is queued again with the same settings (Optuna retry 
 from __future__ import annotations
 
 import logging
-import multiprocessing
 import time
 from collections.abc import Callable
 from dataclasses import dataclass
-from pathlib import Path
 
 import optuna
-import torch
 from optuna.trial import FrozenTrial, Trial
 
-from harness.execution.pool import worker_setup
-from harness.planning import load_suite
+from harness.execution.executors import Executor
 from harness.schema.suite import Suite
 from harness.schema.tuning import Tuning
 from harness.storage import store
@@ -167,33 +163,17 @@ def work(suite: Suite, store_path: store.Store | None, storage_url: str) -> Work
     return WorkOutcome(keys)
 
 
-def _worker_task(suite_path: str, store_path: str, storage_url: str) -> WorkOutcome:
-    return work(load_suite(suite_path), store_path, storage_url)
-
-
-def work_in_processes(
-    suite_path: str, store_path: str | Path, storage_url: str, jobs: int, threads: int = 1
+def tune(
+    suite: Suite, store_path: store.Store, storage_url: str, executor: Executor
 ) -> WorkOutcome:
-    """`jobs` local worker processes of `threads` torch threads each, on one storage; the
-    outcome all of them agree on."""
-    suite = load_suite(suite_path)
+    """One tuning worker per worker of the executor, all on one storage. Every repeat ends in
+    the store: written by the workers, or by this process when they cannot reach the store."""
     tuning = suite.tuning
-    open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)  # fail early
-    if jobs == 1:
-        torch.set_num_threads(threads)
-        return work(suite, store_path, storage_url)
-    context = multiprocessing.get_context("spawn")
-    pool = context.Pool(jobs, initializer=worker_setup, initargs=(threads, (__name__,)))
-    try:
-        pending = [
-            pool.apply_async(_worker_task, (suite_path, store_path, storage_url))
-            for _ in range(jobs)
-        ]
-        outcomes = [result.get() for result in pending]
-        pool.close()
-    except BaseException:
-        pool.terminate()
-        raise
-    finally:
-        pool.join()
-    return outcomes[0]
+    storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)  # early
+    on_workers = store_path if executor.workers_store else None
+    outcomes = executor.run_copies(work, (suite, on_workers, storage_url))
+    if on_workers is not None:
+        return outcomes[0]  # the outcome all of them agree on
+    name = repeats_study_name(suite, tuning_plan(suite))
+    repeats = optuna.load_study(study_name=name, storage=storage)
+    return WorkOutcome(sync_repeats(repeats, store_path))

@@ -1,0 +1,89 @@
+"""How the commands execute run specs: the executor chosen from what the command was given
+(harness.execution.executors), and what it did. Kept free of heavy imports (see run.py)."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from contextlib import ExitStack, contextmanager
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+from harness.commands.feedback import Feedback
+from harness.execution.executors import ClusterLink, Executor
+from harness.planning import RunSpec, load_suite
+
+if TYPE_CHECKING:
+    from harness.storage.database import Location
+
+INTERRUPTED = 130
+RUNS_FAILED = 3
+
+
+@dataclass(frozen=True)
+class Executed:
+    """What an execution did: runs trained, reused from the store, whether it was cut off, and
+    one line per run that could not finish (naming its spec)."""
+
+    trained: int
+    reused: int
+    interrupted: bool
+    failures: tuple[str, ...] = ()
+
+    @property
+    def stopped(self) -> bool:
+        return self.interrupted or bool(self.failures)
+
+    @property
+    def status(self) -> int:
+        if self.interrupted:
+            return INTERRUPTED
+        return RUNS_FAILED if self.failures else 0
+
+
+class ExecutedStatus:
+    """An outcome whose exit status is its execution's."""
+
+    executed: Executed
+
+    @property
+    def status(self) -> int:
+        return self.executed.status
+
+
+def check_cluster_use(
+    suite_path: str, store_path: Location, storage: str | None, address: str | None
+) -> None:
+    """Before connecting: a tuned suite on a cluster needs a storage its workers reach."""
+    if address is None:
+        return
+    suite = load_suite(suite_path)
+    if suite.tuning is not None:
+        from harness.tuning.on_cluster import check_shared
+        from harness.tuning.storage import default_storage_url
+
+        check_shared(address, storage or default_storage_url(store_path))
+
+
+@contextmanager
+def connected_cluster(address: str | None) -> Iterator[ClusterLink | None]:
+    """The cluster of `--cluster` (or None without one), handed to the command functions: it
+    connects when the first executor is chosen, its workers checked before anything is
+    stored, and closes when the block ends."""
+    if address is None:
+        yield None
+        return
+    with ExitStack() as stack:
+        yield ClusterLink(address, stack)
+
+
+def execute_specs(
+    specs: list[RunSpec], store_path: Location, executor: Executor, feedback: Feedback
+) -> Executed:
+    """Run the specs not stored yet on the executor, counting each finished run in the
+    feedback's progress."""
+    from harness.execution.runs import pending
+
+    todo = len(pending(specs, store_path))
+    with feedback.progress(specs[0].suite if specs else "", todo) as advance:
+        done = executor.execute(specs, store_path, lambda _: advance())
+    return Executed(done.finished, done.skipped, done.interrupted, done.failures)

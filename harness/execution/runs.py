@@ -1,0 +1,109 @@
+"""What every executor shares: one run's store row, the specs still to run, the line that
+names a run that could not finish, and what an execution reports."""
+
+from __future__ import annotations
+
+import signal
+from dataclasses import dataclass
+from typing import Any
+
+from harness.errors import InputError
+from harness.planning import RunSpec
+from harness.storage import store
+from harness.storage.predictions import encode, to_text
+from harness.training.fit import RunResult, as_trained
+from harness.training.tasks import perform
+
+
+@dataclass(frozen=True)
+class LostRun:
+    """A run whose worker process died under it twice: not stored, reported instead."""
+
+    suite: str
+    label: str
+    seed: int
+    key: str
+    exit_code: int | None
+
+    def message(self) -> str:
+        how = "SIGKILL" if self.exit_code == -signal.SIGKILL else f"exit code {self.exit_code}"
+        return (
+            f"{self.suite}: run {self.label} seed {self.seed} (key {self.key}) ended its worker "
+            f"process twice ({how}); likely cause: memory (the kernel's out-of-memory killer "
+            "sends SIGKILL); lower the suite's sizes or run fewer jobs"
+        )
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """What an execution did."""
+
+    planned: int
+    skipped: int
+    finished: int
+    interrupted: bool
+    failures: tuple[str, ...] = ()  # one line per run that could not finish, naming its spec
+    lost: tuple[LostRun, ...] = ()  # of those, the runs that ended their worker twice
+
+
+def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
+    """The store row of a finished run, keyed by the compile mode it actually used; its test
+    predictions travel as text, when made."""
+    spec = as_trained(spec, result)
+    record = {
+        "suite": spec.suite,
+        "contender": spec.contender,
+        "key": spec.key,
+        "model": spec.model,
+        "options": spec.options.model_dump(mode="json"),
+        "point": spec.point,
+        "seed": spec.seed,
+        "metric": spec.metric,
+        "val_metric": result.val_metric,
+        "test_metric": result.test_metric,
+        **{f"test_{name}": result.test_scores.get(name) for name in store.TEST_METRICS},
+        "epochs": result.epochs,
+        "best_epoch": result.best_epoch,
+        "seconds": result.seconds,
+        "seconds_per_epoch": result.seconds_per_epoch,
+        "params": result.params,
+        "peak_mb": result.peak_mb,
+        "curve": result.curve,
+        "extras": result.extras,
+    }
+    if result.predictions is not None and spec.keep_predictions:
+        record["predictions"] = to_text(encode(result.predictions))
+    return record
+
+
+def run_and_store(spec: RunSpec, store_path: store.Store) -> str:
+    """One run, committed to the store as soon as it ends."""
+    store.save_run(store_path, record_of(spec, perform(spec)))
+    return spec.contender
+
+
+def pending(specs: list[RunSpec], store_path: store.Store) -> list[RunSpec]:
+    """Specs whose result is not stored yet (for their suite and contender).
+
+    A compiled spec counts as stored when its eager twin is: a compile that failed once on this
+    machine is not retried on every invocation, and eager and compiled runs compute the same
+    thing (they differ in speed and in the last float bits).
+    """
+    suites = {spec.suite for spec in specs}
+    done = set()
+    for suite in suites:
+        done |= {(suite, c, k) for c, k in store.finished_keys(store_path, suite)}
+    return [s for s in specs if not any((s.suite, s.contender, k) in done for k in s.stored_keys)]
+
+
+def describe(spec: RunSpec) -> str:
+    return f"run {spec.suite}/{spec.label} seed {spec.seed} (key {spec.key})"
+
+
+def failure_line(spec: RunSpec, error: BaseException) -> str:
+    """One line naming a run that raised; bad input raises again, naming the run, since it
+    stops the whole execution (exit status 2) where any other error stops only that run."""
+    message = " ".join(str(error).split()) or "no message"
+    if isinstance(error, InputError):
+        raise InputError(f"{describe(spec)}: {message}") from None
+    return f"{describe(spec)} failed: {type(error).__name__}: {message}"
