@@ -17,10 +17,13 @@ import pandas as pd
 import psutil
 import pytest
 
+import harness.execution.pool
 from harness.cli import main
 from harness.execution import cluster
+from harness.execution.local import execute
 from harness.planning import expand, load_suite
 from harness.storage import store
+from tests.test_link_suites import LINK_SUITE
 
 ROOT = Path(__file__).resolve().parents[1]
 FIGURES = ["val_metric", "test_metric", "test_accuracy", "epochs", "best_epoch", "curve"]
@@ -205,3 +208,94 @@ def test_a_tuned_suite_on_a_cluster_stores_every_repeat_once(write_suite, tmp_pa
     # a storage in a file of this machine cannot be shared with workers elsewhere
     assert main([*arguments[:3], "tcp://127.0.0.1:1", "--store", str(store_file)]) == 2
     assert "-tuning.db is a file on this machine" in capsys.readouterr().err
+
+
+def test_cluster_threads_must_fit_the_cores_before_the_cluster_starts(
+    tiny_suite, store_path, monkeypatch, capsys
+):
+    """local:N starts N worker processes on this machine: N x threads must fit its cores, as
+    --jobs x --threads must; refused in one line before any process starts."""
+    monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 2)
+    monkeypatch.setattr(cluster, "connected", lambda address: pytest.fail("cluster started"))
+    arguments = ["run", str(tiny_suite), "--store", str(store_path), "--cluster"]
+    assert main([*arguments, "local:2", "--threads", "2"]) == 2
+    assert capsys.readouterr().err.strip() == (
+        "heedful: error: --threads: 2 workers x 2 threads need 4 cores, 2 are usable; "
+        "allowed: workers x threads <= 2"
+    )
+    assert main([*arguments, "local:3"]) == 2
+    assert capsys.readouterr().err.strip() == (
+        "heedful: error: --cluster local:3: 3 workers need 3 cores, 2 are usable; "
+        "allowed: workers <= 2"
+    )
+    assert not store_path.exists()
+
+
+def failing_on_workers(doomed: str, how: str) -> Callable:
+    """train_on_worker, except that the doomed run raises, or kills the worker running it.
+    Defined here, it travels to the workers by value (cloudpickle), monkeypatch and all."""
+    real = cluster.train_on_worker
+
+    def train(spec, threads):
+        if spec.key == doomed and how == "raise":
+            raise RuntimeError("the depot ledger is unreadable")
+        if spec.key == doomed:
+            os.kill(os.getpid(), signal.SIGKILL)
+        return real(spec, threads)
+
+    return train
+
+
+def test_a_run_that_raises_on_a_worker_is_one_line_and_nothing_stored_is_lost(
+    tiny_suite, store_path, monkeypatch, capsys
+):
+    specs = expand(load_suite(tiny_suite))
+    execute(specs[:2], store_path)  # stored before: must stay as they are
+    before = store.load_runs(store_path).set_index("key")
+    doomed = specs[3]
+    monkeypatch.setattr(cluster, "train_on_worker", failing_on_workers(doomed.key, "raise"))
+    arguments = ["run", str(tiny_suite), "--cluster", "local:2", "--quiet", "--store"]
+    assert main([*arguments, str(store_path)]) == 3  # as on local processes
+    error = capsys.readouterr().err
+    assert error.strip() == (
+        f"heedful: error: run tiny_couriers/{doomed.label} seed {doomed.seed} (key "
+        f"{doomed.key}) failed: RuntimeError: the depot ledger is unreadable"
+    )
+    after = store.load_runs(store_path).set_index("key")
+    pd.testing.assert_frame_equal(after.loc[before.index], before)
+    assert sorted(after.index) == sorted(s.key for s in specs if s is not doomed)
+
+
+def test_a_run_whose_worker_dies_past_the_retry_bound_is_reported_and_the_rest_stored(
+    tiny_suite, store_path, monkeypatch, capsys
+):
+    """Dask gives a dead worker's run to another worker until it has killed RESUBMISSIONS + 1
+    workers (its `allowed-failures`); lowered to 1 here so that two deaths are enough."""
+    monkeypatch.setattr(cluster, "RESUBMISSIONS", 1)
+    specs = expand(load_suite(tiny_suite))
+    doomed = specs[0]
+    monkeypatch.setattr(cluster, "train_on_worker", failing_on_workers(doomed.key, "kill"))
+    arguments = ["run", str(tiny_suite), "--cluster", "local:2", "--quiet", "--store"]
+    assert main([*arguments, str(store_path)]) == 3
+    error = " ".join(capsys.readouterr().err.split())
+    assert error == (
+        f"heedful: error: run tiny_couriers/{doomed.label} seed {doomed.seed} (key "
+        f"{doomed.key}): its worker died 2 times (out of memory, or killed); everything else "
+        "is stored"
+    )
+    runs = store.load_runs(store_path)
+    assert sorted(runs["key"]) == sorted(s.key for s in specs if s is not doomed)
+
+
+def test_a_link_prediction_suite_on_a_cluster_stores_the_runs_of_one_process(write_suite, tmp_path):
+    """Fictional docking stations and regular trips between them: link runs travel to the
+    workers and back like node runs, with the figures of this process."""
+    suite = write_suite(LINK_SUITE, "links.toml")
+    arguments = ["run", str(suite), "--quiet", "--store"]
+    assert main([*arguments, str(tmp_path / "one.db")]) == 0
+    assert main([*arguments, str(tmp_path / "cluster.db"), "--cluster", "local:2"]) == 0
+    here = store.load_runs(tmp_path / "one.db").set_index("key").sort_index()
+    there = store.load_runs(tmp_path / "cluster.db").set_index("key").sort_index()
+    assert sorted(there.index) == sorted(s.key for s in expand(load_suite(suite)))
+    figures = ["val_metric", "test_metric", "test_average_precision", "test_roc_auc", "curve"]
+    pd.testing.assert_frame_equal(there[figures], here[figures])
