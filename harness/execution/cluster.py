@@ -75,7 +75,10 @@ def difference(worker: str, theirs: dict[str, str]) -> str | None:
 
 
 def _local_cluster(workers: int) -> LocalCluster:
-    with dask.config.set({"distributed.scheduler.allowed-failures": RESUBMISSIONS}):
+    # worker-saturation 1: a worker holds only the run it trains, so its death counts against
+    # that run alone (Dask counts every run a dead worker held towards allowed-failures)
+    settings = {"allowed-failures": RESUBMISSIONS, "worker-saturation": 1.0}
+    with dask.config.set({f"distributed.scheduler.{k}": v for k, v in settings.items()}):
         return LocalCluster(
             n_workers=workers,
             threads_per_worker=1,
