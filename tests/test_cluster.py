@@ -310,12 +310,9 @@ def test_a_link_prediction_suite_on_a_cluster_stores_each_run_once(link_stores):
     assert list(by_key(on_cluster).index) == list(by_key(one_process).index) == keys
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="known: PyG draws link negatives from Python's shared `random` generator, which a "
-    "Dask worker's own threads also draw from while a run trains (local:1 runs matched)",
-)
 def test_a_link_prediction_suite_on_a_cluster_gives_the_figures_of_one_process(link_stores):
+    """Bit for bit: PyG's negatives come from a generator of the training thread, not from
+    Python's shared one, which a Dask worker's own threads draw from while a run trains."""
     _, one_process, on_cluster = link_stores
     figures = ["val_metric", "test_metric", "test_average_precision", "test_roc_auc", "curve"]
     pd.testing.assert_frame_equal(by_key(on_cluster)[figures], by_key(one_process)[figures])

@@ -10,16 +10,35 @@ validation and test are non-edges of the whole graph, drawn once per seed.
 from __future__ import annotations
 
 import random
+import threading
 import warnings
 from dataclasses import dataclass
+from typing import Any
 
 import torch
+import torch_geometric.utils._negative_sampling as pyg_negative_sampling
 from pydantic import BaseModel
 from torch_geometric.data import Data
 from torch_geometric.transforms import RandomLinkSplit
 from torch_geometric.utils import is_undirected
 
 from harness.errors import InputError
+
+
+class ThreadRandom(threading.local):
+    """Python's `random` as PyG's negative sampling sees it: one generator per thread, so that
+    no other thread (a Dask worker's own) draws between a run's seed and its negatives. Seeded
+    like `random.seed`, it draws the same numbers."""
+
+    def __init__(self) -> None:
+        self.generator = random.Random()
+
+    def __getattr__(self, name: str) -> Any:
+        return getattr(self.generator, name)
+
+
+NEGATIVES_RANDOM = ThreadRandom()
+pyg_negative_sampling.random = NEGATIVES_RANDOM  # PyG draws with `random.sample` from there
 
 
 @dataclass(frozen=True)
@@ -66,15 +85,15 @@ def edge_split(
         neg_sampling_ratio=float(link.negatives_per_positive),
     )
     plain = Data(edge_index=data.edge_index, num_nodes=data.num_nodes)
-    state = random.getstate()  # PyG's negative sampling draws from Python's generator
+    state = NEGATIVES_RANDOM.getstate()  # a run's own draws go on after its split
     try:
-        random.seed(seed)
+        NEGATIVES_RANDOM.seed(seed)
         with torch.random.fork_rng(), warnings.catch_warnings():
             warnings.simplefilter("ignore")  # too few non-edges: the shortfall is checked below
             torch.manual_seed(seed)
             train, validation, test = splitter(plain)
     finally:
-        random.setstate(state)
+        NEGATIVES_RANDOM.setstate(state)
     for part, scored in (("validation", validation), ("test", test)):
         positives = int(scored.edge_label.sum())
         if int(len(scored.edge_label)) - positives < positives * link.negatives_per_positive:

@@ -7,7 +7,6 @@ stopping and the reported figures use the split's fixed validation and test nega
 
 from __future__ import annotations
 
-import random
 import time
 from collections.abc import Callable
 from contextlib import nullcontext
@@ -20,7 +19,7 @@ from torch_geometric.data import Data
 from torch_geometric.utils import negative_sampling
 
 from harness.data import load_graph
-from harness.data.edge_splits import EdgeSplit
+from harness.data.edge_splits import NEGATIVES_RANDOM, EdgeSplit
 from harness.data.feature_starts import StartedGraph, contender_graph
 from harness.data.inductive_edges import EDGE_SPLITS
 from harness.models.decoders import LinkModel, build_link_model
@@ -132,7 +131,7 @@ def perform_links(
     splitter = EDGE_SPLITS[spec.setting]
     split = splitter(data, spec.split, spec.link, spec.seed, tuning=validation_only)
     torch.manual_seed(spec.seed)
-    random.seed(spec.seed)  # PyG draws the fresh training negatives from Python's generator
+    NEGATIVES_RANDOM.seed(spec.seed)  # the fresh training negatives (PyG's draws)
     seen = graph_view(data, split.train_graph, spec)  # features and hops from training edges
     tested = graph_view(data, split.test_graph, spec) if not validation_only else seen
     model = build_link_model(spec.options, spec.link, seen.width, seen.embedding_rows)
