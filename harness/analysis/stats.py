@@ -55,11 +55,12 @@ def bootstrap_interval(
     """Percentile bootstrap interval for the mean (Efron and Tibshirani, 1993, ch. 13).
 
     Resamples the values with replacement `resamples` times through scipy.stats.bootstrap;
-    the generator is seeded so the same values give the same interval. With few seeds the
+    the generator is seeded and the values sorted first, so the same values give the same
+    interval in any order (runs are stored in the order they finish). With few seeds the
     percentile interval is narrower than the t-interval: it ignores the uncertainty of the
     spread itself, so read it next to the t-interval, not instead of it.
     """
-    values = np.asarray(values, dtype=float)
+    values = np.sort(np.asarray(values, dtype=float))
     if len(values) < 2:
         return float("nan"), float("nan")
     if np.all(values == values[0]):
