@@ -189,26 +189,23 @@ def gib(value: float) -> str:
     return f"{value / GIB:,.1f} GiB"
 
 
-def check_memory(
-    estimates: list[RunMemory],
-    jobs: int,
-    limit_bytes: float,
-    source: str,
-    data_peak: float = 0,
-    runs: int = 1,
-) -> None:
-    """Stop when `jobs` of the largest run (at most `runs` at a time) or generating the graph
-    exceed the limit."""
+def check_data_memory(data_peak: float, limit_bytes: float, source: str) -> None:
+    """Stop when generating the graph alone would exceed the limit."""
     if data_peak > limit_bytes:
         raise InputError(
             f"{source}: data: generating this graph needs about {gib(data_peak)}, above the "
             f"memory limit of {gib(limit_bytes)}; allowed: fewer nodes, a smaller "
             "average_degree or feature_dimension, or --memory-limit GIB to raise the limit"
         )
+
+
+def check_run_memory(
+    estimates: list[RunMemory], running: int, limit_bytes: float, source: str
+) -> None:
+    """Stop when `running` runs of the largest estimate at a time exceed the limit."""
     if not estimates:
         return
     largest = max(estimates, key=lambda estimate: estimate.bytes)
-    running = max(min(jobs, runs), 1)
     needed = largest.bytes * running
     if needed <= limit_bytes:
         return
@@ -244,8 +241,9 @@ def check_suite_memory(
         return []
     limit = machine_bytes() if limit_gib is None else limit_gib * GIB
     estimates = estimate_runs(design_points(suite), suite.training, size)
+    check_data_memory(data_bytes(suite.data, size), limit, source)
     runs = len(estimates) * len(suite.seed_list)
-    check_memory(estimates, jobs, limit, source, data_bytes(suite.data, size), runs)
+    check_run_memory(estimates, max(min(jobs, runs), 1), limit, source)
     return estimates
 
 
