@@ -4,10 +4,9 @@ stop a suite whose runs would not fit the memory limit (exit 2, one line)."""
 from __future__ import annotations
 
 import pytest
-import torch
+from activation_check import estimate_within_a_quarter_of_measured
 
 from harness.cli import main
-from harness.data.synthetic import contextual_sbm
 from harness.execution.memory import (
     GIB,
     GraphSize,
@@ -17,7 +16,6 @@ from harness.execution.memory import (
     run_bytes,
     saved_bytes,
 )
-from harness.models import build_model
 from harness.planning import design_points, load_suite
 from harness.schema.contenders import (
     AttentionOptions,
@@ -25,10 +23,8 @@ from harness.schema.contenders import (
     MLPOptions,
     NeighbourMeanOptions,
 )
-from harness.schema.data import SyntheticData
 from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.training import Training
-from harness.training.resources import ActivationMeter
 
 KINDS = {
     "gat": AttentionOptions(model="gat"),
@@ -42,16 +38,7 @@ KINDS = {
 
 @pytest.mark.parametrize("kind", sorted(KINDS))
 def test_saved_tensor_estimate_is_within_a_quarter_of_the_measured_activations(kind):
-    spec = SyntheticData(source="synthetic", nodes=3000, average_degree=10, feature_dimension=32)
-    data = contextual_sbm(spec)
-    options = KINDS[kind]
-    size = GraphSize(data.num_nodes, data.edge_index.size(1), 32, spec.classes)
-    model = build_model(options, 32, spec.classes)
-    meter = ActivationMeter()
-    with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
-        model(data.x, data.edge_index)
-    estimate = saved_bytes(options, size, size.nodes, message_edges(options, size))
-    assert 0.75 < estimate / meter.bytes < 1.25
+    estimate_within_a_quarter_of_measured(KINDS[kind])
 
 
 PINNED_SIZE = GraphSize(nodes=5000, edges=60000, features=40, classes=5)

@@ -8,10 +8,10 @@ from typing import Literal, get_args
 
 import pytest
 import torch
+from activation_check import estimate_within_a_quarter_of_measured
 from torch import nn
 from torch_geometric.utils import scatter
 
-from harness.data.synthetic import contextual_sbm
 from harness.execution.memory import GraphSize, message_edges, run_bytes, saved_bytes
 from harness.models import build_model, unwrap
 from harness.models.interface import AttentionNetwork, Network
@@ -23,7 +23,6 @@ from harness.schema.model_kinds import MODEL_KINDS, ModelKind, SavedFloats, atte
 from harness.schema.training import Training
 from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
 from harness.training.inference import chunked_logits
-from harness.training.resources import ActivationMeter
 
 IN_DIM, OUT_DIM, LAYERS = 3, 2, 2
 
@@ -97,21 +96,6 @@ def output_of_all(model: nn.Module, x: torch.Tensor, edges: torch.Tensor) -> tor
         return model(x, edges)
 
 
-def estimate_within_a_quarter_of_measured(name: str) -> None:
-    """The kind's declared saved floats against the activations autograd keeps, as
-    tests/test_memory.py checks for the shipped kinds' usual sizes."""
-    spec = SyntheticData(source="synthetic", nodes=3000, average_degree=10, feature_dimension=32)
-    data = contextual_sbm(spec)
-    options = MODEL_KINDS[name].options.model_validate({"model": name})
-    size = GraphSize(data.num_nodes, data.edge_index.size(1), 32, spec.classes)
-    model = build_model(options, 32, spec.classes)
-    meter = ActivationMeter()
-    with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
-        model(data.x, data.edge_index)
-    estimate = saved_bytes(options, size, size.nodes, message_edges(options, size))
-    assert 0.75 < estimate / meter.bytes < 1.25
-
-
 @pytest.mark.parametrize("name", list(MODEL_KINDS))
 def test_every_kind_keeps_its_contract(name: str) -> None:
     keeps_the_contract(name)
@@ -153,7 +137,7 @@ TOY = ModelKind(ToyOptions, f"{__name__}:build_toy", SavedFloats(node_inputs=1, 
 def test_a_toy_kind_added_through_the_registry_alone(monkeypatch) -> None:
     monkeypatch.setitem(MODEL_KINDS, "toy", TOY)
     keeps_the_contract("toy")
-    estimate_within_a_quarter_of_measured("toy")
+    estimate_within_a_quarter_of_measured(ToyOptions(model="toy"))
     # the memory check of a suite reads the same entry: the graph's edges, no self-loops
     toy, size = ToyOptions(model="toy"), GraphSize(nodes=1000, edges=8000, features=16, classes=3)
     assert message_edges(toy, size) == 8000
