@@ -13,11 +13,11 @@ import shutil
 from pathlib import Path
 
 import pytest
+from test_report import stored_suite
 
 from harness.api import analyse_store
 from harness.cli import main
 from harness.report.breakdown import report_tables
-from test_report import stored_suite
 
 ROOT = Path(__file__).resolve().parents[1]
 # git ignores this folder; CI keeps what lands in it (.ci/run prints its path)
