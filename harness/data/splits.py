@@ -25,6 +25,11 @@ class Split:
     test: torch.Tensor
 
 
+def unit(data: Data) -> str:
+    """What a split counts, for its messages: a node, or a graph of a collection."""
+    return getattr(data, "unit", "node")
+
+
 def fraction_split(data: Data, spec: BaseModel, seed: int) -> Split:
     """Stratified random fractions of the labelled nodes."""
     labelled = np.flatnonzero(data.y.numpy() >= 0)
@@ -40,9 +45,9 @@ def fraction_split(data: Data, spec: BaseModel, seed: int) -> Split:
     ):
         if counts[smallest] * share < 1:
             raise InputError(
-                f"split.{part}: class {names[smallest]!r} has {counts[smallest]} labelled nodes, "
-                "too few "
-                f"for a {share:g} share; allowed: shares that give every class at least one node"
+                f"split.{part}: class {names[smallest]!r} has {counts[smallest]} labelled "
+                f"{unit(data)}s, too few for a {share:g} share; allowed: shares that give every "
+                f"class at least one {unit(data)}"
             )
     rng = np.random.RandomState(seed)
     used = labelled
@@ -110,13 +115,15 @@ def column_split(data: Data, spec: BaseModel, seed: int) -> Split:
     names = getattr(data, "class_names", None) or [str(c) for c in range(int(data.y.max()) + 1)]
     for code, name in enumerate(("train", "validation", "test")):
         if len(chosen[code]) == 0:
-            raise InputError(f"{origin} marks no labelled node '{name}'; allowed: at least one")
+            raise InputError(
+                f"{origin} marks no labelled {unit(data)} '{name}'; allowed: at least one"
+            )
     present = torch.bincount(data.y[chosen[0]], minlength=len(names))
     if (present == 0).any():
         missing = names[int(torch.nonzero(present == 0)[0])]
         raise InputError(
-            f"{origin}: class {missing!r} has no training node; allowed: every class with at "
-            "least one node marked 'train'"
+            f"{origin}: class {missing!r} has no training {unit(data)}; allowed: every class "
+            f"with at least one {unit(data)} marked 'train'"
         )
     return Split(*chosen)
 
