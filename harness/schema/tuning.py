@@ -13,7 +13,7 @@ from typing import Any, Literal
 from pydantic import Field, ValidationError, model_validator
 
 from harness.errors import InputError
-from harness.schema.base import StrictModel, show
+from harness.schema.base import LARGEST_SEED, StrictModel, show
 from harness.schema.model_kinds import attends
 from harness.schema.training import Training
 
@@ -46,7 +46,7 @@ class Tuning(StrictModel):
     trials: int | None = Field(None, ge=1, le=100_000)
     seconds: float | None = Field(None, gt=0, le=30 * 24 * 3600)
     pruner: Literal["median", "halving", "none"] = "median"
-    seed: int = Field(0, ge=0)
+    seed: int = Field(0, ge=0, le=LARGEST_SEED)
     equal_parameters: str | int | None = None
     heartbeat_seconds: int = Field(10, ge=1, le=3600)
     space: dict[str, dict[str, SpaceEntry]] = {}
