@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import hashlib
+import math
 import re
 from pathlib import Path
 from typing import Annotated, Literal
@@ -129,8 +130,8 @@ class SyntheticData(StrictModel):
                     f"class_balance has {len(balance)} entries; allowed: one per class "
                     f"({self.classes})"
                 )
-            if any(b <= 0 for b in balance):
-                raise ValueError("class_balance entries must all be > 0")
+            if any(not 0 < b < math.inf for b in balance):  # NaN fails every comparison
+                raise ValueError("class_balance entries must all be finite numbers > 0")
         weights = balance or [1.0] * self.classes
         shares = [w / sum(weights) for w in weights]
         smallest = min(range(self.classes), key=shares.__getitem__)

@@ -9,7 +9,7 @@ from pydantic import Field, ValidationInfo, field_validator, model_validator
 
 from harness.schema.ablation import Ablation, HopSettings
 from harness.schema.analysis import Analysis, unknown_contenders
-from harness.schema.base import StrictModel
+from harness.schema.base import LARGEST_SEED, StrictModel
 from harness.schema.data import DataSection
 from harness.schema.gate import GateOptions
 from harness.schema.model_kinds import ContenderOptions
@@ -213,8 +213,8 @@ class Suite(StrictModel):
         else:
             if not seeds:
                 raise ValueError("allowed: a non-empty list of seeds")
-            if any(s < 0 for s in seeds) or len(set(seeds)) != len(seeds):
-                raise ValueError("allowed: distinct seeds >= 0")
+            if any(not 0 <= s <= LARGEST_SEED for s in seeds) or len(set(seeds)) != len(seeds):
+                raise ValueError(f"allowed: distinct seeds >= 0 and <= {LARGEST_SEED} (2**32 - 1)")
         return seeds
 
     @field_validator("contenders")

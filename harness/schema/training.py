@@ -4,12 +4,22 @@ from __future__ import annotations
 
 from typing import Annotated, ClassVar, Literal
 
-from pydantic import Field
+from pydantic import Field, field_validator
 
 from harness.schema.base import StrictModel
 
 Batching = Literal["full", "sampled"]
 CompileMode = Literal["auto"] | bool
+COMPILE_ALLOWED = 'allowed: "auto", true or false (without quotes)'
+
+
+def compile_mode(value: object) -> object:
+    """Only "auto", true or false: pydantic would read "yes" and 1 as true."""
+    if value is None or value == "auto" or isinstance(value, bool):
+        return value
+    raise ValueError(COMPILE_ALLOWED)
+
+
 # neighbours drawn per layer, first layer first; "all" keeps every neighbour
 Fanout = list[Annotated[int, Field(ge=1, le=100_000)]] | Literal["all"]
 
@@ -72,6 +82,8 @@ class Training(StrictModel):
         ),
     )
 
+    _compile_mode = field_validator("compile", mode="before")(compile_mode)
+
     @property
     def sampled(self) -> bool:
         return self.batching == "sampled"
@@ -120,6 +132,8 @@ class TrainingOverride(StrictModel):
         None,
         description="auto, true or false; default: the suite's.",
     )
+
+    _compile_mode = field_validator("compile", mode="before")(compile_mode)
 
     def apply(self, defaults: Training) -> Training:
         changes = {k: v for k, v in self.model_dump().items() if v is not None}

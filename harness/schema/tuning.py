@@ -13,7 +13,7 @@ from typing import Any, Literal
 from pydantic import Field, ValidationError, model_validator
 
 from harness.errors import InputError
-from harness.schema.base import StrictModel, show
+from harness.schema.base import LARGEST_SEED, StrictModel, show
 from harness.schema.model_kinds import attends
 from harness.schema.training import Training
 
@@ -59,7 +59,7 @@ class Tuning(StrictModel):
         "median",
         description=("Stops hopeless trials early: median, halving (successive halving) or none."),
     )
-    seed: int = Field(0, ge=0, description="Seed of the sampler.")
+    seed: int = Field(0, ge=0, le=LARGEST_SEED, description="Seed of the sampler.")
     equal_parameters: str | int | None = Field(
         None,
         description=(
