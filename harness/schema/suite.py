@@ -5,14 +5,15 @@ from __future__ import annotations
 import re
 from typing import Any, ClassVar, Literal
 
-from pydantic import ValidationInfo, field_validator, model_validator
+from pydantic import Field, ValidationInfo, field_validator, model_validator
 
 from harness.schema.ablation import Ablation, HopSettings
 from harness.schema.analysis import Analysis, unknown_contenders
 from harness.schema.base import LARGEST_SEED, StrictModel
-from harness.schema.data import DataSection, FractionSplit, HomophilyMap, SplitSection
+from harness.schema.data import DataSection
 from harness.schema.gate import GateOptions
 from harness.schema.model_kinds import ContenderOptions
+from harness.schema.splits import FractionSplit, HomophilyMap, SplitSection
 from harness.schema.tasks import DEFAULT_TASK, NOT_FOR_LINKS, TASK_METRICS, LinkOptions, Task
 from harness.schema.training import Training
 from harness.schema.tuning import Tuning
@@ -65,23 +66,97 @@ class Suite(StrictModel):
 
     keyed_when_set: ClassVar[frozenset[str]] = frozenset({"task", "link"})
 
-    name: str
-    description: str = ""
-    seeds: int | list[int] = 5
-    task: Task = DEFAULT_TASK
-    metric: str = "accuracy"  # one of the task's TASK_METRICS
-    data: DataSection
-    split: SplitSection = FractionSplit()
-    setting: Setting = "transductive"
-    ablation: dict[str, Ablation] = {}
-    hops: HopSettings = HopSettings()
-    training: Training = Training()
-    contenders: dict[str, ContenderOptions]
-    gate: GateOptions = GateOptions()
-    analysis: Analysis = Analysis()
-    tuning: Tuning | None = None
-    homophily_map: HomophilyMap | None = None
-    link: LinkOptions | None = None
+    name: str = Field(
+        description=(
+            "Name the suite's runs are stored and reported under: ASCII letters, "
+            "digits, _ and -, 1 to 64 characters."
+        ),
+    )
+    description: str = Field(
+        "",
+        description=("Free text for readers of the suite file: what it asks. Enters no run key."),
+    )
+    seeds: int | list[int] = Field(
+        5,
+        description=(
+            "How many seeds (seeds 0 to N-1), or a list of distinct seeds >= 0. Each "
+            "seed fixes a split and an initialisation shared by every contender; "
+            "raising the count reuses the runs of the seeds already stored."
+        ),
+    )
+    task: Task = Field(
+        DEFAULT_TASK,
+        description=(
+            "What the contenders predict: node_classification (one class per node) or"
+            " link_prediction (which node pairs are edges)."
+        ),
+    )
+    # one of the task's TASK_METRICS
+    metric: str = Field(
+        "accuracy",
+        description=(
+            "The metric early stopping, tuning, verdicts and gates use; "
+            "node_classification: accuracy (default), macro_f1, roc_auc (one-vs-"
+            "rest); link_prediction: roc_auc (default), average_precision, hits_at_k."
+        ),
+    )
+    data: DataSection = Field(description="Where the graph comes from, chosen by its source key.")
+    split: SplitSection = Field(
+        FractionSplit(),
+        description=(
+            "How labelled nodes (link prediction: edges, or nodes when inductive) are"
+            " split into training, validation and test, chosen by its method key."
+        ),
+    )
+    setting: Setting = Field(
+        "transductive",
+        description=(
+            "transductive: train on the whole graph with validation and test labels "
+            "hidden; inductive: validation and test nodes and their edges are removed"
+            " while training."
+        ),
+    )
+    ablation: dict[str, Ablation] = Field(
+        {},
+        description="Per contender name, the options to vary and their levels.",
+    )
+    hops: HopSettings = Field(
+        HopSettings(),
+        description=(
+            "Where k-hop edge sets are cached, and the attention memory a hop radius may take."
+        ),
+    )
+    training: Training = Field(
+        Training(),
+        description=(
+            "Training defaults of every contender; a contender's own training table overrides them."
+        ),
+    )
+    contenders: dict[str, ContenderOptions] = Field(
+        description="The models compared, one table per contender name; model picks the kind.",
+    )
+    gate: GateOptions = Field(GateOptions(), description="When a nightly gate fails.")
+    analysis: Analysis = Field(
+        Analysis(),
+        description=("How stored runs are judged; changes nothing stored and enters no run key."),
+    )
+    tuning: Tuning | None = Field(
+        None,
+        description="Tune every contender with the same budget before the comparison.",
+    )
+    homophily_map: HomophilyMap | None = Field(
+        None,
+        description=(
+            "Also run the contenders on synthetic graphs shaped like this data at "
+            "several edge homophily levels."
+        ),
+    )
+    link: LinkOptions | None = Field(
+        None,
+        description=(
+            "Decoder and negatives of a link prediction suite (only with task = link_prediction)."
+        ),
+    )
 
     @model_validator(mode="before")
     @classmethod

@@ -37,9 +37,33 @@ class LinkOptions(StrictModel):
     `validation_edges_at_test`: the test scores pass messages over the validation edges too.
     """
 
-    decoder: Literal["dot_product", "mlp"] = "dot_product"
-    decoder_hidden: int = Field(32, ge=1, le=4096)
-    embedding_width: int = Field(32, ge=1, le=4096)
-    negatives_per_positive: int = Field(1, ge=1, le=1000)
-    hits_k: int = Field(50, ge=1, le=100_000)
-    validation_edges_at_test: bool = False
+    decoder: Literal["dot_product", "mlp"] = Field(
+        "dot_product",
+        description=(
+            "How a node pair is scored from its embeddings: dot_product (h_i . h_j) "
+            "or mlp (an MLP of h_i * h_j)."
+        ),
+    )
+    decoder_hidden: int = Field(
+        32,
+        ge=1,
+        le=4096,
+        description="Width of the mlp decoder's hidden layer.",
+    )
+    embedding_width: int = Field(
+        32,
+        ge=1,
+        le=4096,
+        description="Width of the node embeddings every encoder outputs.",
+    )
+    negatives_per_positive: int = Field(
+        1,
+        ge=1,
+        le=1000,
+        description="Sampled non-edges per validation, test and training edge.",
+    )
+    hits_k: int = Field(50, ge=1, le=100_000, description="K of the hits_at_k metric.")
+    validation_edges_at_test: bool = Field(
+        False,
+        description="Test scores pass messages over the validation edges too.",
+    )
