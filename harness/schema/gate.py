@@ -8,9 +8,10 @@ from __future__ import annotations
 
 from typing import Literal
 
-from pydantic import Field, field_validator, model_validator
+from pydantic import Field, create_model, field_validator, model_validator
 
 from harness.schema.base import StrictModel
+from harness.schema.tasks import declared_metrics
 
 Action = Literal["fail", "warn"]
 BASELINE_FORMAT = "heedful baseline"
@@ -35,22 +36,33 @@ class GateOptions(StrictModel):
     reproducibility_action: Action = "warn"
 
 
-class BaselineRun(StrictModel):
-    """One seed of one contender as recorded in a baseline."""
+LOWEST = min(metric.low for metric in declared_metrics().values())
+HIGHEST = max(metric.high for metric in declared_metrics().values())
+
+
+class RunFigures(StrictModel):
+    """One seed of one contender as recorded in a baseline, but for its `test_<metric>` figures."""
 
     seed: int = Field(ge=0)
     key: str = Field(min_length=1)
-    test_metric: float = Field(ge=0, le=1)
-    val_metric: float | None = Field(None, ge=0, le=1)
-    test_accuracy: float | None = Field(None, ge=0, le=1)
-    test_macro_f1: float | None = Field(None, ge=0, le=1)
-    test_roc_auc: float | None = Field(None, ge=0, le=1)
-    test_average_precision: float | None = Field(None, ge=0, le=1)
-    test_hits_at_k: float | None = Field(None, ge=0, le=1)
+    test_metric: float = Field(ge=LOWEST, le=HIGHEST)
+    val_metric: float | None = Field(None, ge=LOWEST, le=HIGHEST)
     epochs: int = Field(ge=1)
     seconds_per_epoch: float = Field(gt=0)
     peak_mb: float = Field(gt=0)
     params: int = Field(ge=0)
+
+
+# one seed of one contender: with a `test_<metric>` figure for every declared metric, in its range
+BaselineRun = create_model(
+    "BaselineRun",
+    __base__=RunFigures,
+    __module__=__name__,
+    **{
+        f"test_{name}": (float | None, Field(None, ge=metric.low, le=metric.high))
+        for name, metric in declared_metrics().items()
+    },
+)
 
 
 class BaselineContender(StrictModel):
@@ -90,11 +102,18 @@ class BaselineFile(StrictModel):
     suite: str = Field(min_length=1)
     suite_hash: str = Field(min_length=1)
     task: dict
-    metric: Literal["accuracy", "macro_f1", "roc_auc", "average_precision", "hits_at_k"]
+    metric: str  # a metric some task declares
     harness_version: str
     saved_at: str
     environment: Environment
     contenders: dict[str, BaselineContender]
+
+    @field_validator("metric")
+    @classmethod
+    def _declared_metric(cls, metric: str) -> str:
+        if metric not in declared_metrics():
+            raise ValueError(f"allowed: {', '.join(declared_metrics())}")
+        return metric
 
     @model_validator(mode="after")
     def _some_contenders(self) -> BaselineFile:
