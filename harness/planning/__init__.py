@@ -28,7 +28,8 @@ from harness.schema.ablation import (
 )
 from harness.schema.base import format_validation_error, key_dump
 from harness.schema.batching import check_batching
-from harness.schema.data import FractionSplit, SyntheticData
+from harness.schema.data import SyntheticData
+from harness.schema.splits import FractionSplit
 from harness.schema.suite import Suite
 from harness.schema.tasks import DEFAULT_TASK, task_kind
 from harness.schema.training import Training

@@ -5,20 +5,23 @@ from __future__ import annotations
 import re
 from typing import Any, Literal
 
-from pydantic import BaseModel, ValidationInfo, field_validator, model_validator
+from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
 
 from harness.schema.ablation import Ablation, HopSettings
 from harness.schema.analysis import BREAKDOWN_KEYS, Analysis, unknown_contenders
-from harness.schema.base import StrictModel
-from harness.schema.data import DataSection, FractionSplit, HomophilyMap, SplitSection
+from harness.schema.base import LARGEST_SEED, StrictModel
+from harness.schema.data import DataSection
 from harness.schema.gate import GateOptions
 from harness.schema.model_kinds import ContenderOptions
+from harness.schema.splits import FractionSplit, HomophilyMap, SplitSection
 from harness.schema.tasks import (
     DEFAULT_TASK,
     TASKS,
     LinkOptions,
+    metrics_text,
     options_sections,
     task_kind,
+    tasks_text,
     tasks_with,
 )
 from harness.schema.training import Training
@@ -61,23 +64,92 @@ def check_name(name: str) -> str:
 class Suite(StrictModel):
     """A declarative benchmark: data, contenders, training defaults and seeds."""
 
-    name: str
-    description: str = ""
-    seeds: int | list[int] = 5
-    task: str = DEFAULT_TASK  # a name in the task registry (harness/schema/tasks)
-    metric: str = "accuracy"  # one of the task's metrics; its default_metric when left out
-    data: DataSection
-    split: SplitSection = FractionSplit()
-    setting: Setting = "transductive"
-    ablation: dict[str, Ablation] = {}
-    hops: HopSettings = HopSettings()
-    training: Training = Training()
-    contenders: dict[str, ContenderOptions]
-    gate: GateOptions = GateOptions()
-    analysis: Analysis = Analysis()
-    tuning: Tuning | None = None
-    homophily_map: HomophilyMap | None = None
-    link: LinkOptions | None = None
+    name: str = Field(
+        description=(
+            "Name the suite's runs are stored and reported under: ASCII letters, "
+            "digits, _ and -, 1 to 64 characters."
+        ),
+    )
+    description: str = Field(
+        "",
+        description=("Free text for readers of the suite file: what it asks. Enters no run key."),
+    )
+    seeds: int | list[int] = Field(
+        5,
+        description=(
+            "How many seeds (seeds 0 to N-1), or a list of distinct seeds >= 0. Each "
+            "seed fixes a split and an initialisation shared by every contender; "
+            "raising the count reuses the runs of the seeds already stored."
+        ),
+    )
+    task: str = Field(
+        DEFAULT_TASK,
+        description=f"What the contenders predict: {tasks_text()}.",
+    )
+    # one of the task's metrics; its default_metric when left out
+    metric: str = Field(
+        "accuracy",
+        description=(
+            f"The metric early stopping, tuning, verdicts and gates use; {metrics_text()}."
+        ),
+    )
+    data: DataSection = Field(description="Where the graph comes from, chosen by its source key.")
+    split: SplitSection = Field(
+        FractionSplit(),
+        description=(
+            "How labelled nodes (link prediction: edges, or nodes when inductive) are"
+            " split into training, validation and test, chosen by its method key."
+        ),
+    )
+    setting: Setting = Field(
+        "transductive",
+        description=(
+            "transductive: train on the whole graph with validation and test labels "
+            "hidden; inductive: validation and test nodes and their edges are removed"
+            " while training."
+        ),
+    )
+    ablation: dict[str, Ablation] = Field(
+        {},
+        description="Per contender name, the options to vary and their levels.",
+    )
+    hops: HopSettings = Field(
+        HopSettings(),
+        description=(
+            "Where k-hop edge sets are cached, and the attention memory a hop radius may take."
+        ),
+    )
+    training: Training = Field(
+        Training(),
+        description=(
+            "Training defaults of every contender; a contender's own training table overrides them."
+        ),
+    )
+    contenders: dict[str, ContenderOptions] = Field(
+        description="The models compared, one table per contender name; model picks the kind.",
+    )
+    gate: GateOptions = Field(GateOptions(), description="When a nightly gate fails.")
+    analysis: Analysis = Field(
+        Analysis(),
+        description=("How stored runs are judged; changes nothing stored and enters no run key."),
+    )
+    tuning: Tuning | None = Field(
+        None,
+        description="Tune every contender with the same budget before the comparison.",
+    )
+    homophily_map: HomophilyMap | None = Field(
+        None,
+        description=(
+            "Also run the contenders on synthetic graphs shaped like this data at "
+            "several edge homophily levels."
+        ),
+    )
+    link: LinkOptions | None = Field(
+        None,
+        description=(
+            "Decoder and negatives of a link prediction suite (only with task = link_prediction)."
+        ),
+    )
 
     @model_validator(mode="before")
     @classmethod
@@ -141,8 +213,8 @@ class Suite(StrictModel):
         else:
             if not seeds:
                 raise ValueError("allowed: a non-empty list of seeds")
-            if any(s < 0 for s in seeds) or len(set(seeds)) != len(seeds):
-                raise ValueError("allowed: distinct seeds >= 0")
+            if any(not 0 <= s <= LARGEST_SEED for s in seeds) or len(set(seeds)) != len(seeds):
+                raise ValueError(f"allowed: distinct seeds >= 0 and <= {LARGEST_SEED} (2**32 - 1)")
         return seeds
 
     @field_validator("contenders")

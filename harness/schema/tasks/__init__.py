@@ -45,10 +45,32 @@ def first_metric_names() -> tuple[str, ...]:
     return TASKS[DEFAULT_TASK].metric_names
 
 
+def tasks_scoring(metric: str) -> list[str]:
+    """The tasks that declare `metric`."""
+    return [name for name, kind in TASKS.items() if metric in kind.metric_names]
+
+
 def metric_label(name: str) -> str:
     """How reports name a metric (`macro_f1` -> `macro-F1`); unknown names as given."""
     metric = declared_metrics().get(name)
     return name if metric is None else metric.label
+
+
+def tasks_text() -> str:
+    """`node_classification (one class per node) or link_prediction (...)`, for the reference."""
+    return " or ".join(f"{name} ({kind.summary})" for name, kind in TASKS.items())
+
+
+def metrics_text() -> str:
+    """Each task's metrics, its default marked: `node_classification: accuracy (default), ...`."""
+    return "; ".join(
+        f"{name}: "
+        + ", ".join(
+            f"{metric.name} (default)" if metric.name == kind.default_metric else metric.name
+            for metric in kind.metrics
+        )
+        for name, kind in TASKS.items()
+    )
 
 
 def options_sections() -> dict[str, str]:

@@ -54,7 +54,8 @@ SectionCheck = Callable[[Any], "str | None"]
 class TaskKind:
     """One task a suite can pose.
 
-        `title`: how sentences name it ("link prediction"). `metrics`: every metric its runs store,
+        `title`: how sentences name it ("link prediction"); `summary`: what it predicts, for the
+    suite-file reference ("which node pairs are edges"). `metrics`: every metric its runs store,
         `default_metric` the one a suite without `metric` compares. `split_methods`: the `[split]`
         methods it accepts (None: all). `refused`: suite sections it does not extend to, with the
         reason (refused rather than silently ignored); `section_checks`: further rules for sections
@@ -71,6 +72,7 @@ class TaskKind:
     """
 
     title: str
+    summary: str
     metrics: tuple[Metric, ...]
     default_metric: str
     objective: str

@@ -12,7 +12,7 @@ from typing import Literal
 from pydantic import Field
 
 from harness.schema.base import StrictModel
-from harness.schema.data import SplitSection
+from harness.schema.splits import SplitSection
 from harness.schema.tasks.declaration import Metric, TaskKind
 
 
@@ -27,13 +27,36 @@ class LinkOptions(StrictModel):
     `validation_edges_at_test`: the test scores pass messages over the validation edges too.
     """
 
-    decoder: Literal["dot_product", "mlp"] = "dot_product"
-    decoder_hidden: int = Field(32, ge=1, le=4096)
-    embedding_width: int = Field(32, ge=1, le=4096)
-    negatives_per_positive: int = Field(1, ge=1, le=1000)
-    hits_k: int = Field(50, ge=1, le=100_000)
-    validation_edges_at_test: bool = False
-
+    decoder: Literal["dot_product", "mlp"] = Field(
+        "dot_product",
+        description=(
+            "How a node pair is scored from its embeddings: dot_product (h_i . h_j) "
+            "or mlp (an MLP of h_i * h_j)."
+        ),
+    )
+    decoder_hidden: int = Field(
+        32,
+        ge=1,
+        le=4096,
+        description="Width of the mlp decoder's hidden layer.",
+    )
+    embedding_width: int = Field(
+        32,
+        ge=1,
+        le=4096,
+        description="Width of the node embeddings every encoder outputs.",
+    )
+    negatives_per_positive: int = Field(
+        1,
+        ge=1,
+        le=1000,
+        description="Sampled non-edges per validation, test and training edge.",
+    )
+    hits_k: int = Field(50, ge=1, le=100_000, description="K of the hits_at_k metric.")
+    validation_edges_at_test: bool = Field(
+        False,
+        description="Test scores pass messages over the validation edges too.",
+    )
 
 def shares_cover_the_edges(split: SplitSection) -> str | None:
     """Shares of the edges must sum to 1: every edge is trained on, validated or tested."""
@@ -50,6 +73,7 @@ SCORES = "harness.schema.tasks.link_scores"
 
 LINK_PREDICTION = TaskKind(
     title="link prediction",
+    summary="which node pairs are edges",
     metrics=(
         Metric("roc_auc", "ROC-AUC", f"{SCORES}:roc_auc", f"{SCORES}:rank_roc_auc"),
         Metric(
