@@ -10,8 +10,8 @@ import torch
 from harness.data import load_graph
 from harness.data.graph_splits import make_graph_split
 from harness.errors import InputError
-from harness.schema.data import ColumnSplit, FractionSplit
-from harness.schema.graph_data import MoleculeData, MotifGraphsData, ScaffoldSplit, SizeSplit
+from harness.schema.graph_data import MoleculeData, MotifGraphsData
+from harness.schema.splits import ColumnSplit, FractionSplit, ScaffoldSplit, SizeSplit
 from tests.graph_files import molecule_frame, write_molecules
 
 

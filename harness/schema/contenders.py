@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from typing import Annotated, Any, Literal, get_args
+from typing import Annotated, Any, ClassVar, Literal, get_args
 
 from pydantic import Field, model_validator
 
@@ -11,6 +11,7 @@ from harness.schema.training import TrainingOverride
 
 Activation = Literal["relu", "elu", "gelu", "leaky_relu", "tanh"]
 HeadMerge = Literal["concatenate", "average"]
+Readout = Literal["mean", "sum", "max", "attention"]
 HeadCount = Annotated[int, Field(ge=1, le=16)]
 FeatureStart = Literal[
     "given",
@@ -80,10 +81,20 @@ class ContenderBase(StrictModel):
         le=10_000,
         description=("Largest degree with its own column in the degree and given_degree one-hots."),
     )
+    readout: Readout = Field(
+        "mean",
+        description=(
+            "Graph classification only: how a graph's node states pool into one: mean, sum, "
+            "max, or attention (gated attention pooling, Li et al. 2016)."
+        ),
+    )
     training: TrainingOverride = Field(
         TrainingOverride(),
         description="This contender's changes to the suite's training defaults.",
     )
+
+    # added with graph classification: node and link runs keep their keys
+    keyed_when_set: ClassVar[frozenset[str]] = frozenset({"readout"})
 
     @model_validator(mode="before")
     @classmethod
@@ -222,4 +233,19 @@ class MLPOptions(ContenderBase):
 
     model: Literal["mlp"] = Field(
         description="mlp: a multi-layer perceptron on node features alone; ignores edges.",
+    )
+
+
+class IsomorphismOptions(ContenderBase):
+    """Graph isomorphism network (Xu et al., 2019): h' = MLP((1 + eps) h + sum of neighbours)."""
+
+    model: Literal["gin"] = Field(
+        description=(
+            "gin: the graph isomorphism network (Xu et al., 2019), a sum of the neighbours "
+            "through a two-layer MLP."
+        ),
+    )
+    learn_epsilon: bool = Field(
+        False,
+        description="Learn eps, the weight of a node's own state (GIN-eps); false fixes it at 0.",
     )

@@ -7,7 +7,7 @@ import math
 import re
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Annotated, ClassVar, Literal
+from typing import ClassVar, Literal
 
 from pydantic import (
     Field,
@@ -111,6 +111,8 @@ class DataSource(StrictModel):
 
     # whether loading generates the graph (its peak memory is then estimated before it runs)
     generated: ClassVar[bool] = False
+    # whether it gives a collection of small graphs, one label each (graph classification)
+    many_graphs: ClassVar[bool] = False
 
     def declared_edges(self) -> int | None:
         """Directed edges the section will give, known before loading it; None if unknown."""
@@ -386,9 +388,3 @@ class PygData(DataSource):
                 f"name {self.name!r} is not one of {self.dataset}'s; allowed: {', '.join(names)}"
             )
         return self
-
-
-DataSection = Annotated[
-    SyntheticData | TableData | KarateData | DigitsData | PygData,
-    Field(discriminator="source"),
-]

@@ -2,21 +2,19 @@
 
 Sources: `molecules` (SMILES strings in a table, parsed by RDKit), `graph_tables` (nodes, edges
 and graphs tables joined by a graph-id column), `synthetic_graphs` (planted motifs on random
-trees) and `graph_atlas` (networkx's atlas of all graphs with up to seven nodes). Split methods
-beside the stratified `fractions` and the data's own `column`: `scaffold` (molecules) and `size`.
+trees) and `graph_atlas` (networkx's atlas of all graphs with up to seven nodes). Their split
+methods `scaffold` and `size` are in schema/splits.py.
 """
 
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Literal, TypeVar
+from typing import ClassVar, Literal
 
 from pydantic import Field, ValidationInfo, computed_field, field_validator, model_validator
 
-from harness.schema.base import StrictModel
-from harness.schema.data import TABLE_SUFFIXES, file_digest, resolve_path
+from harness.schema.data import TABLE_SUFFIXES, DataSource, file_digest, resolve_path
 
-Split = TypeVar("Split", bound=StrictModel)
 MOTIFS = ("cycle", "star", "house", "clique")
 
 
@@ -30,7 +28,13 @@ def table_file(value: str, info: ValidationInfo) -> str:
     return path
 
 
-class MoleculeData(StrictModel):
+class GraphsSource(DataSource):
+    """A data section that gives many small graphs, one label each."""
+
+    many_graphs: ClassVar[bool] = True
+
+
+class MoleculeData(GraphsSource):
     """A table with one molecule per row: a SMILES column, a label column, an optional split
     column (train, validation, test or empty). Atoms become nodes and bonds edges (PyG's
     `from_rdmol`); bond features are kept as edge attributes."""
@@ -59,7 +63,7 @@ class MoleculeData(StrictModel):
         return file_digest(self.file)
 
 
-class GraphTablesData(StrictModel):
+class GraphTablesData(GraphsSource):
     """Three tables joined by a graph-id column: nodes (graph id, node id, feature columns),
     edges (graph id, source, target) and graphs (graph id, label, optional split column).
     Node ids need only be unique within their graph; edges join nodes of one graph."""
@@ -102,7 +106,7 @@ class GraphTablesData(StrictModel):
         return file_digest(self.nodes) + file_digest(self.edges) + file_digest(self.graphs)
 
 
-class MotifGraphsData(StrictModel):
+class MotifGraphsData(GraphsSource):
     """Seeded random trees, each with one motif attached; the class is which motif.
 
     Node features: Gaussian noise, plus a class mean of norm `feature_signal` on the motif's
@@ -149,7 +153,7 @@ class MotifGraphsData(StrictModel):
         return self
 
 
-class AtlasData(StrictModel):
+class AtlasData(GraphsSource):
     """networkx's atlas of every graph with up to seven nodes (Read and Wilson, An Atlas of
     Graphs, 1998), labelled by a property networkx computes; the null graph is left out."""
 
@@ -157,38 +161,3 @@ class AtlasData(StrictModel):
     label: Literal["bipartite", "triangle_free", "planar", "connected", "tree"] = Field(
         "bipartite", description="The property that makes each graph's class (yes / no)."
     )
-
-
-class ScaffoldSplit(StrictModel):
-    """Molecules grouped by Bemis-Murcko scaffold (Bemis and Murcko, 1996); groups drawn in a
-    random order per seed fill train, then validation, then test: no scaffold in two parts."""
-
-    method: Literal["scaffold"] = Field("scaffold", description="Split molecules by scaffold.")
-    train: float = Field(0.8, gt=0, lt=1, description="Share of molecules for training.")
-    validation: float = Field(0.1, gt=0, lt=1, description="Share for validation.")
-    test: float = Field(0.1, gt=0, lt=1, description="Share for testing.")
-
-    @model_validator(mode="after")
-    def _sums_to_one(self) -> ScaffoldSplit:
-        return shares_sum_to_at_most_one(self)
-
-
-class SizeSplit(StrictModel):
-    """Train on smaller graphs, test on larger: the largest `test` share (by node count) is
-    the test part; the rest is split at random per seed into train and validation."""
-
-    method: Literal["size"] = Field("size", description="Test on the largest graphs.")
-    train: float = Field(0.6, gt=0, lt=1, description="Share of graphs for training.")
-    validation: float = Field(0.2, gt=0, lt=1, description="Share for validation.")
-    test: float = Field(0.2, gt=0, lt=1, description="Share of the largest graphs for testing.")
-
-    @model_validator(mode="after")
-    def _sums_to_one(self) -> SizeSplit:
-        return shares_sum_to_at_most_one(self)
-
-
-def shares_sum_to_at_most_one(section: Split) -> Split:
-    total = section.train + section.validation + section.test
-    if total > 1 + 1e-9:
-        raise ValueError(f"train + validation + test = {total:g}; allowed: at most 1")
-    return section

@@ -16,6 +16,7 @@ from harness.schema.contenders import (
     AttentionOptions,
     ContenderBase,
     ConvolutionOptions,
+    IsomorphismOptions,
     MLPOptions,
     NeighbourMeanOptions,
 )
@@ -82,6 +83,12 @@ MODEL_KINDS: dict[str, ModelKind] = {
         "harness.models.neighbour_mean:build",
         SavedFloats(node_inputs=2, node_outputs=2),
         compile_payback=35e6,  # 17.4 epochs on 2M edges
+    ),
+    # a sum over neighbours, then a two-layer MLP: its input, hidden and output states saved
+    "gin": ModelKind(
+        IsomorphismOptions,
+        "harness.models.isomorphism:build",
+        SavedFloats(node_inputs=2, node_outputs=3),
     ),
     "mlp": ModelKind(
         MLPOptions,

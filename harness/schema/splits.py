@@ -4,7 +4,7 @@
 
 from __future__ import annotations
 
-from typing import Annotated, Any, Literal
+from typing import Annotated, Any, Literal, TypeVar
 
 from pydantic import Discriminator, Field, Tag, field_validator, model_validator
 
@@ -38,10 +38,35 @@ class FractionSplit(StrictModel):
 
     @model_validator(mode="after")
     def _sums_to_at_most_one(self) -> FractionSplit:
-        total = self.train + self.validation + self.test
-        if total > 1 + 1e-9:
-            raise ValueError(f"train + validation + test = {total:g}; allowed: at most 1")
-        return self
+        return shares_sum_to_at_most_one(self)
+
+
+class ScaffoldSplit(StrictModel):
+    """Molecules grouped by Bemis-Murcko scaffold (Bemis and Murcko, 1996); groups drawn in a
+    random order per seed fill train, then validation, then test: no scaffold in two parts."""
+
+    method: Literal["scaffold"] = Field("scaffold", description="Split molecules by scaffold.")
+    train: float = Field(0.8, gt=0, lt=1, description="Share of molecules for training.")
+    validation: float = Field(0.1, gt=0, lt=1, description="Share for validation.")
+    test: float = Field(0.1, gt=0, lt=1, description="Share for testing.")
+
+    @model_validator(mode="after")
+    def _sums_to_one(self) -> ScaffoldSplit:
+        return shares_sum_to_at_most_one(self)
+
+
+class SizeSplit(StrictModel):
+    """Train on smaller graphs, test on larger: the largest `test` share (by node count) is
+    the test part; the rest is split at random per seed into train and validation."""
+
+    method: Literal["size"] = Field("size", description="Test on the largest graphs.")
+    train: float = Field(0.6, gt=0, lt=1, description="Share of graphs for training.")
+    validation: float = Field(0.2, gt=0, lt=1, description="Share for validation.")
+    test: float = Field(0.2, gt=0, lt=1, description="Share of the largest graphs for testing.")
+
+    @model_validator(mode="after")
+    def _sums_to_one(self) -> SizeSplit:
+        return shares_sum_to_at_most_one(self)
 
 
 class PerClassSplit(StrictModel):
@@ -90,11 +115,15 @@ def _split_method(value: Any) -> str:
 SplitSection = Annotated[
     Annotated[FractionSplit, Tag("fractions")]
     | Annotated[PerClassSplit, Tag("per_class")]
-    | Annotated[ColumnSplit, Tag("column")],
+    | Annotated[ColumnSplit, Tag("column")]
+    | Annotated[ScaffoldSplit, Tag("scaffold")]
+    | Annotated[SizeSplit, Tag("size")],
     Discriminator(
         _split_method,
         custom_error_type="unknown_split_method",
-        custom_error_message="unknown split method; allowed: fractions, per_class, column",
+        custom_error_message=(
+            "unknown split method; allowed: fractions, per_class, column, scaffold, size"
+        ),
     ),
 ]
 
@@ -126,3 +155,13 @@ class HomophilyMap(StrictModel):
         if any(not 0 <= level <= 1 for level in levels):
             raise ValueError("allowed: edge homophily values from 0 to 1")
         return sorted(levels)
+
+
+Shares = TypeVar("Shares", bound=StrictModel)
+
+
+def shares_sum_to_at_most_one(section: Shares) -> Shares:
+    total = section.train + section.validation + section.test
+    if total > 1 + 1e-9:
+        raise ValueError(f"train + validation + test = {total:g}; allowed: at most 1")
+    return section

@@ -10,13 +10,14 @@ from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_va
 from harness.schema.ablation import Ablation, HopSettings
 from harness.schema.analysis import BREAKDOWN_KEYS, Analysis, unknown_contenders
 from harness.schema.base import LARGEST_SEED, StrictModel
-from harness.schema.data import DataSection
 from harness.schema.gate import GateOptions
 from harness.schema.model_kinds import ContenderOptions
+from harness.schema.sources import DataSection
 from harness.schema.splits import FractionSplit, HomophilyMap, SplitSection
 from harness.schema.tasks import (
     DEFAULT_TASK,
     TASKS,
+    GraphOptions,
     LinkOptions,
     metrics_text,
     options_sections,
@@ -33,10 +34,43 @@ NAME_PATTERN = re.compile(r"[A-Za-z0-9_-]{1,64}")
 NAMES_ALLOWED = "allowed: ASCII letters, digits, _ and -, 1 to 64 characters"
 
 
+def readout_in_contenders(contenders: dict[str, Any], title: str) -> str | None:
+    for name, options in contenders.items():
+        if "readout" in options.model_fields_set:
+            return f"{name}.readout pools whole graphs, not used by {title}; allowed: leave it out"
+    return None
+
+
+def readout_in_ablation(ablation: dict[str, Any], title: str) -> str | None:
+    for name, grid in ablation.items():
+        if "readout" in grid.axes:
+            return (
+                f"{name}.axes.readout pools whole graphs, not used by {title}; allowed: other axes"
+            )
+    return None
+
+
+# contender options of graph-level models only: refused by the tasks of one graph
+GRAPH_ONLY = {"contenders": readout_in_contenders, "ablation": readout_in_ablation}
+
+
 def task_section_problem(task: str, section: str, value: Any) -> str | None:
     """What the task declares against a section it takes: a split method it does not accept,
     breakdown settings when it has no per-node breakdown, or its own section check."""
     kind = task_kind(task)
+    if section == "data" and value.many_graphs != kind.many_graphs:
+        fitting = [name for name, other in TASKS.items() if other.many_graphs == value.many_graphs]
+        return (
+            f"source '{value.source}' gives {'many graphs' if value.many_graphs else 'one graph'}"
+            f", which is for task = {' or '.join(fitting)}; this suite's task is '{task}'"
+        )
+    if section in GRAPH_ONLY and not kind.many_graphs:
+        return GRAPH_ONLY[section](value, kind.title)
+    if section == "setting" and kind.many_graphs:
+        return (
+            f"not used by {kind.title}: its test graphs are never seen in training; allowed: "
+            "leave setting out"
+        )
     if section == "split" and kind.split_methods and value.method not in kind.split_methods:
         owners = " or ".join(tasks_with(value.method))
         return (
@@ -148,6 +182,12 @@ class Suite(StrictModel):
         None,
         description=(
             "Decoder and negatives of a link prediction suite (only with task = link_prediction)."
+        ),
+    )
+    graphs: GraphOptions | None = Field(
+        None,
+        description=(
+            "Batches of a graph classification suite (only with task = graph_classification)."
         ),
     )
 

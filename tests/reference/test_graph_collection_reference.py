@@ -11,7 +11,8 @@ from rdkit.Chem.Scaffolds import MurckoScaffold
 
 from harness.data import load_graph
 from harness.data.graph_splits import make_graph_split
-from harness.schema.graph_data import AtlasData, MoleculeData, ScaffoldSplit
+from harness.schema.graph_data import AtlasData, MoleculeData
+from harness.schema.splits import ScaffoldSplit
 from tests.graph_files import SMILES, write_molecules
 
 

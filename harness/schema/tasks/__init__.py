@@ -9,12 +9,14 @@ from __future__ import annotations
 from typing import Literal
 
 from harness.schema.tasks.declaration import Metric, TaskKind
+from harness.schema.tasks.graph_classification import GRAPH_CLASSIFICATION, GraphOptions
 from harness.schema.tasks.link_prediction import LINK_PREDICTION, LinkOptions
 from harness.schema.tasks.node_classification import NODE_CLASSIFICATION
 
 TASKS: dict[str, TaskKind] = {
     "node_classification": NODE_CLASSIFICATION,
     "link_prediction": LINK_PREDICTION,
+    "graph_classification": GRAPH_CLASSIFICATION,
 }
 DEFAULT_TASK = "node_classification"
 
@@ -87,4 +89,13 @@ def tasks_with(method: str) -> list[str]:
     ]
 
 
-__all__ = ["DEFAULT_TASK", "TASKS", "LinkOptions", "Metric", "Task", "TaskKind", "task_kind"]
+__all__ = [
+    "DEFAULT_TASK",
+    "TASKS",
+    "GraphOptions",
+    "LinkOptions",
+    "Metric",
+    "Task",
+    "TaskKind",
+    "task_kind",
+]

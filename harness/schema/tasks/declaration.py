@@ -68,7 +68,9 @@ class TaskKind:
         `data_check`: "module:function" check(suite, data, source) of every seed's split, run by
         `check` before any run. `objective`: the name of its entry in the training stage's objective
         registry. `output_option`: the field of its options table that sets the model's output width
-    (None: one output per class of the data).
+    (None: one output per class of the data). `many_graphs`: its data is a collection of small
+    graphs with one label each (data sources that declare `many_graphs`), and its contenders
+    pool each graph's node states with their `readout`.
     """
 
     title: str
@@ -89,6 +91,7 @@ class TaskKind:
     no_compile_reason: str = ""
     breakdown: bool = True
     node_labels: bool = True
+    many_graphs: bool = False
 
     @property
     def metric_names(self) -> tuple[str, ...]:

@@ -22,5 +22,6 @@ NODE_CLASSIFICATION = TaskKind(
     default_metric="accuracy",
     objective="node_loss",
     data_check="harness.execution.preflight:check_node_splits",
+    split_methods=("fractions", "per_class", "column"),
     keyed=False,
 )
