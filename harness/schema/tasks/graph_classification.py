@@ -9,9 +9,12 @@ nodes, sampled node batches, the per-node breakdown) do not apply; the breakdown
 
 from __future__ import annotations
 
+from typing import Any, get_args
+
 from pydantic import Field
 
 from harness.schema.base import StrictModel
+from harness.schema.contenders import FeatureStart
 from harness.schema.tasks.declaration import Metric, TaskKind
 
 
@@ -24,6 +27,38 @@ class GraphOptions(StrictModel):
     evaluation_batch_size: int = Field(
         512, ge=1, le=1_000_000, description="Graphs per step when validating and testing."
     )
+
+
+# feature starts of one graph's nodes: a learned row per node id, and eigenvectors that would
+# mix the graphs of a collection (eigenvalues repeat across its disconnected graphs)
+FEATURE_STARTS = get_args(FeatureStart)
+ONE_GRAPH_STARTS = {
+    "identity": "a learned row per node id, which graphs of a collection do not share",
+    "laplacian": "Laplacian eigenvectors of a collection mix its graphs; random_walk is per graph",
+}
+
+
+def start_problem(contender: str, start: str) -> str | None:
+    reason = ONE_GRAPH_STARTS.get(start)
+    if reason is None:
+        return None
+    allowed = ", ".join(s for s in FEATURE_STARTS if s not in ONE_GRAPH_STARTS)
+    return f"{contender}.feature_start: given '{start}' ({reason}); allowed: {allowed}"
+
+
+def starts_of_contenders(contenders: dict[str, Any]) -> str | None:
+    for name, options in contenders.items():
+        if problem := start_problem(name, options.feature_start):
+            return problem
+    return None
+
+
+def starts_of_ablation(ablation: dict[str, Any]) -> str | None:
+    for name, grid in ablation.items():
+        for start in grid.axes.get("feature_start", []):
+            if problem := start_problem(f"{name}.axes", start):
+                return problem
+    return None
 
 
 NODE_SCORES = "harness.schema.tasks.node_scores"
@@ -46,6 +81,7 @@ GRAPH_CLASSIFICATION = TaskKind(
         "homophily_map": "the homophily map varies node labels of one graph; graph "
         "classification labels whole graphs",
     },
+    section_checks={"contenders": starts_of_contenders, "ablation": starts_of_ablation},
     options_section="graphs",
     options=GraphOptions,
     sampled_batches=False,
