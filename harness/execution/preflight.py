@@ -16,9 +16,9 @@ from harness.data.splits import make_split
 from harness.errors import InputError
 from harness.execution.memory import GraphSize
 from harness.planning import design_points
+from harness.schema.named import imported
 from harness.schema.suite import Suite
 from harness.schema.tasks import task_kind
-from harness.schema.tasks.declaration import imported
 
 
 @dataclass(frozen=True)
