@@ -11,7 +11,14 @@ from typing import Any
 import torch
 
 from harness.execution.pool import Workers, available_cores, start_workers, worker_setup
-from harness.execution.runs import Outcome, failure_line, pending, run_and_store
+from harness.execution.runs import (
+    Outcome,
+    failure_line,
+    no_space_line,
+    out_of_space,
+    pending,
+    run_and_store,
+)
 from harness.execution.sharing import share_with_workers
 from harness.models import load_builders
 from harness.planning import RunSpec
@@ -61,12 +68,15 @@ def _run_alone(
     raised = []
     torch.set_num_threads(threads)
     try:
-        for spec in todo:  # with jobs > 1, a single run left
+        for index, spec in enumerate(todo):  # with jobs > 1, a single run left
             with torch_threads(last_run_threads(spec, jobs, threads)):
                 try:
                     contender = run_and_store(spec, store_path)
                 except Exception as error:
                     raised.append(failure_line(spec, error))
+                    if out_of_space(error):
+                        raised.append(no_space_line(len(todo) - index - 1))
+                        break
                     continue
             if on_finished:
                 on_finished(contender)

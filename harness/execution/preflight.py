@@ -9,6 +9,7 @@ from torch_geometric.data import Data
 
 from harness.data import load_graph
 from harness.data.assemble import cleaning_notes, edge_count
+from harness.data.edge_splits import EdgeSplit
 from harness.data.feature_starts import check_contender_graphs
 from harness.data.homophily import measure_homophily
 from harness.data.inductive_edges import EDGE_SPLITS
@@ -59,9 +60,24 @@ def check_edge_splits(suite: Suite, data: Data, source: str) -> None:
     """Every seed's edge split: enough edges for each share and enough non-edges."""
     for seed in suite.seed_list:
         try:
-            EDGE_SPLITS[suite.setting](data, suite.split, suite.link_options, seed)
+            split = EDGE_SPLITS[suite.setting](data, suite.split, suite.link_options, seed)
         except InputError as error:
             raise InputError(f"{source}: {error}") from None
+        if suite.metric == "hits_at_k":
+            check_hits_k(suite.link_options.hits_k, split, seed, source)
+
+
+def check_hits_k(hits_k: int, split: EdgeSplit, seed: int, source: str) -> None:
+    """Hits@K counts every edge as a hit when K reaches the negatives: a score of 1.000 that
+    says nothing (OGB's evaluator, which ours follows, does the same)."""
+    for part, labels in (("validation", split.validation_labels), ("test", split.test_labels)):
+        negatives = int((labels < 0.5).sum())
+        if hits_k >= negatives:
+            raise InputError(
+                f"{source}: link.hits_k: given {hits_k}, but the {part} pairs of seed {seed} "
+                f"hold {negatives} negatives, so every {part} edge would count as a hit; "
+                f"allowed: K below {negatives} (or more negatives_per_positive)"
+            )
 
 
 def preflight(suite: Suite, source: str) -> DataFacts:
