@@ -10,8 +10,9 @@ from typing import Any
 
 import torch
 
+from harness.execution.executed import Executed
 from harness.execution.pool import Workers, available_cores, start_workers, worker_setup
-from harness.execution.runs import Outcome, failure_line, pending, run_and_store
+from harness.execution.runs import failure_line, pending, run_and_store
 from harness.execution.sharing import share_with_workers
 from harness.models import load_builders
 from harness.planning import RunSpec
@@ -82,7 +83,7 @@ def execute(
     on_finished: Callable[[str], None] | None = None,
     workers: Workers | None = None,
     threads: int = 1,
-) -> Outcome:
+) -> Executed:
     """Run every spec not yet stored, on `jobs` processes of `threads` torch threads each;
     Ctrl-C keeps what finished. A run that raises is reported and the others go on; one that
     raises InputError stops them all (what is stored stays).
@@ -111,7 +112,7 @@ def execute(
     # counted in the store: a run may be stored in the moment Ctrl-C or a kill arrives
     finished = len(todo) - len(pending(todo, store_path))
     failures = (*raised, *(run.message() for run in lost))
-    return Outcome(len(specs), len(specs) - len(todo), finished, interrupted, failures, lost)
+    return Executed(len(specs), len(specs) - len(todo), finished, interrupted, failures, lost)
 
 
 def run_copies(task: Callable[..., Any], arguments: tuple, jobs: int, threads: int) -> list[Any]:

@@ -12,8 +12,9 @@ from multiprocessing.connection import wait
 import torch
 
 from harness.errors import InputError
+from harness.execution.executed import LostRun
 from harness.execution.pool import Worker, Workers
-from harness.execution.runs import LostRun, failure_line, pending, run_and_store
+from harness.execution.runs import failure_line, pending, run_and_store
 from harness.planning import RunSpec
 from harness.storage import store
 
