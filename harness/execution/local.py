@@ -12,11 +12,17 @@ import torch
 
 from harness.execution.executed import Executed
 from harness.execution.pool import Workers, available_cores, start_workers, worker_setup
-from harness.execution.runs import failure_line, pending, run_and_store
+from harness.execution.runs import (
+    failure_line,
+    no_space_line,
+    out_of_space,
+    pending,
+    run_and_store,
+)
 from harness.execution.sharing import share_with_workers
 from harness.models import load_builders
 from harness.planning import RunSpec
-from harness.planning.run_choices import COMPILE_MIN_EDGES, declared_edges
+from harness.planning.run_choices import COMPILE_MIN_EDGES
 from harness.storage import store
 
 # a graph this large gives a lone last run every core (README, Processes and threads)
@@ -33,7 +39,7 @@ def last_run_threads(spec: RunSpec, jobs: int, threads: int) -> int:
     command was given, jobs x threads within the usable cores, since the other processes would
     sit idle; on a small graph more threads gain little, so it keeps `threads`.
     """
-    edges = declared_edges(spec.data)
+    edges = spec.data.declared_edges()
     if jobs > 1 and edges is not None and edges >= LARGE_GRAPH_EDGES:
         return max(threads, min(jobs * threads, available_cores()))
     return threads
@@ -62,12 +68,15 @@ def _run_alone(
     raised = []
     torch.set_num_threads(threads)
     try:
-        for spec in todo:  # with jobs > 1, a single run left
+        for index, spec in enumerate(todo):  # with jobs > 1, a single run left
             with torch_threads(last_run_threads(spec, jobs, threads)):
                 try:
                     contender = run_and_store(spec, store_path)
                 except Exception as error:
                     raised.append(failure_line(spec, error))
+                    if out_of_space(error):
+                        raised.append(no_space_line(len(todo) - index - 1))
+                        break
                     continue
             if on_finished:
                 on_finished(contender)

@@ -3,6 +3,7 @@ names a run that could not finish."""
 
 from __future__ import annotations
 
+import errno
 from typing import Any
 
 from harness.errors import InputError
@@ -61,6 +62,33 @@ def pending(specs: list[RunSpec], store_path: store.Store) -> list[RunSpec]:
     for suite in suites:
         done |= {(suite, c, k) for c, k in store.finished_keys(store_path, suite)}
     return [s for s in specs if not any((s.suite, s.contender, k) in done for k in s.stored_keys)]
+
+
+NO_SPACE_ERRNOS = (errno.ENOSPC, errno.EDQUOT)
+NO_SPACE_WORDS = ("database or disk is full", "No space left on device", "Disk quota exceeded")
+
+
+def out_of_space(error: BaseException) -> bool:
+    """Whether a run failed because the disk filled, so that every later run would too. Read
+    from the errno and the text: an error a worker sends back has lost its cause."""
+    seen: BaseException | None = error
+    for _ in range(10):  # a chain of causes, never a cycle
+        if seen is None:
+            return False
+        if isinstance(seen, OSError) and seen.errno in NO_SPACE_ERRNOS:
+            return True
+        if any(words in str(seen) for words in NO_SPACE_WORDS):
+            return True
+        seen = seen.__cause__ or seen.__context__
+    return False
+
+
+def no_space_line(left: int) -> str:
+    """The line that ends an execution stopped by a full disk."""
+    return (
+        f"stopped: the disk is full, so {left} runs were not started (each would fail the same "
+        "way); finished runs are stored: free some space and run the same command again"
+    )
 
 
 def describe(spec: RunSpec) -> str:
