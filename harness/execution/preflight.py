@@ -16,10 +16,10 @@ from harness.data.inductive_edges import EDGE_SPLITS
 from harness.data.splits import make_split
 from harness.errors import InputError
 from harness.execution.memory import GraphSize
-from harness.planning import design_points
+from harness.planning import design_points, expand
+from harness.schema.named import imported
 from harness.schema.suite import Suite
 from harness.schema.tasks import task_kind
-from harness.schema.tasks.declaration import imported
 
 
 @dataclass(frozen=True)
@@ -94,16 +94,20 @@ def preflight(suite: Suite, source: str) -> DataFacts:
         data.num_features,
         measured.edge,
         measured.node,
-        tuple(cleaning_notes(data, f"{source}: data")) + unused_label_notes(suite, source),
+        tuple(cleaning_notes(data, f"{source}: data")) + task_notes(suite, source),
     )
 
 
-def unused_label_notes(suite: Suite, source: str) -> tuple[str, ...]:
-    """A warning when a suite whose task reads no node labels names a label column."""
+def task_notes(suite: Suite, source: str) -> tuple[str, ...]:
+    """Warnings from what the task declares: a label column its runs never read, compiling
+    asked for where it does not apply."""
     kind = task_kind(suite.task)
+    notes = []
     if not kind.node_labels and "label_column" in suite.data.model_fields_set:
-        return (
+        notes.append(
             f"{source}: data.label_column: warning: {kind.title} uses no node labels; "
-            "the column only feeds the data profile",
+            "the column only feeds the data profile"
         )
-    return ()
+    if not kind.compiles and any(spec.training.compile is True for spec in expand(suite)):
+        notes.append(f"{source}: training.compile: warning: {kind.no_compile_reason}")
+    return tuple(notes)

@@ -88,7 +88,7 @@ class Suite(StrictModel):
     )
     # one of the task's metrics; its default_metric when left out
     metric: str = Field(
-        "accuracy",
+        TASKS[DEFAULT_TASK].default_metric,
         description=(
             f"The metric early stopping, tuning, verdicts and gates use; {metrics_text()}."
         ),
