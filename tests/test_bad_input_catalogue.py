@@ -591,6 +591,31 @@ CASES: list[Bad] = [
     appended(
         "tuning_seed_above_32_bits", "[tuning]\ntrials = 2\nseed = 4294967296\n", "tuning.seed"
     ),
+    # issue 27, item 14: options no run would use are refused, not silently ignored
+    suite(
+        "fanout_with_full_batches",
+        "epochs = 15",
+        "epochs = 15\nfanout = [5, 5]",
+        "training.fanout: given [5, 5] where every run trains on full batches",
+    ),
+    suite(
+        "contender_fanout_with_full_batches",
+        "hidden = 4",
+        "hidden = 4\ntraining = {fanout = [3, 3]}",
+        "contenders.attention.training.fanout: given [3, 3] where every run trains on full",
+    ),
+    suite(
+        "compile_with_sampled_batches",
+        "epochs = 15",
+        'epochs = 15\ncompile = true\nbatching = "sampled"\nfanout = "all"',
+        "training.compile: given true where every run trains on sampled batches",
+    ),
+    suite(
+        "contender_compile_with_sampled_batches",
+        "hidden = 4",
+        'hidden = 4\ntraining = {compile = true, batching = "sampled", fanout = [4, 4]}',
+        "contenders.attention.training.compile: given true where every run trains on sampled",
+    ),
     # issue 27, item 4: Hits@K with K at or above the negatives scores every edge a hit
     link_table(
         "hits_k_above_negatives",

@@ -27,7 +27,7 @@ from harness.schema.ablation import (
     point_label,
 )
 from harness.schema.base import format_validation_error, key_dump
-from harness.schema.batching import check_batching
+from harness.schema.batching import check_batching, check_options_apply
 from harness.schema.data import SyntheticData
 from harness.schema.splits import FractionSplit
 from harness.schema.suite import Suite
@@ -128,6 +128,7 @@ def parse_suite(raw: dict, source: str) -> Suite:
     check_ablation(suite.contenders, suite.ablation, suite.setting, source)
     check_tuning(suite, source)  # search spaces against the contenders' options
     check_batching(suite, source)  # fan-out lengths against each contender's layers
+    check_options_apply(suite, source)  # no fanout or compile that no run would use
     return suite
 
 
