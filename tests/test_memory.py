@@ -14,7 +14,6 @@ from harness.execution.memory import (
     BASE_BYTES,
     GIB,
     GraphSize,
-    declared_size,
     estimate_runs,
     memory_outline,
     message_edges,
@@ -94,7 +93,7 @@ hidden = 32
 
 def estimate_of(path) -> float:
     suite = load_suite(path)
-    return estimate_runs(design_points(suite), suite.training, declared_size(suite.data))[0].bytes
+    return estimate_runs(design_points(suite), suite.training, suite.data.declared_size())[0].bytes
 
 
 def test_check_stops_a_run_above_the_memory_limit_and_suggests_sampling(write_suite, capsys):

@@ -12,7 +12,6 @@ from typing import TYPE_CHECKING, Any
 import pandas as pd
 
 from harness.commands.executing import (
-    Executed,
     ExecutedStatus,
     check_cluster_use,
     connected_cluster,
@@ -21,6 +20,7 @@ from harness.commands.executing import (
 from harness.commands.feedback import SILENT, Feedback
 from harness.commands.tuned import TunedOutcome, run_tuned
 from harness.errors import InputError
+from harness.execution.executed import Executed
 from harness.execution.executors import Executor, Resources, executor_for
 from harness.planning import load_suite
 from harness.schema.suite import Suite

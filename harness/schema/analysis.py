@@ -6,6 +6,9 @@ from pydantic import Field, field_validator, model_validator
 
 from harness.schema.base import StrictModel
 
+# settings of the per-node breakdown, refused for a task that has none
+BREAKDOWN_KEYS = ("local_homophily_edges", "degree_edges", "breakdown")
+
 
 class Analysis(StrictModel):
     """Settings of the statistics and verdicts.

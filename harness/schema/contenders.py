@@ -97,6 +97,18 @@ class ContenderBase(StrictModel):
                     )
         return data
 
+    # what every kind's layers declare, so that no stage asks which kind it holds
+    def layer_radius(self) -> int:
+        """Hops one layer reaches: 1, but for kinds that attend over a wider hop set."""
+        return 1
+
+    def heads_per_layer(self) -> list[int]:
+        return [1] * self.layers
+
+    def merge_per_layer(self) -> list[str]:
+        """How each layer merges its heads; one head gives the same either way."""
+        return ["average"] * self.layers
+
 
 def _attention_kinds() -> tuple[str, ...]:
     """The kinds AttentionOptions serves (its `model` literal)."""
@@ -171,6 +183,9 @@ class AttentionOptions(ContenderBase):
                     f"{width} wide; allowed: at most {MAX_LAYER_WIDTH}"
                 )
         return self
+
+    def layer_radius(self) -> int:
+        return self.hop_radius
 
     def heads_per_layer(self) -> list[int]:
         return list(self.heads) if isinstance(self.heads, list) else [self.heads] * self.layers

@@ -5,8 +5,9 @@ from __future__ import annotations
 import hashlib
 import math
 import re
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Annotated, Literal
+from typing import Annotated, ClassVar, Literal
 
 from pydantic import (
     Field,
@@ -59,6 +60,7 @@ def resolve_path(value: str, info: ValidationInfo) -> str:
 
 
 _DIGESTS: dict[tuple[str, int, int], str] = {}
+_ROWS: dict[tuple[str, int, int], int] = {}
 
 
 def file_digest(path: str) -> str:
@@ -74,8 +76,55 @@ def file_digest(path: str) -> str:
     return _DIGESTS[cache_key]
 
 
-class SyntheticData(StrictModel):
+def table_rows(path: str) -> int:
+    """Data rows of a CSV (lines after the header) or Parquet file (from its footer)."""
+    stat = Path(path).stat()
+    cache_key = (path, stat.st_size, stat.st_mtime_ns)
+    if cache_key not in _ROWS:
+        if Path(path).suffix.lower() == ".csv":
+            with open(path, "rb") as handle:
+                lines = sum(block.count(b"\n") for block in iter(lambda: handle.read(1 << 20), b""))
+            _ROWS[cache_key] = max(lines - 1, 0)
+        else:
+            import pyarrow.parquet  # only suites with Parquet tables need it
+
+            _ROWS[cache_key] = pyarrow.parquet.ParquetFile(path).metadata.num_rows
+    return _ROWS[cache_key]
+
+
+@dataclass(frozen=True)
+class GraphSize:
+    """What a memory estimate needs to know of a graph: directed edges (both directions counted)."""
+
+    nodes: int
+    edges: int
+    features: int
+    classes: int
+
+    @property
+    def average_degree(self) -> float:
+        return self.edges / max(self.nodes, 1)
+
+
+class DataSource(StrictModel):
+    """What every data section declares about its graph before it is loaded."""
+
+    # whether loading generates the graph (its peak memory is then estimated before it runs)
+    generated: ClassVar[bool] = False
+
+    def declared_edges(self) -> int | None:
+        """Directed edges the section will give, known before loading it; None if unknown."""
+        return None
+
+    def declared_size(self) -> GraphSize | None:
+        """The whole size of the graph, when the section alone tells it."""
+        return None
+
+
+class SyntheticData(DataSource):
     """Contextual stochastic block model: planted classes, homophilous edges, Gaussian features."""
+
+    generated: ClassVar[bool] = True
 
     source: Literal["synthetic"] = Field(
         description="synthetic: a contextual stochastic block model generated from a seed.",
@@ -144,8 +193,14 @@ class SyntheticData(StrictModel):
             raise ValueError(f"average_degree must be below nodes - 1 ({self.nodes - 1})")
         return self
 
+    def declared_edges(self) -> int:
+        return round(self.nodes * self.average_degree)
 
-class TableData(StrictModel):
+    def declared_size(self) -> GraphSize:
+        return GraphSize(self.nodes, self.declared_edges(), self.feature_dimension, self.classes)
+
+
+class TableData(DataSource):
     """A nodes file and an edges file, CSV or Parquet; paths are relative to the suite file.
 
     Nodes: an id column, feature columns (a list, a prefix, or else every other column), a label
@@ -244,8 +299,12 @@ class TableData(StrictModel):
     def content_digest(self) -> str:
         return file_digest(self.nodes) + file_digest(self.edges)
 
+    def declared_edges(self) -> int:
+        """Edge rows, twice when undirected (each row is both directions)."""
+        return table_rows(self.edges) * (1 if self.directed else 2)
 
-class KarateData(StrictModel):
+
+class KarateData(DataSource):
     """Zachary's karate club (Zachary, 1977), networkx's copy: 34 members, two factions."""
 
     source: Literal["karate"] = Field(
@@ -254,8 +313,11 @@ class KarateData(StrictModel):
         ),
     )
 
+    def declared_edges(self) -> int:
+        return 0  # small enough to count as none
 
-class DigitsData(StrictModel):
+
+class DigitsData(DataSource):
     """scikit-learn's digits (UCI optical recognition of handwritten digits) as a k-NN graph."""
 
     source: Literal["digits"] = Field(
@@ -263,9 +325,13 @@ class DigitsData(StrictModel):
     )
     neighbours: int = Field(10, ge=1, le=100, description="k of the k-nearest-neighbour graph.")
 
+    def declared_edges(self) -> int:
+        return 0  # small enough to count as none
 
-class PygData(StrictModel):
-    """A PyG dataset class from the allow-list PYG_DATASETS, stored under a local root folder."""
+
+class PygData(DataSource):
+    """A PyG dataset class from the allow-list PYG_DATASETS, stored under a local root folder.
+    Its edges are not counted without loading it."""
 
     source: Literal["pyg"] = Field(
         description="pyg: a dataset class of PyTorch Geometric, from an allow-list.",

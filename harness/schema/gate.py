@@ -6,11 +6,12 @@ committed and hand-edited), so both are validated here, at the boundary.
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import Any, Literal
 
-from pydantic import Field, field_validator, model_validator
+from pydantic import Field, create_model, field_validator, model_validator
 
 from harness.schema.base import StrictModel
+from harness.schema.tasks import declared_metrics, tasks_scoring
 
 Action = Literal["fail", "warn"]
 BASELINE_FORMAT = "heedful baseline"
@@ -69,45 +70,53 @@ class GateOptions(StrictModel):
     )
 
 
-class BaselineRun(StrictModel):
-    """One seed of one contender as recorded in a baseline."""
+LOWEST = min(metric.low for metric in declared_metrics().values())
+HIGHEST = max(metric.high for metric in declared_metrics().values())
 
-    seed: int = Field(ge=0, description="The run's seed.")
-    key: str = Field(
-        min_length=1,
-        description="The run key (hash of everything that determines the result).",
-    )
-    test_metric: float = Field(ge=0, le=1, description="Test value of the suite's metric.")
-    val_metric: float | None = Field(
-        None,
-        ge=0,
-        le=1,
-        description="Validation value of the suite's metric.",
-    )
-    test_accuracy: float | None = Field(
-        None,
-        ge=0,
-        le=1,
-        description="Test accuracy (node suites).",
-    )
-    test_macro_f1: float | None = Field(
-        None,
-        ge=0,
-        le=1,
-        description="Test macro-F1 (node suites).",
-    )
-    test_roc_auc: float | None = Field(None, ge=0, le=1, description="Test ROC-AUC.")
-    test_average_precision: float | None = Field(
-        None,
-        ge=0,
-        le=1,
-        description="Test average precision (link suites).",
-    )
-    test_hits_at_k: float | None = Field(None, ge=0, le=1, description="Test Hits@K (link suites).")
-    epochs: int = Field(ge=1, description="Epochs trained.")
-    seconds_per_epoch: float = Field(gt=0, description="Training seconds per epoch.")
-    peak_mb: float = Field(gt=0, description="Tensor memory of one training step, in MB.")
-    params: int = Field(ge=0, description="Trainable parameters.")
+
+def metric_fields() -> dict[str, Any]:
+    """A `test_<metric>` figure for every metric a task declares, in the metric's range."""
+    return {
+        f"test_{name}": (
+            float | None,
+            Field(
+                None,
+                ge=metric.low,
+                le=metric.high,
+                description=f"Test {metric.label} ({', '.join(tasks_scoring(name))} suites).",
+            ),
+        )
+        for name, metric in declared_metrics().items()
+    }
+
+
+BaselineRun = create_model(
+    "BaselineRun",
+    __base__=StrictModel,
+    __module__=__name__,
+    __doc__="One seed of one contender as recorded in a baseline.",
+    seed=(int, Field(ge=0, description="The run's seed.")),
+    key=(
+        str,
+        Field(
+            min_length=1,
+            description="The run key (hash of everything that determines the result).",
+        ),
+    ),
+    test_metric=(
+        float,
+        Field(ge=LOWEST, le=HIGHEST, description="Test value of the suite's metric."),
+    ),
+    val_metric=(
+        float | None,
+        Field(None, ge=LOWEST, le=HIGHEST, description="Validation value of the suite's metric."),
+    ),
+    **metric_fields(),
+    epochs=(int, Field(ge=1, description="Epochs trained.")),
+    seconds_per_epoch=(float, Field(gt=0, description="Training seconds per epoch.")),
+    peak_mb=(float, Field(gt=0, description="Tensor memory of one training step, in MB.")),
+    params=(int, Field(ge=0, description="Trainable parameters.")),
+)
 
 
 class BaselineContender(StrictModel):
@@ -158,15 +167,20 @@ class BaselineFile(StrictModel):
         description="Hash of the task the baseline covers (data, split, setting, metric).",
     )
     task: dict = Field(description="The task the baseline covers, as the hash reads it.")
-    metric: Literal["accuracy", "macro_f1", "roc_auc", "average_precision", "hits_at_k"] = Field(
-        description="The suite's metric.",
-    )
+    metric: str = Field(description="The suite's metric (one its task declares).")
     harness_version: str = Field(description="Heedful's version that saved the file.")
     saved_at: str = Field(description="When the file was saved (UTC, ISO 8601).")
     environment: Environment = Field(description="Where the figures were measured.")
     contenders: dict[str, BaselineContender] = Field(
         description="Per contender (or ablation point), its options and per-seed figures.",
     )
+
+    @field_validator("metric")
+    @classmethod
+    def _declared_metric(cls, metric: str) -> str:
+        if metric not in declared_metrics():
+            raise ValueError(f"allowed: {', '.join(declared_metrics())}")
+        return metric
 
     @model_validator(mode="after")
     def _some_contenders(self) -> BaselineFile:
