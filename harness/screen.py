@@ -80,8 +80,18 @@ def show_check(outcome: CheckOutcome) -> None:
         mode = ablation.mode.replace("_", "-") if ablation else ""
         points = f" ({count // len(suite.seed_list)} {mode} points)" if ablation else ""
         console.print(f"  {contender}: {count} runs{points}", markup=False)
-    console.print(f"{outcome.total} runs in total")
-    console.print("estimated peak memory:")
+    if outcome.map_runs:
+        levels = len(suite.homophily_map.levels)
+        console.print(
+            f"  homophily map: {outcome.map_runs} runs ({levels} levels on matched synthetic "
+            "graphs)"
+        )
+        console.print(
+            f"{outcome.total + outcome.map_runs} runs in total ({outcome.total} of the suite, "
+            f"{outcome.map_runs} of the homophily map)"
+        )
+    else:
+        console.print(f"{outcome.total} runs in total")
     for line in outcome.memory:
         console.print(line, markup=False)
     for line in outcome.tuning:

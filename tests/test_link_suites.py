@@ -197,7 +197,7 @@ def test_tuning_with_pruning_and_an_ablation_grid_run_on_link_suites(write_suite
     path = write_suite(tuned, "tuned.toml")
     url = f"sqlite:///{tmp_path / 'tuning.db'}"
     runs_db = tmp_path / "runs.db"
-    arguments = ["--store", str(runs_db), "--storage", url, "--quiet"]
+    arguments = ["--store", str(runs_db), "--tuning-database", url, "--quiet"]
     assert main(["run", str(path), *arguments]) == 0
     runs = store.load_runs(runs_db, ["tiny_stations"])
     assert len(runs) == 4 and runs["test_hits_at_k"].notna().all()

@@ -19,10 +19,10 @@ from harness.schema.suite import Suite
 
 
 def schema_models() -> list[type[BaseModel]]:
-    """Every pydantic model class defined in harness/schema/."""
+    """Every pydantic model class defined in harness/schema/ and its subpackages."""
     found = []
-    for module_info in pkgutil.iter_modules(harness.schema.__path__):
-        module = importlib.import_module(f"harness.schema.{module_info.name}")
+    for module_info in pkgutil.walk_packages(harness.schema.__path__, "harness.schema."):
+        module = importlib.import_module(module_info.name)
         for _, value in inspect.getmembers(module, inspect.isclass):
             if issubclass(value, BaseModel) and value.__module__ == module.__name__:
                 found.append(value)

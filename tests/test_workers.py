@@ -65,7 +65,7 @@ def start_worker(suite: Path, store_path: Path, url: str, core: int) -> subproce
     log = open(store_path.with_suffix(f".{core}.{time.monotonic_ns()}.log"), "w")  # noqa: SIM115
     worker = subprocess.Popen(
         [sys.executable, "-m", "harness.cli", "run", str(suite), "--quiet"]
-        + ["--store", str(store_path), "--storage", url],
+        + ["--store", str(store_path), "--tuning-database", url],
         stdout=log,
         stderr=subprocess.STDOUT,
         preexec_fn=lambda: os.sched_setaffinity(0, {cores[core % len(cores)]}),

@@ -71,7 +71,8 @@ def tuning_summary(suite: Suite, storage: optuna.storages.BaseStorage) -> list[C
         except KeyError:
             raise InputError(
                 f"suite '{suite.name}': no tuning study for contender '{plan.contender}' in this "
-                "storage; allowed: run the suite first (heedful run), with the same --storage"
+                "tuning database; allowed: run the suite first (heedful run), with the same "
+                "--tuning-database"
             ) from None
         used = usage(study)
         completed = [t for t in study.get_trials(deepcopy=False) if t.state == TrialState.COMPLETE]
