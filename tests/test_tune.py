@@ -231,3 +231,18 @@ def test_unreachable_or_malformed_storage_is_one_line_and_writes_nothing(tmp_pat
     )
     assert "--tuning-database: given 'nonsense'" in capsys.readouterr().err
     assert not store_path.exists()
+
+
+def test_settings_that_all_score_the_same_have_no_importances():
+    """fANOVA (Hutter et al., 2014) splits the variance of the scores among the settings; when
+    every trial scored the same there is none to split (Optuna raises "zero total variance")."""
+    from harness.tuning.results import importances
+
+    study = optuna.create_study(direction="maximize")
+    for rate, width in ((0.01, 4), (0.1, 8), (0.05, 16)):
+        study.enqueue_trial({"learning_rate": rate, "hidden": width})
+        trial = study.ask()
+        trial.suggest_float("learning_rate", 0.001, 1.0, log=True)
+        trial.suggest_categorical("hidden", [4, 8, 16])
+        study.tell(trial, 0.75)
+    assert importances(study) == {}
