@@ -492,7 +492,7 @@ CASES: list[Bad] = [
             .replace("feature_dimension = 8", "feature_dimension = 10000")
         },
     ),
-    # command-line arguments (2: jobs within the cores; 11: --storage needs [tuning])
+    # command-line arguments (2: jobs within the cores; 11: --tuning-database needs [tuning])
     command("no_command", "", "the following arguments are required: COMMAND"),
     command("unknown_command", "launch {suite}", "invalid choice: 'launch'"),
     command("unknown_option", "run {suite} --fast", "unrecognized arguments: --fast"),
@@ -513,18 +513,18 @@ CASES: list[Bad] = [
     ),
     command(
         "storage_without_tuning",
-        "run {suite} --storage sqlite:///{folder}/t.db --store {store}",
-        "--storage: suite 'tiny_couriers' has no [tuning] table",
+        "run {suite} --tuning-database sqlite:///{folder}/t.db --store {store}",
+        "--tuning-database: suite 'tiny_couriers' has no [tuning] table",
     ),
     command(
         "storage_dead_without_tuning",
-        "run {suite} --storage postgresql://x@127.0.0.1:1/d --store {store}",
+        "run {suite} --tuning-database postgresql://x@127.0.0.1:1/d --store {store}",
         "has no [tuning] table",
     ),
     command(
         "storage_nonsense",
-        "run {folder}/tuned.toml --storage nonsense --store {store}",
-        "--storage: given 'nonsense'",
+        "run {folder}/tuned.toml --tuning-database nonsense --store {store}",
+        "--tuning-database: given 'nonsense'",
         **{"tuned.toml": TUNED},
     ),
     command("tuning_of_untuned", "tuning {suite} --store {store}", "the suite has no [tuning]"),

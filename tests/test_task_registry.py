@@ -161,17 +161,33 @@ def test_a_toy_task_is_one_module_and_one_registry_line(monkeypatch) -> None:
     assert expected == pytest.approx((2 / 3 + 1 + 0) / 3)
 
 
-def test_a_toy_task_gets_its_store_column_and_baseline_figure() -> None:
-    """Tables and the baseline schema are built when first imported: with the registry line in
-    before that, the store has a `test_balanced_accuracy` column and baselines its figure."""
+def test_a_toy_task_gets_its_table_store_column_and_baseline_figure() -> None:
+    """The suite schema, the store's tables and the baseline schema are built when first
+    imported: with the registry line in before that, suites take the task's own `[toy]` table
+    (keyed, refused for other tasks), the store has a `test_balanced_accuracy` column and
+    baselines its figure."""
     program = (
+        "from dataclasses import replace\n"
         "from harness.schema.tasks import TASKS\n"
-        "from toy_task import TOY_LABELS, NAME\n"
-        "TASKS[NAME] = TOY_LABELS\n"
+        "from toy_task import TOY_LABELS, NAME, ToyOptions\n"
+        "TASKS[NAME] = replace(TOY_LABELS, options_section='toy', options=ToyOptions)\n"
+        "from harness.errors import InputError\n"
+        "from harness.planning import expand, parse_suite\n"
         "from harness.storage.tables import TEST_COLUMNS\n"
         "from harness.schema.gate import BaselineRun\n"
-        "print('test_balanced_accuracy' in TEST_COLUMNS,"
-        " 'test_balanced_accuracy' in BaselineRun.model_fields)\n"
+        "raw = {'name': 's', 'task': NAME, 'data': {'source': 'karate'},\n"
+        "       'contenders': {'plain': {'model': 'mlp'}}, 'toy': {'class_weight_power': 0.5}}\n"
+        "suite = parse_suite(raw, 's.toml')\n"
+        "keys = {spec.key for spec in expand(suite)}\n"
+        "plain = parse_suite({**raw, 'toy': {}}, 's.toml')\n"
+        "try:\n"
+        "    parse_suite({**raw, 'task': 'node_classification', 'metric': 'accuracy'}, 's.toml')\n"
+        "except InputError as error:\n"
+        "    print(str(error).startswith(\"s.toml: toy: [toy] is for task = 'toy_labels'\"))\n"
+        "print(suite.task_options.class_weight_power,\n"
+        "      keys.isdisjoint(spec.key for spec in expand(plain)),\n"
+        "      'test_balanced_accuracy' in TEST_COLUMNS,\n"
+        "      'test_balanced_accuracy' in BaselineRun.model_fields)\n"
     )
     path = os.pathsep.join([str(TESTS), os.environ.get("PYTHONPATH", "")])
     done = subprocess.run(
@@ -181,7 +197,7 @@ def test_a_toy_task_gets_its_store_column_and_baseline_figure() -> None:
         env={**os.environ, "PYTHONPATH": path},
         check=True,
     )
-    assert done.stdout.split() == ["True", "True"]
+    assert done.stdout.split() == ["True", "0.5", "True", "True", "True"]
 
 
 @pytest.mark.parametrize("name", list(TASKS))

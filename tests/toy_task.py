@@ -1,7 +1,8 @@
 """A toy task, as a contributor would add one: this module plus one line in TASKS.
 
 "toy_labels" classifies nodes like node classification but scores balanced accuracy, its own
-metric, takes only fraction and per-class splits and refuses the homophily map. The tests add
+metric, takes only fraction and per-class splits and refuses the homophily map. ToyOptions is
+the table of its own a task may declare (options_section, options). The tests add
 its registry line themselves (tests/test_task_registry.py), so the shipped registry stays as it
 is.
 """
@@ -11,7 +12,9 @@ from __future__ import annotations
 from collections.abc import Mapping
 
 import numpy as np
+from pydantic import Field
 
+from harness.schema.base import StrictModel
 from harness.schema.tasks.declaration import Metric, TaskKind
 
 NAME = "toy_labels"
@@ -25,6 +28,12 @@ def balanced_accuracy(
     from sklearn.metrics import balanced_accuracy_score
 
     return float(balanced_accuracy_score(labels, probabilities.argmax(1)))
+
+
+class ToyOptions(StrictModel):
+    """How the toy task weighs its classes (a table of its own, `[toy]`)."""
+
+    class_weight_power: float = Field(0.0, ge=0, le=1, description="Inverse-frequency power.")
 
 
 TOY_LABELS = TaskKind(

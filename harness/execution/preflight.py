@@ -62,11 +62,11 @@ def check_edge_splits(suite: Suite, data: Data, source: str) -> None:
     """Every seed's edge split: enough edges for each share and enough non-edges."""
     for seed in suite.seed_list:
         try:
-            split = EDGE_SPLITS[suite.setting](data, suite.split, suite.link_options, seed)
+            split = EDGE_SPLITS[suite.setting](data, suite.split, suite.task_options, seed)
         except InputError as error:
             raise InputError(f"{source}: {error}") from None
         if suite.metric == "hits_at_k":
-            check_hits_k(suite.link_options.hits_k, split, seed, source)
+            check_hits_k(suite.task_options.hits_k, split, seed, source)
 
 
 def check_hits_k(hits_k: int, split: EdgeSplit, seed: int, source: str) -> None:

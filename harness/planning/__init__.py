@@ -246,6 +246,12 @@ def matched_section(profile: GraphShape, level: float, suite: Suite) -> Syntheti
     )
 
 
+def map_run_count(suite: Suite) -> int:
+    """Runs the homophily map adds (as many as map_specs gives, known before any data)."""
+    options = suite.homophily_map
+    return 0 if options is None else len(options.levels) * len(suite.contenders) * options.seeds
+
+
 def map_specs(suite: Suite, profile: GraphShape) -> list[RunSpec]:
     """Every contender (its own options, no ablation) at every level, for the map's seeds."""
     # a split column belongs to the user's data; synthetic graphs use the default fractions

@@ -105,10 +105,6 @@ def to_text(blob: bytes) -> str:
     return base64.b64encode(blob).decode("ascii")
 
 
-def from_text(text: str) -> bytes:
-    return base64.b64decode(text)
-
-
 def load_predictions(store_path: str | Path, keys: Iterable[str]) -> dict[str, NodePredictions]:
     """The stored test predictions of these run keys, decoded; keys without any are left out."""
     return {key: decode(blob) for key, blob in load_encoded_predictions(store_path, keys).items()}
