@@ -508,6 +508,39 @@ CASES: list[Bad] = [
         "tuning: a gate compares fixed contender settings",
         **{"tuned.toml": TUNED},
     ),
+    # issue 27, item 12: numbers past what the libraries take, and compile given as text
+    suite("seed_above_32_bits", "seeds = 2", "seeds = [4294967296]", "seeds: given [4294967296]"),
+    suite("seed_far_above", "seeds = 2", "seeds = [1, 18446744073709551616]", "seeds: given"),
+    suite(
+        "balance_nan",
+        "graph_seed = 3",
+        "graph_seed = 3\nclass_balance = [nan, 1, 1]",
+        "class_balance entries must all be finite numbers > 0",
+    ),
+    suite("balance_inf", "graph_seed = 3", "graph_seed = 3\nclass_balance = [inf, 1, 1]", "finite"),
+    suite(
+        "balance_minus_inf", "graph_seed = 3", "graph_seed = 3\nclass_balance = [1, -inf, 1]", "> 0"
+    ),
+    suite(
+        "compile_yes",
+        "epochs = 15",
+        'epochs = 15\ncompile = "yes"',
+        "training.compile: given 'yes'",
+    ),
+    suite("compile_one", "epochs = 15", "epochs = 15\ncompile = 1", "training.compile: given 1;"),
+    suite("compile_zero", "epochs = 15", "epochs = 15\ncompile = 0", "training.compile: given 0;"),
+    suite(
+        "compile_text_true", "epochs = 15", 'epochs = 15\ncompile = "true"', "compile: given 'true'"
+    ),
+    suite(
+        "contender_compile_yes",
+        "hidden = 4",
+        'hidden = 4\ntraining = {compile = "on"}',
+        "contenders.attention.training.compile: given 'on'",
+    ),
+    appended(
+        "tuning_seed_above_32_bits", "[tuning]\ntrials = 2\nseed = 4294967296\n", "tuning.seed"
+    ),
 ]
 
 

@@ -10,7 +10,6 @@ from harness.cli import main
 from harness.execution.memory import (
     GIB,
     GraphSize,
-    declared_size,
     estimate_runs,
     message_edges,
     run_bytes,
@@ -89,7 +88,7 @@ hidden = 32
 
 def estimate_of(path) -> float:
     suite = load_suite(path)
-    return estimate_runs(design_points(suite), suite.training, declared_size(suite.data))[0].bytes
+    return estimate_runs(design_points(suite), suite.training, suite.data.declared_size())[0].bytes
 
 
 def test_check_stops_a_run_above_the_memory_limit_and_suggests_sampling(write_suite, capsys):

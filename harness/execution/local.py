@@ -15,7 +15,7 @@ from harness.execution.runs import Outcome, failure_line, pending, run_and_store
 from harness.execution.sharing import share_with_workers
 from harness.models import load_builders
 from harness.planning import RunSpec
-from harness.planning.run_choices import COMPILE_MIN_EDGES, declared_edges
+from harness.planning.run_choices import COMPILE_MIN_EDGES
 from harness.storage import store
 
 # a graph this large gives a lone last run every core (README, Processes and threads)
@@ -32,7 +32,7 @@ def last_run_threads(spec: RunSpec, jobs: int, threads: int) -> int:
     command was given, jobs x threads within the usable cores, since the other processes would
     sit idle; on a small graph more threads gain little, so it keeps `threads`.
     """
-    edges = declared_edges(spec.data)
+    edges = spec.data.declared_edges()
     if jobs > 1 and edges is not None and edges >= LARGE_GRAPH_EDGES:
         return max(threads, min(jobs * threads, available_cores()))
     return threads

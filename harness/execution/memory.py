@@ -18,6 +18,8 @@ from pydantic import BaseModel
 
 from harness.errors import InputError
 from harness.planning import design_points
+from harness.schema.contenders import ContenderBase
+from harness.schema.data import DataSource, GraphSize
 from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.training import Training
 
@@ -32,28 +34,6 @@ SYNTHETIC_BYTES_PER_FEATURE = 20  # float64 means + noise, then the float32 copy
 SYNTHETIC_BYTES_PER_EDGE = 80  # numpy draws, both directions, coalescing
 
 
-@dataclass(frozen=True)
-class GraphSize:
-    """What the estimate needs to know of a graph: directed edges (both directions counted)."""
-
-    nodes: int
-    edges: int
-    features: int
-    classes: int
-
-    @property
-    def average_degree(self) -> float:
-        return self.edges / max(self.nodes, 1)
-
-
-def declared_size(data: BaseModel) -> GraphSize | None:
-    """Size of a synthetic graph from its data section, before generating it; None otherwise."""
-    if data.source != "synthetic":
-        return None
-    edges = round(data.nodes * data.average_degree)
-    return GraphSize(data.nodes, edges, data.feature_dimension, data.classes)
-
-
 def machine_bytes() -> int:
     """Physical memory of this machine."""
     return os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
@@ -65,21 +45,20 @@ def hop_edges(size: GraphSize, radius: int) -> float:
     return size.nodes * min(reach, size.nodes - 1)
 
 
-def layer_shapes(options: BaseModel, size: GraphSize) -> list[tuple[int, int, int]]:
+def layer_shapes(options: ContenderBase, size: GraphSize) -> list[tuple[int, int, int]]:
     """(input width, output width per head, heads) of every layer."""
     hidden, layers = options.hidden, options.layers
     width = options.start_width if options.feature_start == "identity" else size.features
-    heads = options.heads_per_layer() if hasattr(options, "heads_per_layer") else [1] * layers
-    merges = options.merge_per_layer() if hasattr(options, "merge_per_layer") else None
+    heads, merges = options.heads_per_layer(), options.merge_per_layer()
     shapes = []
     for index in range(layers):
         out = size.classes if index == layers - 1 else hidden
         shapes.append((width, out, heads[index]))
-        width = out * heads[index] if merges and merges[index] == "concatenate" else out
+        width = out * heads[index] if merges[index] == "concatenate" else out
     return shapes
 
 
-def saved_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float) -> float:
+def saved_bytes(options: ContenderBase, size: GraphSize, nodes: float, edges: float) -> float:
     """Tensors autograd saves for backward in one training step over `nodes` nodes and `edges`
     message edges, from the floats its kind declares (within 25% of fit's measurement on a
     3,000-node graph, tests/test_memory.py); every message edge also keeps its two indices."""
@@ -92,23 +71,26 @@ def saved_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float)
     return saved
 
 
-def step_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float) -> float:
+def step_bytes(options: ContenderBase, size: GraphSize, nodes: float, edges: float) -> float:
     """Peak of one training step: the saved tensors times BACKWARD_FACTOR, plus the widest
     layer's messages, which live only while that layer runs."""
     widest = max(heads * out for _, out, heads in layer_shapes(options, size))
     return BACKWARD_FACTOR * saved_bytes(options, size, nodes, edges) + edges * widest * FLOAT
 
 
-def message_edges(options: BaseModel, size: GraphSize) -> float:
+def message_edges(options: ContenderBase, size: GraphSize) -> float:
     """Edges every layer runs on in a full-graph pass: k-hop set, plus self-loops."""
     kind = MODEL_KINDS[options.model]
     if not kind.message_edges:
         return 0.0
-    edges = hop_edges(size, options.hop_radius) if hasattr(options, "hop_radius") else size.edges
+    radius = options.layer_radius()
+    edges = size.edges if radius == 1 else hop_edges(size, radius)
     return edges + (size.nodes if kind.self_loops else 0)
 
 
-def batch_extent(options: BaseModel, size: GraphSize, training: Training) -> tuple[float, float]:
+def batch_extent(
+    options: ContenderBase, size: GraphSize, training: Training
+) -> tuple[float, float]:
     """Expected nodes and edges of one sampled batch, capped by the graph."""
     if not MODEL_KINDS[options.model].message_edges:
         return min(training.batch_size, size.nodes), 0.0
@@ -125,13 +107,13 @@ def batch_extent(options: BaseModel, size: GraphSize, training: Training) -> tup
     return nodes, min(edges, message_edges(options, size) * len(counts))
 
 
-def graph_bytes(size: GraphSize, options: BaseModel) -> float:
+def graph_bytes(size: GraphSize, options: ContenderBase) -> float:
     """The graph the process holds: features, labels, edges (and the k-hop set)."""
     edges = size.edges + message_edges(options, size)
     return size.nodes * (size.features * FLOAT + INDEX) + edges * 2 * INDEX
 
 
-def run_bytes(options: BaseModel, size: GraphSize, training: Training) -> float:
+def run_bytes(options: ContenderBase, size: GraphSize, training: Training) -> float:
     """Estimated peak resident memory of one run."""
     parameters = sum((w * o * h + o * h) * 4 * FLOAT for w, o, h in layer_shapes(options, size))
     if training.sampled:
@@ -145,9 +127,9 @@ def run_bytes(options: BaseModel, size: GraphSize, training: Training) -> float:
     return BASE_BYTES + graph_bytes(size, options) + parameters + step
 
 
-def data_bytes(data: BaseModel, size: GraphSize) -> float:
+def data_bytes(data: DataSource, size: GraphSize) -> float:
     """Peak while generating a synthetic graph (numpy works in float64 and int64)."""
-    if data.source != "synthetic":
+    if not data.generated:
         return 0.0
     features = size.nodes * size.features * SYNTHETIC_BYTES_PER_FEATURE
     return BASE_BYTES + features + size.edges * SYNTHETIC_BYTES_PER_EDGE
@@ -236,7 +218,7 @@ def check_suite_memory(
     """Estimates of a suite's runs, stopping with an input error when they do not fit;
     empty when the graph's size is not known yet (it is known before loading only for
     synthetic data; pass `loaded` once the graph is loaded)."""
-    size = declared_size(suite.data) or loaded
+    size = suite.data.declared_size() or loaded
     if size is None:
         return []
     limit = machine_bytes() if limit_gib is None else limit_gib * GIB

@@ -17,6 +17,8 @@ from harness.errors import InputError
 from harness.execution.memory import GraphSize
 from harness.planning import design_points
 from harness.schema.suite import Suite
+from harness.schema.tasks import task_kind
+from harness.schema.tasks.declaration import imported
 
 
 @dataclass(frozen=True)
@@ -62,14 +64,11 @@ def check_edge_splits(suite: Suite, data: Data, source: str) -> None:
             raise InputError(f"{source}: {error}") from None
 
 
-SPLIT_CHECKS = {"node_classification": check_node_splits, "link_prediction": check_edge_splits}
-
-
 def preflight(suite: Suite, source: str) -> DataFacts:
     """Load the graph and draw every seed's split; errors name the suite file and key."""
     data = load_graph(suite.data)
     classes = int(data.y.max()) + 1
-    SPLIT_CHECKS[suite.task](suite, data, source)
+    imported(task_kind(suite.task).data_check)(suite, data, source)
     check_contender_graphs(design_points(suite), data, suite.hops.memory_budget_mb, source)
     measured = measure_homophily(data.edge_index, data.y)
     return DataFacts(
@@ -84,10 +83,11 @@ def preflight(suite: Suite, source: str) -> DataFacts:
 
 
 def unused_label_notes(suite: Suite, source: str) -> tuple[str, ...]:
-    """A warning when a link suite names a label column: nothing in it uses labels."""
-    if suite.task == "link_prediction" and "label_column" in suite.data.model_fields_set:
+    """A warning when a suite whose task reads no node labels names a label column."""
+    kind = task_kind(suite.task)
+    if not kind.node_labels and "label_column" in suite.data.model_fields_set:
         return (
-            f"{source}: data.label_column: warning: link prediction uses no node labels; "
+            f"{source}: data.label_column: warning: {kind.title} uses no node labels; "
             "the column only feeds the data profile",
         )
     return ()

@@ -28,9 +28,10 @@ from harness.schema.ablation import (
 )
 from harness.schema.base import format_validation_error, key_dump
 from harness.schema.batching import check_batching
-from harness.schema.data import FractionSplit, SyntheticData
+from harness.schema.data import SyntheticData
+from harness.schema.splits import FractionSplit
 from harness.schema.suite import Suite
-from harness.schema.tasks import DEFAULT_TASK
+from harness.schema.tasks import DEFAULT_TASK, task_kind
 from harness.schema.training import Training
 from harness.schema.tuning import TRAINING_KEYS, check_tuning
 
@@ -55,7 +56,7 @@ class RunSpec:
     point: dict[str, Any] = field(default_factory=dict)
     hop_cache: str = DEFAULT_HOP_CACHE  # where k-hop edge sets are cached; not in the key
     task: str = DEFAULT_TASK
-    link: BaseModel | None = None  # the `[link]` options of a link prediction suite
+    link: BaseModel | None = None  # the task's own table (`[link]` of a link suite), if any
     keep_predictions: bool = True  # store test-node probabilities (breakdown); not in the key
 
     @property
@@ -84,9 +85,11 @@ class RunSpec:
         }
         if sampled:  # the two samplers draw different batches from one seed
             determining["sampler"] = sampler_in_use()
-        if self.task != DEFAULT_TASK:  # keys of node classification runs stay as they were
+        kind = task_kind(self.task)
+        if kind.keyed:  # keys of runs stored before tasks existed stay as they were
             determining["task"] = self.task
-            determining["link"] = key_dump(self.link)
+            if kind.options_section:
+                determining[kind.options_section] = key_dump(self.link)
         return json_digest(determining)
 
     @property
@@ -188,7 +191,7 @@ def run_spec(
         point=design.point,
         hop_cache=hop_cache_directory(suite.hops),
         task=suite.task,
-        link=suite.link_options if suite.task == "link_prediction" else None,
+        link=suite.task_options,
         keep_predictions=suite.analysis.breakdown,
     )
 

@@ -6,6 +6,7 @@ from typing import TYPE_CHECKING
 
 from harness.errors import InputError
 from harness.schema.ablation import configured_points, point_label
+from harness.schema.tasks import task_kind
 from harness.schema.tuning import spaces
 
 if TYPE_CHECKING:
@@ -27,12 +28,12 @@ def check_batching(suite: Suite, source: str) -> None:
         training = options.training.apply(suite.training)
         if not training.sampled:
             continue
-        if suite.task == "link_prediction":
+        if not task_kind(suite.task).sampled_batches:
             own = suite.contenders[contender].training.batching is not None
             key = f"contenders.{contender}.training" if own else "training"
             raise InputError(
                 f'{source}: {key}.batching: given "sampled"; sampled batches are not extended '
-                'to link prediction; allowed: "full"'
+                f'to {task_kind(suite.task).title}; allowed: "full"'
             )
         where = f"{source}: {_fanout_source(suite, contender)}"
         layers = options.layers
