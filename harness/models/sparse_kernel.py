@@ -23,8 +23,7 @@ from dataclasses import dataclass
 import torch
 from torch import Tensor
 
-# torch marks CSR support as beta and warns once per process; the operations used are stable
-warnings.filterwarnings("ignore", message="Sparse CSR tensor support is in beta")
+BETA_WARNING = "Sparse CSR tensor support is in beta"
 
 
 @dataclass(frozen=True)
@@ -55,15 +54,16 @@ class TargetGraph:
         return self.source_index.numel()
 
     def matrix(self, values: Tensor, transposed: bool = False) -> Tensor:
-        """The N x N CSR matrix of one head's weights (given in target order)."""
-        if transposed:
-            return torch.sparse_csr_tensor(
-                self.back_pointer, self.back_targets, values, (self.nodes, self.nodes),
-                check_invariants=False,
-            )
-        return torch.sparse_csr_tensor(
-            self.pointer, self.sources, values, (self.nodes, self.nodes), check_invariants=False
+        """The N x N CSR matrix of one head's weights (in target order, or source order for
+        the transpose)."""
+        rows, columns = (
+            (self.back_pointer, self.back_targets) if transposed else (self.pointer, self.sources)
         )
+        with warnings.catch_warnings():  # torch marks CSR tensors as beta, once per process
+            warnings.filterwarnings("ignore", message=BETA_WARNING)
+            return torch.sparse_csr_tensor(
+                rows, columns, values, (self.nodes, self.nodes), check_invariants=False
+            )
 
 
 def target_graph(edge_index: Tensor, nodes: int) -> TargetGraph:
@@ -90,6 +90,32 @@ def target_graph(edge_index: Tensor, nodes: int) -> TargetGraph:
         back_targets=targets[back_order].to(index),
         back_order=back_order,
     )
+
+
+class TargetGraphs:
+    """The target-order form of the last few edge tensors a model ran on (the training graph,
+    the edges into the validation rows), keyed by the tensors themselves (held, so that no
+    other tensor can take their address) and their in-place version counters."""
+
+    def __init__(self, size: int = 4) -> None:
+        self.size = size
+        self.entries: list[tuple[Tensor, int, int, TargetGraph]] = []
+
+    @torch.compiler.disable  # a lookup and a sort, not math to compile
+    def get(self, edge_index: Tensor, nodes: int) -> TargetGraph:
+        for entry in self.entries:
+            if entry[0] is edge_index and entry[1:3] == (edge_index._version, nodes):
+                return entry[3]
+        graph = target_graph(edge_index, nodes)
+        self.entries = [(edge_index, edge_index._version, nodes, graph), *self.entries]
+        del self.entries[self.size :]
+        return graph
+
+    def __getstate__(self) -> dict:
+        return {"size": self.size}  # a copied or pickled model sorts its edges afresh
+
+    def __setstate__(self, state: dict) -> None:
+        self.__init__(state["size"])
 
 
 def segment_sum(edge_values: Tensor, graph: TargetGraph, axis: int = 1) -> Tensor:
@@ -216,18 +242,24 @@ class ToTargets(torch.autograd.Function):
         return segment_sum(grad, ctx.graph, axis=0), None
 
 
+# The pieces run as they are inside compiled code too (graph breaks): dynamo cannot trace CSR
+# tensors, and the element-wise steps between them are what the compiler can fuse.
+@torch.compiler.disable
 def segment_softmax(scores: Tensor, graph: TargetGraph) -> Tensor:
     return SegmentSoftmax.apply(scores, graph)
 
 
+@torch.compiler.disable
 def aggregate(weights: Tensor, values: Tensor, graph: TargetGraph) -> Tensor:
     return Aggregate.apply(weights, values, graph)
 
 
+@torch.compiler.disable
 def pair_scores(query: Tensor, key: Tensor, graph: TargetGraph) -> Tensor:
     return PairScores.apply(query, key, graph)
 
 
+@torch.compiler.disable
 def at_targets(node_values: Tensor, graph: TargetGraph) -> Tensor:
     """Each edge's target value: [N, H] -> [H, E], or [N, H, C] -> [E, H, C]."""
     return ToTargets.apply(node_values, graph)

@@ -36,6 +36,11 @@ from harness.models.sparse_kernel import (
 )
 
 
+def by_head(layer: nn.Module, linear: nn.Module, x: Tensor) -> Tensor:
+    """A linear map of the nodes, split by head: [N, H, C]."""
+    return linear(x).view(-1, layer.heads, layer.out_channels)
+
+
 def edge_features(layer: nn.Module, edge_attr: Tensor | None, graph: TargetGraph) -> Tensor | None:
     """The layer's edge projection W_e e_ij [E, H, C] in target order, or None."""
     if edge_attr is None or getattr(layer, "lin_edge", None) is None:
@@ -64,17 +69,25 @@ def finish(layer: nn.Module, out: Tensor, x: Tensor) -> Tensor:
     return out if layer.bias is None else out + layer.bias
 
 
+def pair_sum(
+    from_source: Tensor, at_target: Tensor, graph: TargetGraph, edge_part: Tensor | None
+) -> Tensor:
+    """Per edge j -> i: the source's part plus the target's, plus the edge's own if any."""
+    total = at_sources(from_source, graph) + at_targets(at_target, graph)
+    return total if edge_part is None else total + edge_part
+
+
 def static_attention(
     layer: GATConv, x: Tensor, graph: TargetGraph, edge_attr: Tensor | None = None
 ) -> Tensor:
-    heads, width = layer.heads, layer.out_channels
-    projected = layer.lin(x).view(-1, heads, width)
-    from_source = (projected * layer.att_src).sum(-1)
-    at_target = (projected * layer.att_dst).sum(-1)
-    scores = at_sources(from_source, graph) + at_targets(at_target, graph)
+    projected = by_head(layer, layer.lin, x)
     edges = edge_features(layer, edge_attr, graph)
-    if edges is not None:
-        scores = scores + (edges * layer.att_edge).sum(-1).t()
+    scores = pair_sum(
+        (projected * layer.att_src).sum(-1),
+        (projected * layer.att_dst).sum(-1),
+        graph,
+        None if edges is None else (edges * layer.att_edge).sum(-1).t(),
+    )
     scores = functional.leaky_relu(scores, layer.negative_slope)
     return finish(layer, aggregate(weigh(layer, scores, graph), projected, graph), x)
 
@@ -82,13 +95,9 @@ def static_attention(
 def dynamic_attention(
     layer: GATv2Conv, x: Tensor, graph: TargetGraph, edge_attr: Tensor | None = None
 ) -> Tensor:
-    heads, width = layer.heads, layer.out_channels
-    source = layer.lin_l(x).view(-1, heads, width)
-    target = source if layer.share_weights else layer.lin_r(x).view(-1, heads, width)
-    hidden = at_sources(source, graph) + at_targets(target, graph)
-    edges = edge_features(layer, edge_attr, graph)
-    if edges is not None:
-        hidden = hidden + edges
+    source = by_head(layer, layer.lin_l, x)
+    target = source if layer.share_weights else by_head(layer, layer.lin_r, x)
+    hidden = pair_sum(source, target, graph, edge_features(layer, edge_attr, graph))
     scores = (functional.leaky_relu(hidden, layer.negative_slope) * layer.att).sum(-1).t()
     return finish(layer, aggregate(weigh(layer, scores, graph), source, graph), x)
 
@@ -96,15 +105,13 @@ def dynamic_attention(
 def dot_product_attention(
     layer: TransformerConv, x: Tensor, graph: TargetGraph, edge_attr: Tensor | None = None
 ) -> Tensor:
-    heads, width = layer.heads, layer.out_channels
-    query = layer.lin_query(x).view(-1, heads, width)
-    key = layer.lin_key(x).view(-1, heads, width)
-    value = layer.lin_value(x).view(-1, heads, width)
+    query, key = by_head(layer, layer.lin_query, x), by_head(layer, layer.lin_key, x)
+    value = by_head(layer, layer.lin_value, x)
     scores = pair_scores(query, key, graph)
     edges = edge_features(layer, edge_attr, graph)
     if edges is not None:  # <q_i, k_j + e_ij> = <q_i, k_j> + <q_i, e_ij>
         scores = scores + (at_targets(query, graph) * edges).sum(-1).t()
-    weights = weigh(layer, scores / math.sqrt(width), graph)
+    weights = weigh(layer, scores / math.sqrt(layer.out_channels), graph)
     out = aggregate(weights, value, graph)
     if edges is not None:  # messages v_j + e_ij: the edge part summed per target
         out = out + segment_sum(weights.t().unsqueeze(-1) * edges, graph, axis=0)
