@@ -23,6 +23,40 @@ def _fanout_source(suite: Suite, contender: str) -> str:
     return "training.fanout"
 
 
+def check_options_apply(suite: Suite, source: str) -> None:
+    """`fanout` applies only to sampled batches and `compile = true` only to full ones: each is
+    refused where no run would use it, rather than silently ignored."""
+    inherit_fanout = inherit_compile = False  # whether any run uses the suite table's value
+    for contender, _, options in configured_points(suite.contenders, suite.ablation):
+        own = options.training
+        training = own.apply(suite.training)
+        where = f"{source}: contenders.{contender}.training"
+        if own.fanout is not None and not training.sampled:
+            raise InputError(unused_fanout(where, own.fanout))
+        if own.compile is True and training.sampled:
+            raise InputError(unused_compile(where))
+        inherit_fanout |= own.fanout is None and training.sampled
+        inherit_compile |= own.compile is None and not training.sampled
+    if suite.training.fanout is not None and not inherit_fanout:
+        raise InputError(unused_fanout(f"{source}: training", suite.training.fanout))
+    if suite.training.compile is True and not inherit_compile:
+        raise InputError(unused_compile(f"{source}: training"))
+
+
+def unused_fanout(where: str, fanout: object) -> str:
+    return (
+        f"{where}.fanout: given {fanout!r} where every run trains on full batches, which draw no "
+        'neighbours; allowed: leave fanout out, or batching = "sampled"'
+    )
+
+
+def unused_compile(where: str) -> str:
+    return (
+        f"{where}.compile: given true where every run trains on sampled batches, which are never "
+        'compiled (every batch has another shape); allowed: false or "auto", or batching = "full"'
+    )
+
+
 def check_batching(suite: Suite, source: str) -> None:
     """Sampled contenders need a fan-out with one entry per layer (or "all")."""
     tuned = {} if suite.tuning is None else spaces(suite.tuning, suite.contenders)

@@ -8,22 +8,17 @@ scikit-learn.
 
 from __future__ import annotations
 
-import importlib
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
 from pydantic import BaseModel
 
+from harness.schema.named import imported
+
 # a scorer: score(predicted, truth, facts) -> float, numpy arrays in; `facts` holds what the
 # task's runs know besides them, e.g. {"classes": 7} or {"hits_k": 50}
 Scorer = Callable[[Any, Any, Mapping[str, int]], float]
-
-
-def imported(path: str) -> Any:
-    """The object a "module:name" path names, imported on first use."""
-    module, _, name = path.partition(":")
-    return getattr(importlib.import_module(module), name)
 
 
 @dataclass(frozen=True)

@@ -58,6 +58,7 @@ class LinkOptions(StrictModel):
         description="Test scores pass messages over the validation edges too.",
     )
 
+
 def shares_cover_the_edges(split: SplitSection) -> str | None:
     """Shares of the edges must sum to 1: every edge is trained on, validated or tested."""
     total = split.train + split.validation + split.test
