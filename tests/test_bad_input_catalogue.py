@@ -492,7 +492,7 @@ CASES: list[Bad] = [
             .replace("feature_dimension = 8", "feature_dimension = 10000")
         },
     ),
-    # command-line arguments (2: jobs within the cores; 11: --storage needs [tuning])
+    # command-line arguments (2: jobs within the cores; 11: --tuning-database needs [tuning])
     command("no_command", "", "the following arguments are required: COMMAND"),
     command("unknown_command", "launch {suite}", "invalid choice: 'launch'"),
     command("unknown_option", "run {suite} --fast", "unrecognized arguments: --fast"),
@@ -513,18 +513,18 @@ CASES: list[Bad] = [
     ),
     command(
         "storage_without_tuning",
-        "run {suite} --storage sqlite:///{folder}/t.db --store {store}",
-        "--storage: suite 'tiny_couriers' has no [tuning] table",
+        "run {suite} --tuning-database sqlite:///{folder}/t.db --store {store}",
+        "--tuning-database: suite 'tiny_couriers' has no [tuning] table",
     ),
     command(
         "storage_dead_without_tuning",
-        "run {suite} --storage postgresql://x@127.0.0.1:1/d --store {store}",
+        "run {suite} --tuning-database postgresql://x@127.0.0.1:1/d --store {store}",
         "has no [tuning] table",
     ),
     command(
         "storage_nonsense",
-        "run {folder}/tuned.toml --storage nonsense --store {store}",
-        "--storage: given 'nonsense'",
+        "run {folder}/tuned.toml --tuning-database nonsense --store {store}",
+        "--tuning-database: given 'nonsense'",
         **{"tuned.toml": TUNED},
     ),
     command("tuning_of_untuned", "tuning {suite} --store {store}", "the suite has no [tuning]"),
@@ -591,6 +591,31 @@ CASES: list[Bad] = [
     appended(
         "tuning_seed_above_32_bits", "[tuning]\ntrials = 2\nseed = 4294967296\n", "tuning.seed"
     ),
+    # issue 27, item 14: options no run would use are refused, not silently ignored
+    suite(
+        "fanout_with_full_batches",
+        "epochs = 15",
+        "epochs = 15\nfanout = [5, 5]",
+        "training.fanout: given [5, 5] where every run trains on full batches",
+    ),
+    suite(
+        "contender_fanout_with_full_batches",
+        "hidden = 4",
+        "hidden = 4\ntraining = {fanout = [3, 3]}",
+        "contenders.attention.training.fanout: given [3, 3] where every run trains on full",
+    ),
+    suite(
+        "compile_with_sampled_batches",
+        "epochs = 15",
+        'epochs = 15\ncompile = true\nbatching = "sampled"\nfanout = "all"',
+        "training.compile: given true where every run trains on sampled batches",
+    ),
+    suite(
+        "contender_compile_with_sampled_batches",
+        "hidden = 4",
+        'hidden = 4\ntraining = {compile = true, batching = "sampled", fanout = [4, 4]}',
+        "contenders.attention.training.compile: given true where every run trains on sampled",
+    ),
     # issue 27, item 4: Hits@K with K at or above the negatives scores every edge a hit
     link_table(
         "hits_k_above_negatives",
@@ -632,6 +657,15 @@ CASES: list[Bad] = [
         setting="inductive",
         nodes_csv=FIVE_NODES,
         edges_csv=COMPLETE_EDGES,
+    ),
+    # issue 27, item 3: a link suite needs no label column, but one it names must be there
+    link_table(
+        "link_named_label_column_missing",
+        "nodes.csv: column 'kind' (data.label_column) not found",
+        nodes_csv=NODES,
+        suite_toml=LINK_TABLE_SUITE.format(
+            metric="roc_auc", setting="transductive", link=""
+        ).replace('feature_prefix = "f_"', 'feature_prefix = "f_"\nlabel_column = "kind"'),
     ),
     # issue 27, item 15: a stranded training node is named by its id, not a row position
     link_table(

@@ -10,9 +10,9 @@ from typing import Any
 
 import torch
 
+from harness.execution.executed import Executed
 from harness.execution.pool import Workers, available_cores, start_workers, worker_setup
 from harness.execution.runs import (
-    Outcome,
     failure_line,
     no_space_line,
     out_of_space,
@@ -25,7 +25,7 @@ from harness.planning import RunSpec
 from harness.planning.run_choices import COMPILE_MIN_EDGES
 from harness.storage import store
 
-# a graph this large gives a lone last run every core (README, Processes and threads)
+# a graph this large gives a lone last run every core (docs/large-graphs.md, threads per run)
 LARGE_GRAPH_EDGES = COMPILE_MIN_EDGES
 
 WORKER_MODULES = (__name__,)  # what a worker loads before its first run
@@ -92,7 +92,7 @@ def execute(
     on_finished: Callable[[str], None] | None = None,
     workers: Workers | None = None,
     threads: int = 1,
-) -> Outcome:
+) -> Executed:
     """Run every spec not yet stored, on `jobs` processes of `threads` torch threads each;
     Ctrl-C keeps what finished. A run that raises is reported and the others go on; one that
     raises InputError stops them all (what is stored stays).
@@ -121,7 +121,7 @@ def execute(
     # counted in the store: a run may be stored in the moment Ctrl-C or a kill arrives
     finished = len(todo) - len(pending(todo, store_path))
     failures = (*raised, *(run.message() for run in lost))
-    return Outcome(len(specs), len(specs) - len(todo), finished, interrupted, failures, lost)
+    return Executed(len(specs), len(specs) - len(todo), finished, interrupted, failures, lost)
 
 
 def run_copies(task: Callable[..., Any], arguments: tuple, jobs: int, threads: int) -> list[Any]:

@@ -1,11 +1,9 @@
-"""What every executor shares: one run's store row, the specs still to run, the line that
-names a run that could not finish, and what an execution reports."""
+"""What every executor shares: one run's store row, the specs still to run, and the line that
+names a run that could not finish."""
 
 from __future__ import annotations
 
 import errno
-import signal
-from dataclasses import dataclass
 from typing import Any
 
 from harness.errors import InputError
@@ -14,37 +12,6 @@ from harness.storage import store
 from harness.storage.predictions import encode, to_text
 from harness.training.fit import RunResult, as_trained
 from harness.training.tasks import perform
-
-
-@dataclass(frozen=True)
-class LostRun:
-    """A run whose worker process died under it twice: not stored, reported instead."""
-
-    suite: str
-    label: str
-    seed: int
-    key: str
-    exit_code: int | None
-
-    def message(self) -> str:
-        how = "SIGKILL" if self.exit_code == -signal.SIGKILL else f"exit code {self.exit_code}"
-        return (
-            f"{self.suite}: run {self.label} seed {self.seed} (key {self.key}) ended its worker "
-            f"process twice ({how}); likely cause: memory (the kernel's out-of-memory killer "
-            "sends SIGKILL); lower the suite's sizes or run fewer jobs"
-        )
-
-
-@dataclass(frozen=True)
-class Outcome:
-    """What an execution did."""
-
-    planned: int
-    skipped: int
-    finished: int
-    interrupted: bool
-    failures: tuple[str, ...] = ()  # one line per run that could not finish, naming its spec
-    lost: tuple[LostRun, ...] = ()  # of those, the runs that ended their worker twice
 
 
 def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:

@@ -12,9 +12,9 @@ from multiprocessing.connection import wait
 import torch
 
 from harness.errors import InputError
+from harness.execution.executed import LostRun
 from harness.execution.pool import Worker, Workers
 from harness.execution.runs import (
-    LostRun,
     failure_line,
     no_space_line,
     out_of_space,

@@ -5,7 +5,14 @@ from __future__ import annotations
 import re
 from typing import Any, Literal
 
-from pydantic import BaseModel, Field, ValidationInfo, field_validator, model_validator
+from pydantic import (
+    BaseModel,
+    Field,
+    ValidationInfo,
+    create_model,
+    field_validator,
+    model_validator,
+)
 
 from harness.schema.ablation import Ablation, HopSettings
 from harness.schema.analysis import BREAKDOWN_KEYS, Analysis, unknown_contenders
@@ -17,8 +24,6 @@ from harness.schema.splits import FractionSplit, HomophilyMap, SplitSection
 from harness.schema.tasks import (
     DEFAULT_TASK,
     TASKS,
-    GraphOptions,
-    LinkOptions,
     metrics_text,
     options_sections,
     task_kind,
@@ -95,8 +100,9 @@ def check_name(name: str) -> str:
     return name
 
 
-class Suite(StrictModel):
-    """A declarative benchmark: data, contenders, training defaults and seeds."""
+class SuiteSections(StrictModel):
+    """A declarative benchmark: data, contenders, training defaults and seeds (every section but
+    the tasks' own tables, which `Suite` adds from the task registry)."""
 
     name: str = Field(
         description=(
@@ -122,7 +128,7 @@ class Suite(StrictModel):
     )
     # one of the task's metrics; its default_metric when left out
     metric: str = Field(
-        "accuracy",
+        TASKS[DEFAULT_TASK].default_metric,
         description=(
             f"The metric early stopping, tuning, verdicts and gates use; {metrics_text()}."
         ),
@@ -178,18 +184,6 @@ class Suite(StrictModel):
             "several edge homophily levels."
         ),
     )
-    link: LinkOptions | None = Field(
-        None,
-        description=(
-            "Decoder and negatives of a link prediction suite (only with task = link_prediction)."
-        ),
-    )
-    graphs: GraphOptions | None = Field(
-        None,
-        description=(
-            "Batches of a graph classification suite (only with task = graph_classification)."
-        ),
-    )
 
     @model_validator(mode="before")
     @classmethod
@@ -214,23 +208,17 @@ class Suite(StrictModel):
             raise ValueError(f"allowed for task '{task}': {', '.join(names)}")
         return metric
 
-    @field_validator(*options_sections())
-    @classmethod
-    def _options_of_the_task(cls, options: Any, info: ValidationInfo) -> Any:
-        owner = options_sections()[info.field_name]
-        task = info.data.get("task", DEFAULT_TASK)
-        if options is not None and task != owner:
-            raise ValueError(
-                f"[{info.field_name}] is for task = '{owner}'; this suite's task is '{task}'"
-            )
-        return options
-
     @field_validator("*")
     @classmethod
     def _fits_the_task(cls, value: Any, info: ValidationInfo) -> Any:
         task = info.data.get("task", DEFAULT_TASK)
         if task not in TASKS or info.field_name == "task":
             return value  # a field before `task`, or an unknown task (its own error is reported)
+        owner = options_sections().get(info.field_name, task)
+        if value is not None and owner != task:
+            raise ValueError(
+                f"[{info.field_name}] is for task = '{owner}'; this suite's task is '{task}'"
+            )
         reason = task_kind(task).refused.get(info.field_name)
         if reason and value is not None:
             raise ValueError(f"not available for {task_kind(task).title}: {reason}")
@@ -276,11 +264,6 @@ class Suite(StrictModel):
         return analysis
 
     @property
-    def link_options(self) -> LinkOptions:
-        """The `[link]` table, or its defaults."""
-        return self.link or LinkOptions()
-
-    @property
     def task_options(self) -> BaseModel | None:
         """The task's own table (e.g. `[link]`) or its defaults; None for a task without one."""
         kind = task_kind(self.task)
@@ -291,3 +274,32 @@ class Suite(StrictModel):
     @property
     def seed_list(self) -> list[int]:
         return list(range(self.seeds)) if isinstance(self.seeds, int) else list(self.seeds)
+
+
+def task_tables() -> dict[str, Any]:
+    """A field for each task's own table (`[link]`): its options class, absent by default."""
+    return {
+        kind.options_section: (
+            kind.options | None,
+            Field(
+                None,
+                description=f"{first_line(kind.options)} (only with task = {name}).",
+            ),
+        )
+        for name, kind in TASKS.items()
+        if kind.options_section
+    }
+
+
+def first_line(model: type[BaseModel]) -> str:
+    return (model.__doc__ or "").strip().splitlines()[0].rstrip(".")
+
+
+# the suite file: every section, and each registered task's own table
+Suite = create_model(
+    "Suite",
+    __base__=SuiteSections,
+    __module__=__name__,
+    __doc__=SuiteSections.__doc__,
+    **task_tables(),
+)

@@ -117,7 +117,9 @@ class GraphObjective:
         return Scores(self.metric, validation, tested, predictions=predictions)
 
 
-def prepare_graph_run(spec: RunSpec, collection: GraphCollection, validation_only: bool) -> Prepared:
+def prepare_graph_run(
+    spec: RunSpec, collection: GraphCollection, validation_only: bool
+) -> Prepared:
     """Split and initialisation from the spec's seed; `validation_only` (tuning) drops the test
     graphs before training."""
     split = make_graph_split(collection, spec.split, spec.seed)

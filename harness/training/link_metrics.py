@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import torch
 
-from harness.schema.tasks.declaration import imported
+from harness.schema.named import imported
 from harness.schema.tasks.link_prediction import LINK_PREDICTION
 from harness.schema.tasks.link_scores import hits_above
 

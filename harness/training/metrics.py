@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 import torch
 
-from harness.schema.tasks.declaration import imported
+from harness.schema.named import imported
 from harness.schema.tasks.node_classification import NODE_CLASSIFICATION
 
 METRICS = NODE_CLASSIFICATION.metric_names

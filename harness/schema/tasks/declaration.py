@@ -8,22 +8,17 @@ scikit-learn.
 
 from __future__ import annotations
 
-import importlib
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
 from pydantic import BaseModel
 
+from harness.schema.named import imported
+
 # a scorer: score(predicted, truth, facts) -> float, numpy arrays in; `facts` holds what the
 # task's runs know besides them, e.g. {"classes": 7} or {"hits_k": 50}
 Scorer = Callable[[Any, Any, Mapping[str, int]], float]
-
-
-def imported(path: str) -> Any:
-    """The object a "module:name" path names, imported on first use."""
-    module, _, name = path.partition(":")
-    return getattr(importlib.import_module(module), name)
 
 
 @dataclass(frozen=True)
@@ -31,7 +26,9 @@ class Metric:
     """One metric a task's runs store (column `test_<name>`): its label in reports, its range,
     its direction, and the function that computes it (`scorer`, a "module:function" path).
     `every_epoch`: a faster twin giving the same value, for the per-epoch validation score;
-    its arguments are the task's own (see the task's training loop)."""
+    its arguments are the task's own (see the task's training loop). The stages rank a higher
+    value as better (early stopping, tuning, verdicts, gates): `higher_is_better` is declared
+    for them to read, and tests/test_task_registry.py holds every metric to True until they do."""
 
     name: str
     label: str

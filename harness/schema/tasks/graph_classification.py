@@ -75,7 +75,7 @@ GRAPH_CLASSIFICATION = TaskKind(
     ),
     default_metric="accuracy",
     objective="graph_loss",
-    data_check="harness.execution.preflight:check_graph_splits",
+    data_check="harness.execution.graph_preflight:check_graph_splits",
     split_methods=("fractions", "column", "scaffold", "size"),
     refused={
         "homophily_map": "the homophily map varies node labels of one graph; graph "
