@@ -11,7 +11,7 @@ from pathlib import Path
 import pytest
 from torch import nn
 
-import harness.training.fit
+import harness.training.node_loss
 from harness.cli import main
 
 # A fictional courier network: depots are nodes, regular routes are edges, four depot kinds.
@@ -174,13 +174,13 @@ def test_slowed_contender_fails_time_check(saved, tmp_path, monkeypatch, capsys)
     the metrics unchanged, which the reproducibility check confirms.
     """
     store = tmp_path / "fresh.db"
-    build = harness.training.fit.build_model
+    build = harness.training.node_loss.build_model
 
     def slowed_build(options, *args, **kwargs):
         model = build(options, *args, **kwargs)
         return Slowed(model, 0.01) if options.model == "mlp" else model
 
-    monkeypatch.setattr(harness.training.fit, "build_model", slowed_build)
+    monkeypatch.setattr(harness.training.node_loss, "build_model", slowed_build)
     strict = write_suite(tmp_path, "suite.toml", time_action="fail")
     status, root, _ = gate({**saved, "store": store}, strict, tmp_path)
     out = capsys.readouterr().out

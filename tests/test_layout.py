@@ -15,7 +15,7 @@ PACKAGE = Path(harness.__file__).parent
 
 # earliest first; a module may import only modules of its own stage or an earlier one
 STAGES = (
-    ("harness", "harness.errors", "harness.digest", "harness.formatting"),
+    ("harness", "harness.errors", "harness.digest", "harness.formatting", "harness.results"),
     ("harness.schema",),
     ("harness.planning",),
     ("harness.data",),
