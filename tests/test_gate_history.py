@@ -15,7 +15,7 @@ from harness.gate.records import history_records
 from harness.planning import expand, parse_suite
 from harness.report.gate_terminal import sparkline
 from harness.report.html import trend_section
-from harness.report.trend import save_trend, trend_figure, trend_png
+from harness.report.trend import trend_figure, trend_png
 from harness.schema.gate import BaselineFile
 from harness.storage.database import opened
 from harness.storage.gate_history import (
@@ -133,16 +133,14 @@ def test_sparkline_scales_over_at_least_the_given_span():
     assert sparkline([]) == ""
 
 
-def test_trend_plot_has_one_line_per_contender(stored, tmp_path):
+def test_trend_plot_has_one_line_per_contender(stored):
     history = load_history(stored, "docks")
     figure = trend_figure(history)
     top, bottom = figure.axes
     assert [line.get_label() for line in top.get_lines()] == ["attention", "features_only"]
     assert list(top.get_lines()[0].get_ydata()) == pytest.approx([0.81, 0.71, 0.81])
     assert list(bottom.get_lines()[0].get_ydata()) == pytest.approx([0.01, 0.012, 0.011])
-    path = tmp_path / "trend.png"
-    save_trend(history, str(path))
-    assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert trend_png(history)[:8] == b"\x89PNG\r\n\x1a\n"
 
 
 def test_html_report_gains_the_trend_plot_only_with_history(stored, tmp_path):

@@ -11,9 +11,9 @@ import pytest
 
 import harness.training.runs
 from harness.planning import expand, parse_suite
-from harness.schema.tasks import TASK_METRICS
+from harness.schema.tasks import TASKS
 from harness.training.loop import fit
-from harness.training.runs import OBJECTIVES, TASK_TRAINING, as_trained, perform
+from harness.training.runs import OBJECTIVES, as_trained, perform
 
 # fictional Fernhill couriers: depots tagged with their parcel mix, routes between them
 SUITES = {
@@ -51,9 +51,11 @@ def spec_of(task: str, training: dict | None = None):
     return expand(parse_suite(raw, f"{raw['name']}.toml"))[0]
 
 
-def test_every_task_of_the_schema_has_an_objective_and_the_cases_cover_them():
-    assert set(TASK_TRAINING) == set(TASK_METRICS) == {task for task, _, _ in CASES}
-    assert {task.objective for task in TASK_TRAINING.values()} == set(OBJECTIVES)
+def test_every_task_of_the_registry_has_an_objective_and_the_cases_cover_them():
+    assert set(TASKS) == {task for task, _, _ in CASES}
+    assert {kind.objective for kind in TASKS.values()} == set(OBJECTIVES)
+    sampled = {task for task, batching, _ in CASES if batching}
+    assert sampled == {task for task, kind in TASKS.items() if kind.sampled_batches}
 
 
 @pytest.mark.parametrize(("task", "batching", "feed"), CASES)
@@ -71,7 +73,7 @@ def test_every_task_trains_through_the_one_loop(monkeypatch, task, batching, fee
     spec = spec_of(task, batching)
     result = perform(spec)
     assert feeds == [feed]
-    assert set(result.test_scores) == set(TASK_METRICS[task])  # every metric the task defines
+    assert set(result.test_scores) == set(TASKS[task].metric_names)  # every metric the task defines
     curve, training = result.curve, spec.training
     assert len(curve) == result.epochs
     assert result.best_epoch == 1 + curve.index(max(curve))  # the first best epoch
@@ -82,19 +84,20 @@ def test_every_task_trains_through_the_one_loop(monkeypatch, task, batching, fee
     assert result.peak_mb > 0 and result.seconds_per_epoch > 0
 
 
-@pytest.mark.parametrize("task", sorted(TASK_METRICS))
+@pytest.mark.parametrize("task", sorted(TASKS))
 def test_tuning_runs_of_every_task_never_score_the_test_set(task):
     result = perform(spec_of(task, {"epochs": 3}), validation_only=True)
     assert len(result.curve) == 3 and result.val_metric == result.val_metric
     assert all(score != score for score in result.test_scores.values())  # NaN: no test set
 
 
-def test_a_task_that_does_not_compile_records_why_and_is_stored_as_eager():
-    spec = spec_of("link_prediction", {"compile": True, "epochs": 3})
-    eager = spec_of("link_prediction", {"compile": False, "epochs": 3})
+@pytest.mark.parametrize("task", [name for name, kind in TASKS.items() if not kind.compiles])
+def test_a_task_that_does_not_compile_records_why_and_is_stored_as_eager(task):
+    spec = spec_of(task, {"compile": True, "epochs": 3})
+    eager = spec_of(task, {"compile": False, "epochs": 3})
     assert spec.key != eager.key  # asking to compile is part of the key, as for node runs
     result = perform(spec)
-    reason = TASK_TRAINING["link_prediction"].no_compile_reason
+    reason = TASKS[task].no_compile_reason
     assert reason and not result.compiled
     assert result.extras["compile"] == {"mode": "eager", "seconds": 0.0, "warning": reason}
     assert as_trained(spec, result).key == eager.key

@@ -3,32 +3,24 @@
 
 from __future__ import annotations
 
-import importlib
-from functools import cache
-
 import torch
 from pydantic import BaseModel
 from torch import nn
 
 from harness.models.interface import Network
 from harness.schema.model_kinds import MODEL_KINDS
-
-
-@cache
-def _builder(path: str):  # noqa: ANN202 - build(options, in_dim, out_dim) -> nn.Module
-    module, _, function = path.partition(":")
-    return getattr(importlib.import_module(module), function)
+from harness.schema.named import imported
 
 
 def load_builders() -> None:
     """Import every registered builder now (worker processes do, before their first run)."""
     for kind in MODEL_KINDS.values():
-        _builder(kind.builder)
+        imported(kind.builder)
 
 
 def builder_of(model: str):  # noqa: ANN201 - build(options, in_dim, out_dim) -> nn.Module
     """The registered kind's builder, imported on first use."""
-    return _builder(MODEL_KINDS[model].builder)
+    return imported(MODEL_KINDS[model].builder)
 
 
 class EmbeddingStart(nn.Module):
@@ -52,11 +44,19 @@ def unwrap(model: nn.Module, x: torch.Tensor) -> tuple[Network, torch.Tensor]:
 
 
 def build_model(
-    options: BaseModel, in_dim: int, out_dim: int, embedding_rows: int = 0
+    options: BaseModel,
+    in_dim: int,
+    out_dim: int,
+    embedding_rows: int = 0,
+    kernel: str = "scatter",
 ) -> nn.Module:
     """The contender's network, freshly initialised from the current torch seed.
 
     With `embedding_rows` > 0 the input is node ids, embedded in `in_dim` columns first.
+    `kernel` "sparse" (resolved by harness.planning, only for kinds registered with
+    `sparse_kernel`) goes to the builder; the parameters and their initialisation are the same.
     """
-    network = builder_of(options.model)(options, in_dim, out_dim)
+    build = builder_of(options.model)
+    extra = {"kernel": kernel} if kernel != "scatter" else {}
+    network = build(options, in_dim, out_dim, **extra)
     return EmbeddingStart(embedding_rows, in_dim, network) if embedding_rows else network

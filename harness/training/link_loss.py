@@ -163,6 +163,8 @@ def prepare_link_run(spec: RunSpec, data: Data, validation_only: bool) -> Prepar
     NEGATIVES_RANDOM.seed(spec.seed)  # the fresh training negatives (PyG's draws)
     seen = graph_view(data, split.train_graph, spec)  # features and hops from training edges
     tested = graph_view(data, split.test_graph, spec) if not validation_only else seen
-    model = build_link_model(spec.options, spec.link, seen.width, seen.embedding_rows)
+    model = build_link_model(
+        spec.options, spec.link, seen.width, seen.embedding_rows, spec.training.kernel
+    )
     feed, objective = link_parts(seen.data, tested.data, split, spec.metric, spec.link)
     return Prepared(model, feed, objective, LinkRun(spec, model, tested.data, feed).diagnose)

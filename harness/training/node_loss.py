@@ -144,7 +144,9 @@ def prepare_node_run(spec: RunSpec, data: Data, validation_only: bool) -> Prepar
     classes = int(data.y.max()) + 1
     started = contender_graph(data, spec.options, spec.seed, spec.hop_cache)
     with generated_modules_in(spec.hop_cache):
-        model = build_model(spec.options, started.width, classes, started.embedding_rows)
+        model = build_model(
+            spec.options, started.width, classes, started.embedding_rows, spec.training.kernel
+        )
     inductive = spec.setting == "inductive"
     seen = None
     if inductive:  # held-out nodes and their edges never reach training

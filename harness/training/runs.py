@@ -4,7 +4,7 @@ then the diagnostics and what the run took from the machine."""
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, replace
+from dataclasses import replace
 
 import torch
 from torch_geometric.data import Data
@@ -12,6 +12,7 @@ from torch_geometric.data import Data
 from harness.data import load_graph
 from harness.planning import RunSpec
 from harness.results import RunResult
+from harness.schema.tasks import task_kind
 from harness.training.compiled import use_compile_cache
 from harness.training.link_loss import prepare_link_run
 from harness.training.loop import fit
@@ -19,27 +20,11 @@ from harness.training.node_loss import prepare_node_run
 from harness.training.objectives import Prepared
 from harness.training.resources import peak_resident_mb, reset_peak_resident
 
-# objective name -> how a run of it is set up: model, feed and objective from spec and data
+# objective name (a task's `objective` in harness/schema/tasks) -> how a run of it is set up:
+# model, feed and objective from the spec and the loaded data
 OBJECTIVES: dict[str, Callable[[RunSpec, Data, bool], Prepared]] = {
     "node_loss": prepare_node_run,
     "link_loss": prepare_link_run,
-}
-
-
-@dataclass(frozen=True)
-class TaskTraining:
-    """What training needs to know of a task: its objective's name, and why it never compiles
-    (None: it compiles when asked)."""
-
-    objective: str
-    no_compile_reason: str | None = None
-
-
-TASK_TRAINING = {
-    "node_classification": TaskTraining("node_loss"),
-    "link_prediction": TaskTraining(
-        "link_loss", "link prediction trains eagerly: compiling is not extended to it"
-    ),
 }
 
 
@@ -68,16 +53,13 @@ def perform(
     threads = torch.get_num_threads()
     if spec.training.compile is True:
         use_compile_cache(spec.hop_cache)
-    task = TASK_TRAINING[spec.task]
+    task = task_kind(spec.task)
     prepared = OBJECTIVES[task.objective](spec, load_graph(spec.data), validation_only)
-    result = fit(
-        prepared.model,
-        prepared.feed,
-        prepared.objective,
-        spec.training,
-        on_epoch,
-        task.no_compile_reason,
-    )
+    refusal = None if task.compiles else task.no_compile_reason
+    model, feed, objective = prepared.model, prepared.feed, prepared.objective
+    result = fit(model, feed, objective, spec.training, on_epoch, refusal)
     extras = {**result.extras, **prepared.diagnose(), "threads": threads}
     extras["peak_resident_mb"] = peak_resident_mb() if measured else None
+    if spec.training.kernel == "sparse":  # scatter runs keep the extras they always had
+        extras["kernel"] = "sparse"
     return replace(result, extras=extras)
