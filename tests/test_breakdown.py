@@ -22,8 +22,8 @@ from harness.execution.local import execute
 from harness.planning import expand, load_suite
 from harness.report.files import write_report
 from harness.report.wording import breakdown_summary
+from harness.results import NodePredictions
 from harness.storage.predictions import decode, encode, levels, load_predictions
-from harness.training.fit import NodePredictions
 
 CLASSES, PER_DISTRICT, NEIGHBOURS, SIGNAL = 6, 120, 6, 2.0
 

@@ -19,8 +19,8 @@ from harness.report import html, latex, markdown
 from harness.report.files import WRITERS
 from harness.report.plots import figures, homophily_plot
 from harness.report.tables import frames
+from harness.results import RunResult
 from harness.storage import store
-from harness.training.fit import RunResult
 
 HOSTILE_SUITE = """\
 # Fictional parcel lockers of an invented courier network; names chosen to break renderers

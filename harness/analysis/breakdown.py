@@ -18,8 +18,8 @@ from torch_geometric.data import Data
 from harness.analysis.node_groups import NodeGroups, node_groups
 from harness.analysis.stats import POINTS, attention_side, holm, paired_test, t_interval
 from harness.analysis.verdict import judge_all
+from harness.results import NodePredictions
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
-from harness.training.fit import NodePredictions
 from harness.training.metrics import score_probabilities
 
 COLUMNS = ["grouping", "group", "nodes", "attention", "baseline", "difference", "low", "high"]

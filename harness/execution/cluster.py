@@ -30,7 +30,7 @@ from harness.execution.executed import Executed
 from harness.execution.runs import describe, failure_line, pending, record_of
 from harness.planning import RunSpec
 from harness.storage import store
-from harness.training.tasks import perform
+from harness.training.runs import perform
 
 RESUBMISSIONS = 3  # Dask's own default for allowed-failures, stated for local clusters too
 CONNECT_SECONDS = 5

@@ -9,8 +9,8 @@ from collections.abc import Mapping
 import pandas as pd
 
 from harness.report.markdown_text import escape
+from harness.results import NodePredictions
 from harness.storage.store import TEST_COLUMNS
-from harness.training.fit import NodePredictions
 
 RECORD_FIELDS = (
     "suite",
