@@ -14,6 +14,7 @@ import numpy as np
 from torch_geometric.data import Data
 from torch_geometric.utils import degree
 
+from harness.data.collection import GraphCollection
 from harness.data.homophily import local_homophily
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 
@@ -44,7 +45,20 @@ def quartile_edges(degrees: np.ndarray) -> list[int]:
 
 def degree_groups(data: Data, edges: list[int]) -> NodeGroups:
     """Group i holds degrees from edges[i - 1] up to edges[i] - 1; [] means quartiles."""
-    degrees = node_degrees(data)
+    return count_groups("degree", node_degrees(data), edges, data.y.numpy() >= 0)
+
+
+def graph_size_groups(collection: GraphCollection) -> NodeGroups:
+    """Graphs of a collection by node-count quartile: where attention wins by graph size."""
+    counts = collection.node_counts().numpy().astype(int)
+    return count_groups("graph_size", counts, [], np.ones(len(counts), dtype=bool))
+
+
+def count_groups(
+    grouping: str, degrees: np.ndarray, edges: list[int], used: np.ndarray
+) -> NodeGroups:
+    """Groups of whole counts: group i holds edges[i - 1] up to edges[i] - 1 ([]: quartiles);
+    items not `used` are in no group."""
     edges = edges or quartile_edges(degrees)
     lowest = [min(int(degrees.min()), edges[0] - 1) if edges else int(degrees.min()), *edges]
     highest = [edge - 1 for edge in edges] + [int(degrees.max())]
@@ -53,8 +67,7 @@ def degree_groups(data: Data, edges: list[int]) -> NodeGroups:
         for low, high in zip(lowest, highest, strict=True)
     )
     of_node = np.searchsorted(np.asarray(edges), degrees, side="right")
-    of_node = np.where(data.y.numpy() >= 0, of_node, -1)
-    return NodeGroups("degree", labels, of_node)
+    return NodeGroups(grouping, labels, np.where(used, of_node, -1))
 
 
 def homophily_groups(data: Data, edges: list[float]) -> NodeGroups:
@@ -72,8 +85,13 @@ def homophily_groups(data: Data, edges: list[float]) -> NodeGroups:
     return NodeGroups("local_homophily", (*labels, NO_LABELLED_NEIGHBOURS), of_node)
 
 
-def node_groups(data: Data, settings: Analysis = DEFAULT_ANALYSIS) -> list[NodeGroups]:
-    """The degree and local-homophily groups of a graph under the suite's bin edges."""
+def node_groups(
+    data: Data | GraphCollection, settings: Analysis = DEFAULT_ANALYSIS
+) -> list[NodeGroups]:
+    """The degree and local-homophily groups of a graph under the suite's bin edges; the
+    graphs of a collection by size."""
+    if isinstance(data, GraphCollection):
+        return [graph_size_groups(data)]
     return [
         degree_groups(data, list(settings.degree_edges)),
         homophily_groups(data, list(settings.local_homophily_edges)),

@@ -2,13 +2,17 @@
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import asdict, dataclass
 
 import numpy as np
+import torch
 from torch_geometric.data import Data
 from torch_geometric.utils import degree
 
 from harness.data.assemble import edge_count
+from harness.data.collection import GraphCollection
+from harness.data.graph_starts import as_one_graph
 from harness.data.homophily import Homophily, measure_homophily
 
 
@@ -33,6 +37,18 @@ class FeatureSummary:
 
 
 @dataclass(frozen=True)
+class CollectionSummary:
+    """A collection of graphs (graph classification): how many, how large, what was left out."""
+
+    graphs: int
+    nodes_minimum: int
+    nodes_median: float
+    nodes_maximum: int
+    distinct_scaffolds: int | None  # molecules only
+    skipped_rows: int
+
+
+@dataclass(frozen=True)
 class DatasetProfile:
     nodes: int
     edges: int
@@ -46,6 +62,8 @@ class DatasetProfile:
     unlabelled_nodes: int
     features: FeatureSummary
     homophily: Homophily | None  # None when the task reads no node labels
+    collection: CollectionSummary | None = None  # graph classification: the graphs; classes
+    # and counts are then those of the graphs
 
     @property
     def labelled(self) -> bool:
@@ -63,6 +81,8 @@ class DatasetProfile:
                 "degrees": DegreeSummary(**values["degrees"]),
                 "features": FeatureSummary(**values["features"]),
                 "homophily": values["homophily"] and Homophily(**values["homophily"]),
+                "collection": values.get("collection")
+                and CollectionSummary(**values["collection"]),
             }
         )
 
@@ -108,4 +128,30 @@ def profile_graph(data: Data, node_labels: bool = True) -> DatasetProfile:
             zero_share=float(np.mean(x == 0)),
         ),
         homophily=measure_homophily(data.edge_index, data.y) if node_labels else None,
+    )
+
+
+def profile_collection(collection: GraphCollection) -> DatasetProfile:
+    """The profile of a collection's graphs taken as one graph of disconnected pieces (degrees,
+    features), with the classes of the graphs and a summary of their sizes."""
+    whole = as_one_graph(collection)
+    whole.y = torch.zeros(whole.num_nodes, dtype=torch.long)
+    profile = profile_graph(whole, node_labels=False)
+    counts = collection.node_counts().numpy()
+    return dataclasses.replace(
+        profile,
+        class_names=list(collection.class_names),
+        class_counts=np.bincount(
+            collection.y.numpy(), minlength=len(collection.class_names)
+        ).tolist(),
+        collection=CollectionSummary(
+            graphs=len(collection),
+            nodes_minimum=int(counts.min()),
+            nodes_median=float(np.median(counts)),
+            nodes_maximum=int(counts.max()),
+            distinct_scaffolds=None
+            if collection.scaffolds is None
+            else len(set(collection.scaffolds)),
+            skipped_rows=len(collection.skipped),
+        ),
     )

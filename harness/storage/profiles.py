@@ -10,7 +10,7 @@ from pydantic import BaseModel
 
 from harness.data import load_graph
 from harness.data.assemble import cleaning_notes, require_labels
-from harness.data.profile import DatasetProfile, profile_graph
+from harness.data.profile import DatasetProfile, profile_collection, profile_graph
 from harness.digest import text_digest
 from harness.schema.tasks import task_kind
 from harness.storage.database import insert, opened, prepare, read_rows
@@ -48,6 +48,8 @@ def suite_profile(suite: BaseModel, source: str) -> tuple[DatasetProfile, list[s
     """The profile of a suite's data, and notes on what loading had to clean; node-label facts
     only when the suite's task reads node labels (then the labels must be usable)."""
     data = load_graph(suite.data)
+    if suite.data.many_graphs:
+        return profile_collection(data), list(data.skipped)
     labels = task_kind(suite.task).node_labels
     if labels:
         require_labels(data)

@@ -123,7 +123,7 @@ class NodeRun:
         extras: dict[str, Any] = {}
         spec, graph = self.spec, self.started.data
         if self.inductive and not self.validation_only:
-            radius = spec.options.layers * getattr(spec.options, "hop_radius", 1)
+            radius = spec.options.layers * spec.options.layer_radius()
             radius += MODEL_KINDS[spec.model].extra_hops
             arrival = measure_arrival(self.model, graph, self.split, radius, seed=spec.seed)
             extras["arrival"] = arrival.as_dict()

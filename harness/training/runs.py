@@ -14,6 +14,7 @@ from harness.planning import RunSpec
 from harness.results import RunResult
 from harness.schema.tasks import task_kind
 from harness.training.compiled import use_compile_cache
+from harness.training.graph_loss import prepare_graph_run
 from harness.training.link_loss import prepare_link_run
 from harness.training.loop import fit
 from harness.training.node_loss import prepare_node_run
@@ -25,6 +26,7 @@ from harness.training.resources import peak_resident_mb, reset_peak_resident
 OBJECTIVES: dict[str, Callable[[RunSpec, Data, bool], Prepared]] = {
     "node_loss": prepare_node_run,
     "link_loss": prepare_link_run,
+    "graph_loss": prepare_graph_run,
 }
 
 

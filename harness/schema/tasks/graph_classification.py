@@ -4,7 +4,7 @@ transfers); metrics accuracy, macro_f1, roc_auc (one-vs-rest), average_precision
 Every contender is the encoder of a graph-level model: its node layers, then a readout that
 pools each graph's node states (the contender's `readout`), then a linear classifier. Its own
 suite table is `[graphs]` (GraphOptions). Node-level parts (the homophily map, arrival of new
-nodes, sampled node batches, the per-node breakdown) do not apply; the breakdown is per graph.
+nodes, sampled node batches) do not apply; the breakdown groups the test graphs by size.
 """
 
 from __future__ import annotations
@@ -61,6 +61,17 @@ def starts_of_ablation(ablation: dict[str, Any]) -> str | None:
     return None
 
 
+def node_groupings(analysis: Any) -> str | None:
+    """The per-graph breakdown groups graphs by size; the node groupings' edges do not apply."""
+    for key in ("degree_edges", "local_homophily_edges"):
+        if key in analysis.model_fields_set:
+            return (
+                f"{key} groups the nodes of one graph; graph classification breaks down by "
+                "graph size (node-count quartiles); allowed: leave it out"
+            )
+    return None
+
+
 NODE_SCORES = "harness.schema.tasks.node_scores"
 GRAPH_SCORES = "harness.schema.tasks.graph_scores"
 
@@ -81,14 +92,17 @@ GRAPH_CLASSIFICATION = TaskKind(
         "homophily_map": "the homophily map varies node labels of one graph; graph "
         "classification labels whole graphs",
     },
-    section_checks={"contenders": starts_of_contenders, "ablation": starts_of_ablation},
+    section_checks={
+        "contenders": starts_of_contenders,
+        "ablation": starts_of_ablation,
+        "analysis": node_groupings,
+    },
     options_section="graphs",
     options=GraphOptions,
     sampled_batches=False,
     compiles=False,
     no_compile_reason="graph classification trains eagerly: every batch of graphs has "
     "another shape",
-    breakdown=False,
     node_labels=False,
     many_graphs=True,
 )
