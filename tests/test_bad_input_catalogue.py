@@ -20,6 +20,7 @@ import pytest
 import harness.execution.pool
 from harness.cli import main
 from tests.conftest import TINY_SUITE
+from tests.graph_bad_inputs import graph_cases
 
 
 @dataclass(frozen=True)
@@ -676,6 +677,8 @@ CASES: list[Bad] = [
         edges_csv=RING_EDGES,
     ),
 ]
+
+CASES += graph_cases()  # graph classification's own (tests/graph_bad_inputs.py)
 
 
 def digest(path: Path) -> str | None:

@@ -96,7 +96,7 @@ def test_constant_start_stays_at_chance(tmp_path):
     table = contender_table(tmp_path, "constant")
     assert len(table) == 3
     for _, row in table.iterrows():
-        assert row["ci_low"] <= 0.5 <= row["ci_high"], row.to_dict()
+        assert row["t_low"] <= 0.5 <= row["t_high"], row.to_dict()
 
 
 @pytest.mark.slow
