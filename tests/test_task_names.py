@@ -4,9 +4,10 @@ Walks the syntax tree of every harness module outside the registries (harness/sc
 harness/schema/model_kinds.py), the options module whose `model` literals name the kinds
 (harness/schema/contenders.py) and the data sections (harness/schema/data.py, graph_data.py),
 and fails on a comparison against a registered name: `==`/`!=`/`is`, `in`/`not in` a literal
-collection, or a `match` case on such a name. Nor may a module ask whether options have a kind's own option
-(`getattr(options, "hop_radius", 1)`, `hasattr(options, "heads")`): every kind declares what
-the stages ask of it (`layer_radius()`, `heads_per_layer()`, `merge_per_layer()`).
+collection, or a `match` case on such a name. Nor may a module ask whether options have a
+kind's own option (`getattr(options, "hop_radius", 1)`, `hasattr(options, "heads")`): every
+kind declares what the stages ask of it (`layer_radius()`, `heads_per_layer()`,
+`merge_per_layer()`).
 """
 
 from __future__ import annotations
