@@ -12,7 +12,7 @@ tensors; the factors below are measured (docs/large-graphs.md, "Memory estimate"
 from __future__ import annotations
 
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 from pydantic import BaseModel
@@ -261,6 +261,9 @@ def check_suite_memory(
     limit = machine_bytes() if limit_gib is None else limit_gib * GIB
     check_fixed_part(limit)
     estimates = estimate_runs(design_points(suite), suite.training, size)
+    if suite.data.many_graphs:  # a step holds one batch of graphs: sampling nodes does not apply
+        batch = f"{suite.task_options.batch_size}-graph"
+        estimates = [replace(each, batching=batch, sampled_bytes=None) for each in estimates]
     check_data_memory(data_bytes(suite.data, size), limit, source)
     runs = len(estimates) * len(suite.seed_list)
     check_run_memory(estimates, max(min(jobs, runs), 1), limit, source)
