@@ -658,6 +658,21 @@ CASES: list[Bad] = [
         nodes_csv=FIVE_NODES,
         edges_csv=COMPLETE_EDGES,
     ),
+    # issue 27, item 5: the memory estimate counts a link run's negatives
+    Bad(
+        "link_negatives_above_memory",
+        ("check", "{suite}", "--memory-limit", "14"),
+        "allowed: a smaller link.negatives_per_positive (given 1000, whose scored pairs take",
+        {
+            "suite.toml": LINK_TABLE_SUITE.format(
+                metric="roc_auc", setting="transductive", link="negatives_per_positive = 1000"
+            ).replace(
+                '[data]\nsource = "tables"\nnodes = "nodes.csv"\nedges = "edges.csv"\n'
+                'feature_prefix = "f_"',
+                '[data]\nsource = "synthetic"\nnodes = 20000\nclasses = 4',
+            )
+        },
+    ),
     # issue 27, item 3: a link suite needs no label column, but one it names must be there
     link_table(
         "link_named_label_column_missing",
