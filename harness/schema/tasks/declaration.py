@@ -26,7 +26,9 @@ class Metric:
     """One metric a task's runs store (column `test_<name>`): its label in reports, its range,
     its direction, and the function that computes it (`scorer`, a "module:function" path).
     `every_epoch`: a faster twin giving the same value, for the per-epoch validation score;
-    its arguments are the task's own (see the task's training loop)."""
+    its arguments are the task's own (see the task's training loop). The stages rank a higher
+    value as better (early stopping, tuning, verdicts, gates): `higher_is_better` is declared
+    for them to read, and tests/test_task_registry.py holds every metric to True until they do."""
 
     name: str
     label: str
