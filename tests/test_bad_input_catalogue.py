@@ -658,6 +658,27 @@ CASES: list[Bad] = [
         nodes_csv=FIVE_NODES,
         edges_csv=COMPLETE_EDGES,
     ),
+    # issue 27, item 10: an output path inside a file: one line, before any run or history
+    command(
+        "gate_junit_inside_a_file",
+        "gate {suite} --baseline {baseline} --junit {suite}/gate.xml --store {store}",
+        "cannot write: {suite} is a file, not a folder",
+    ),
+    command(
+        "gate_markdown_inside_a_file",
+        "gate {suite} --baseline {baseline} --markdown {baseline}/a/gate.md --store {store}",
+        "cannot write: {baseline} is a file, not a folder",
+    ),
+    command(
+        "baseline_save_inside_a_file",
+        "baseline {suite} --save {suite}/baseline.json --store {store}",
+        "--save: given",
+    ),
+    command(
+        "report_out_inside_a_file",
+        "report {suite} --out {suite}/report --store {store}",
+        "cannot write the report",
+    ),
     # issue 27, item 5: the memory estimate counts a link run's negatives
     Bad(
         "link_negatives_above_memory",
