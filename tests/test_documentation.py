@@ -40,7 +40,10 @@ def test_ci_builds_the_documentation_strictly():
 
 
 @pytest.mark.parametrize(
-    "page", [ROOT / "README.md", ROOT / "DEVELOPERS.md", *sorted(DOCS.glob("*.md"))], ids=str
+    "page",
+    [ROOT / "README.md", ROOT / "DEVELOPERS.md", ROOT / "benchmarks" / "README.md"]
+    + sorted(DOCS.glob("*.md")),
+    ids=str,
 )
 def test_relative_links_resolve(page: Path):
     text = page.read_text(encoding="utf-8")
