@@ -66,7 +66,9 @@ class TaskKind:
         `data_check`: "module:function" check(suite, data, source) of every seed's split, run by
         `check` before any run. `objective`: the name of its entry in the training stage's objective
         registry. `output_option`: the field of its options table that sets the model's output width
-    (None: one output per class of the data).
+    (None: one output per class of the data). `run_memory`: "module:function" bytes(suite, size)
+    a run holds beyond its model's step (link prediction: the scored pairs and their negatives),
+    with the option that moves them most; None when there is nothing beyond it.
     """
 
     title: str
@@ -82,6 +84,7 @@ class TaskKind:
     options_section: str | None = None
     options: type[BaseModel] | None = None
     output_option: str | None = None
+    run_memory: str | None = None
     keyed: bool = True
     sampled_batches: bool = True
     compiles: bool = True
