@@ -658,6 +658,51 @@ CASES: list[Bad] = [
         nodes_csv=FIVE_NODES,
         edges_csv=COMPLETE_EDGES,
     ),
+    # issue 27, item 10: an output path inside a file: one line, before any run or history
+    command(
+        "gate_junit_inside_a_file",
+        "gate {suite} --baseline {baseline} --junit {suite}/gate.xml --store {store}",
+        "cannot write: {suite} is a file, not a folder",
+    ),
+    command(
+        "gate_markdown_inside_a_file",
+        "gate {suite} --baseline {baseline} --markdown {baseline}/a/gate.md --store {store}",
+        "cannot write: {baseline} is a file, not a folder",
+    ),
+    command(
+        "baseline_save_inside_a_file",
+        "baseline {suite} --save {suite}/baseline.json --store {store}",
+        "--save: given",
+    ),
+    command(
+        "report_out_inside_a_file",
+        "report {suite} --out {suite}/report --store {store}",
+        "cannot write the report",
+    ),
+    # issue 27, item 5: the memory estimate counts a link run's negatives
+    Bad(
+        "link_negatives_above_memory",
+        ("check", "{suite}", "--memory-limit", "14"),
+        "allowed: a smaller link.negatives_per_positive (given 1000, whose scored pairs take",
+        {
+            "suite.toml": LINK_TABLE_SUITE.format(
+                metric="roc_auc", setting="transductive", link="negatives_per_positive = 1000"
+            ).replace(
+                '[data]\nsource = "tables"\nnodes = "nodes.csv"\nedges = "edges.csv"\n'
+                'feature_prefix = "f_"',
+                '[data]\nsource = "synthetic"\nnodes = 20000\nclasses = 4',
+            )
+        },
+    ),
+    # issue 27, item 3: a link suite needs no label column, but one it names must be there
+    link_table(
+        "link_named_label_column_missing",
+        "nodes.csv: column 'kind' (data.label_column) not found",
+        nodes_csv=NODES,
+        suite_toml=LINK_TABLE_SUITE.format(
+            metric="roc_auc", setting="transductive", link=""
+        ).replace('feature_prefix = "f_"', 'feature_prefix = "f_"\nlabel_column = "kind"'),
+    ),
     # issue 27, item 15: a stranded training node is named by its id, not a row position
     link_table(
         "inductive_stranded_node_by_id",

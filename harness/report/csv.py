@@ -8,6 +8,7 @@ from pathlib import Path
 import pandas as pd
 
 from harness.analysis.suite_report import SuiteReport
+from harness.output_files import output_folder, write_output
 from harness.report.breakdown import report_frames
 
 
@@ -18,11 +19,11 @@ def _cell(value: object) -> object:
 
 def write(report: SuiteReport, folder: Path) -> list[Path]:
     """One CSV per non-empty analysis table in `folder`; returns the paths written."""
-    folder.mkdir(parents=True, exist_ok=True)
+    output_folder(folder)
     written = []
     for name, frame in report_frames(report).items():
-        path = folder / f"{name}.csv"
         plain = frame.apply(lambda column: column.map(_cell)) if not frame.empty else frame
-        pd.DataFrame(plain).to_csv(path, index=False)
-        written.append(path)
+        written.append(
+            write_output(folder / f"{name}.csv", pd.DataFrame(plain).to_csv(index=False))
+        )
     return written
