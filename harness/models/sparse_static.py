@@ -99,12 +99,6 @@ class StaticAttention(torch.autograd.Function):
 
 
 @torch.compiler.disable  # CSR tensors are not traced; see harness.models.sparse_kernel
-def static_attention_kernel(
-    from_source: Tensor,
-    at_target: Tensor,
-    values: Tensor,
-    graph: TargetGraph,
-    slope: float,
-    keep: Tensor | None,
-) -> Tensor:
-    return StaticAttention.apply(from_source, at_target, values, graph, slope, keep)
+def static_attention_kernel(*inputs: Tensor | TargetGraph | float | None) -> Tensor:
+    """StaticAttention on (from_source, at_target, values, graph, slope, keep)."""
+    return StaticAttention.apply(*inputs)
