@@ -8,13 +8,17 @@ from pathlib import Path
 import pandas as pd
 
 from harness.analysis.suite_report import SuiteReport
+from harness.formatting import visible
 from harness.output_files import output_folder, write_output
 from harness.report.breakdown import report_frames
 
 
 def _cell(value: object) -> object:
-    """Dicts (ablation points) as JSON text, so a CSV cell holds one value."""
-    return json.dumps(value, sort_keys=True) if isinstance(value, dict) else value
+    """Dicts (ablation points) as JSON text, so a CSV cell holds one value; hidden characters
+    of text shown (harness.formatting.visible)."""
+    if isinstance(value, dict):
+        return json.dumps(value, sort_keys=True)
+    return visible(value) if isinstance(value, str) else value
 
 
 def write(report: SuiteReport, folder: Path) -> list[Path]:
