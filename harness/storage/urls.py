@@ -5,6 +5,7 @@ tail in the host), and secrets removed from any message that might repeat them.
 
 from __future__ import annotations
 
+import re
 from urllib.parse import quote, quote_plus
 
 from sqlalchemy.engine import URL
@@ -48,7 +49,14 @@ def masked(url: URL) -> str:
         url = url.set(host=url.host.rsplit("@", 1)[1])
     query = {key: MASK if _secret_key(key) else value for key, value in url.query.items()}
     shown = url.set(query=query).render_as_string(hide_password=True)
-    return scrub(shown.replace(quote_plus(MASK), MASK), url)
+    return shown.replace(quote_plus(MASK), MASK)
+
+
+def masked_text(text: str) -> str:
+    """A URL that did not parse, as printed: its user part's password and any password
+    parameter masked (up to the last `@` before the path, which covers an unencoded one)."""
+    text = re.sub(r"(://[^/@:]*:)[^/]*@", rf"\1{MASK}@", text)
+    return re.sub(r"(password=)[^&]*", rf"\1{MASK}", text, flags=re.IGNORECASE)
 
 
 def check_password_encoded(url: URL, option: str) -> None:
