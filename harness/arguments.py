@@ -6,7 +6,7 @@ from __future__ import annotations
 import argparse
 from collections.abc import Callable
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, TypeVar
 
 from harness.errors import InputError
 
@@ -22,7 +22,12 @@ class OneLineParser(argparse.ArgumentParser):
         self.exit(2, f"heedful: error: {self.prog}: {' '.join(message.split())}\n")
 
 
-def _number(text: str, kind: Callable[[str], Any], allowed: str, fits: Callable[[Any], bool]):  # noqa: ANN202
+Number = TypeVar("Number", int, float)
+
+
+def _number(
+    text: str, kind: Callable[[str], Number], allowed: str, fits: Callable[[Number], bool]
+) -> Number:
     try:
         value = kind(text)
     except ValueError:
