@@ -75,6 +75,8 @@ def show_check(outcome: CheckOutcome) -> None:
     )
     for note in facts.notes:
         console.print(f"note: {note}", markup=False)
+    for warning in facts.warnings:
+        console.print(warning, markup=False, soft_wrap=True)
     for contender, count in outcome.runs.items():
         ablation = suite.ablation.get(contender)
         mode = ablation.mode.replace("_", "-") if ablation else ""

@@ -57,6 +57,7 @@ def browser():
         driver.quit()
 
 
+@pytest.mark.slow
 def test_report_page_shows_every_table_and_plot_without_console_errors(tmp_path: Path, browser):
     suite, store_path = stored_suite(tmp_path, attention_extras=True)
     out = tmp_path / "report"

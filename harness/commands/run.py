@@ -120,6 +120,8 @@ def run_fixed(
     specs = expand(suite)
     facts = preflight(suite, suite_path)
     check_suite_memory(suite, suite_path, jobs, memory_limit, facts.size)
+    for warning in facts.warnings:
+        feedback.note(warning)
     profile = record_profile(suite, store_path)
     executed = execute_specs(specs, store_path, executor, feedback)
     if executed.stopped:

@@ -25,7 +25,7 @@ from harness.planning import RunSpec
 from harness.planning.run_choices import COMPILE_MIN_EDGES
 from harness.storage import store
 
-# a graph this large gives a lone last run every core (README, Processes and threads)
+# a graph this large gives a lone last run every core (docs/large-graphs.md, threads per run)
 LARGE_GRAPH_EDGES = COMPILE_MIN_EDGES
 
 WORKER_MODULES = (__name__,)  # what a worker loads before its first run

@@ -17,6 +17,7 @@ from harness.data.splits import make_split
 from harness.errors import InputError
 from harness.execution.memory import GraphSize
 from harness.planning import design_points, expand
+from harness.planning.run_choices import COMPILE_MIN_EDGES, compile_pays_back
 from harness.schema.named import imported
 from harness.schema.suite import Suite
 from harness.schema.tasks import task_kind
@@ -33,6 +34,7 @@ class DataFacts:
     edge_homophily: float  # Zhu et al. (2020)
     node_homophily: float  # Pei et al. (2020)
     notes: tuple[str, ...] = ()  # self-loops and repeated edges removed on load
+    warnings: tuple[str, ...] = ()  # settings that will cost more than they give
 
     @property
     def size(self) -> GraphSize:
@@ -95,7 +97,27 @@ def preflight(suite: Suite, source: str) -> DataFacts:
         measured.edge,
         measured.node,
         tuple(cleaning_notes(data, f"{source}: data")) + task_notes(suite, source),
+        compile_warnings(suite, data.edge_index.size(1), source),
     )
+
+
+def compile_warnings(suite: Suite, edges: int, source: str) -> tuple[str, ...]:
+    """One line per contender told `compile = true` on a graph too small for compiling to pay
+    back within its epochs: it will train slower than eager, not faster."""
+    if not task_kind(suite.task).compiles:
+        return ()
+    lines = {}
+    for design in design_points(suite):
+        training = design.options.training.apply(suite.training)
+        model = design.options.model
+        if training.compile is True and not compile_pays_back(model, edges, training.epochs):
+            lines[design.contender] = (
+                f"{source}: contenders.{design.contender}: warning: compile = true on "
+                f"{edges:,} directed edges for {training.epochs} epochs will not pay back: "
+                f"compiling takes tens of seconds per run and saves little below "
+                f'{COMPILE_MIN_EDGES:,} edges; compile = "auto" compiles only where it pays'
+            )
+    return tuple(lines.values())
 
 
 def task_notes(suite: Suite, source: str) -> tuple[str, ...]:

@@ -95,7 +95,7 @@ class RunSpec:
     @property
     def stored_keys(self) -> frozenset[str]:
         """Keys under which this run may be stored: its own, and for a compiled run also the
-        eager one, since a run whose compiling failed is stored as eager (see README)."""
+        eager one, since a run whose compiling failed is stored as eager (docs/large-graphs.md)."""
         if self.training.compile is not True:
             return frozenset({self.key})
         eager = replace(self, training=self.training.model_copy(update={"compile": False}))

@@ -25,15 +25,16 @@ def resolve_compile(training: Training, model: str, data: DataSource) -> Trainin
     if training.compile != "auto":
         return training
     edges = data.declared_edges()
+    wanted = edges is not None and compile_pays_back(model, edges, training.epochs)
+    return training.model_copy(update={"compile": wanted})
+
+
+def compile_pays_back(model: str, edges: int, epochs: int) -> bool:
+    """Whether compiling a full-batch run of `model` on `edges` directed edges for `epochs`
+    epochs saves more than the compile costs (the kind's measured `compile_payback`)."""
     kind = MODEL_KINDS.get(model)
     payback = None if kind is None else kind.compile_payback
-    wanted = (
-        edges is not None
-        and payback is not None
-        and edges >= COMPILE_MIN_EDGES
-        and edges * training.epochs >= payback
-    )
-    return training.model_copy(update={"compile": wanted})
+    return payback is not None and edges >= COMPILE_MIN_EDGES and edges * epochs >= payback
 
 
 def sampler_in_use() -> str:

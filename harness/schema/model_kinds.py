@@ -43,7 +43,7 @@ class ModelKind:
     A kind that `attends` builds a network with attention weights
     (harness.models.interface.AttentionNetwork), which the diagnostics read. `compile_payback`:
     directed edges x maximum epochs from which `compile = "auto"` compiles it (the one-off
-    compile time is paid back; benchmarks/large_graphs.py, README Performance); None: never.
+    compile time is paid back; benchmarks/large_graphs.py, docs/performance.md); None: never.
     `layer`: for kinds sharing the attention builder, "module:function" of one layer,
     layer(options, in_width, out_width_per_head, heads, concatenate) -> torch module."""
 

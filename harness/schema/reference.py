@@ -1,6 +1,6 @@
 """The suite-file reference, written from the schema itself: every key with its type, default,
 allowed values and description, one Markdown table per TOML table. The documentation build
-(docs/hooks/suite_reference.py) writes it into the site, so the reference cannot drift from
+(docs/hooks/generated_pages.py) writes it into the site, so the reference cannot drift from
 what the schema accepts; tests/test_suite_reference.py checks it covers every field.
 """
 
