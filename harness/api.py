@@ -39,10 +39,8 @@ from harness.report.wording import with_reasons
 from harness.schema.analysis import Analysis
 from harness.storage.suite_runs import analysis_settings, named_suite, suite_runs
 
-Store = str | Path
 
-
-def runs(store_path: Store, suite: str | Path | None = None) -> pd.DataFrame:
+def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFrame:
     """Stored runs of a suite file (the runs it still expands to) or a stored suite name, or
     every stored run."""
     return suite_report.stored_runs(suite_runs(store_path, suite))
@@ -53,13 +51,13 @@ def settings_of(suite: str | Path | None) -> Analysis:
     return analysis_settings(None if suite is None else named_suite(suite))
 
 
-def analyse_store(store_path: Store, suite: str | Path) -> SuiteReport:
+def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
     """Every analysis of a suite's stored runs, with the suite's settings (a suite file adds its
     homophily map and per-node breakdown when stored)."""
     return suite_report.analyse_store(suite_runs(store_path, suite))
 
 
-def breakdown(store_path: Store, suite: str | Path) -> pd.DataFrame:
+def breakdown(store_path: str | Path, suite: str | Path) -> pd.DataFrame:
     """Per node group and comparison of a suite file's stored runs (csv/breakdown.csv's
     columns, then seeds, p-values and verdicts)."""
     return suite_report.node_breakdown(suite_runs(store_path, suite))
