@@ -21,7 +21,7 @@ from harness.commands.feedback import SILENT, Feedback
 from harness.commands.tuned import TunedOutcome, run_tuned
 from harness.errors import InputError
 from harness.execution.executed import Executed
-from harness.execution.executors import Executor, Resources, executor_for
+from harness.execution.executors import ClusterLink, Executor, Resources, executor_for
 from harness.schema.suite import Suite
 from harness.storage.suite_runs import SuiteRuns
 
@@ -30,7 +30,6 @@ if TYPE_CHECKING:
     from harness.analysis.homophily_map import HomophilyMapSummary
     from harness.analysis.suite_report import SuiteReport
     from harness.data.profile import DatasetProfile
-    from harness.execution.executors import ClusterLink
     from harness.storage.database import Location
 
 __all__ = ["check_cluster_use", "connected_cluster"]  # the command line imports them from here
