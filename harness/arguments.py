@@ -68,9 +68,13 @@ def output_file(text: str) -> Path:
 
 def store_location(text: str) -> Location:
     from harness.storage.database import locate
+    from harness.storage.outages import check_reachable
 
     try:
-        return locate(text)
+        location = locate(text)
+        if location.path is None:  # a server that is away now: its address is likely wrong
+            check_reachable(location.url, "--store")
+        return location
     except InputError as error:
         raise argparse.ArgumentTypeError(str(error)) from None
 

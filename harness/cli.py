@@ -20,7 +20,7 @@ from harness.arguments import (
     suite_file,
     suite_file_or_name,
 )
-from harness.errors import InputError
+from harness.errors import InputError, ServiceOutage
 
 if TYPE_CHECKING:
     from collections.abc import Callable
@@ -366,6 +366,9 @@ def main(argv: list[str] | None = None) -> int:
     except InputError as error:
         screen.errors.print(f"heedful: error: {error}", markup=False, soft_wrap=True)
         return 2
+    except ServiceOutage as error:  # a failing run, not bad input
+        screen.errors.print(f"heedful: error: {error}", markup=False, soft_wrap=True)
+        return 3
     except KeyboardInterrupt:
         screen.errors.print("interrupted")
         return 130

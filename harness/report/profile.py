@@ -32,19 +32,21 @@ def print_profile(profile: DatasetProfile, console: Console, notes: tuple[str, .
         f"{escape(str(name))} {count} ({count / labelled:.0%})"
         for name, count in zip(profile.class_names, profile.class_counts, strict=True)
     )
-    table.add_row("classes", f"{len(profile.class_counts)}: {balance}")
-    table.add_row("unlabelled nodes", f"{profile.unlabelled_nodes}")
+    if profile.labelled:
+        table.add_row("classes", f"{len(profile.class_counts)}: {balance}")
+        table.add_row("unlabelled nodes", f"{profile.unlabelled_nodes}")
     table.add_row(
         "features",
         f"{f.dimension} columns, mean {f.mean:.3g}, sd {f.standard_deviation:.3g}, "
         f"range [{f.minimum:.3g}, {f.maximum:.3g}], {f.constant_columns} constant, "
         f"{f.zero_share:.0%} zeros",
     )
-    table.add_row(
-        "homophily",
-        f"edge {h.edge:.3f}, node {h.node:.3f}, class-insensitive {h.class_insensitive:.3f}, "
-        f"adjusted {h.adjusted:.3f}",
-    )
+    if h is not None:
+        table.add_row(
+            "homophily",
+            f"edge {h.edge:.3f}, node {h.node:.3f}, class-insensitive "
+            f"{h.class_insensitive:.3f}, adjusted {h.adjusted:.3f}",
+        )
     console.print(table)
     for note in notes:
         console.print(f"note: {note}", markup=False, highlight=False)
@@ -53,5 +55,7 @@ def print_profile(profile: DatasetProfile, console: Console, notes: tuple[str, .
 def profile_json(profile: DatasetProfile) -> str:
     """The profile as JSON; undefined homophily (one class) is written as null."""
     values = profile.as_dict()
-    values["homophily"] = {k: (None if v != v else v) for k, v in values["homophily"].items()}
+    if values["homophily"] is not None:
+        homophily = values["homophily"].items()
+        values["homophily"] = {k: (None if v != v else v) for k, v in homophily}
     return json.dumps(values, indent=2)

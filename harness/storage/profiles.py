@@ -9,10 +9,11 @@ from pathlib import Path
 from pydantic import BaseModel
 
 from harness.data import load_graph
-from harness.data.assemble import cleaning_notes
+from harness.data.assemble import cleaning_notes, require_labels
 from harness.data.profile import DatasetProfile, profile_graph
 from harness.digest import text_digest
-from harness.storage.database import insert, opened, prepare, read_rows
+from harness.schema.tasks import task_kind
+from harness.storage.database import insert, opened, patient, prepare, read_rows
 from harness.storage.store import Store
 from harness.storage.tables import PROFILES
 
@@ -22,6 +23,7 @@ def data_key(section: BaseModel) -> str:
     return text_digest(section.model_dump_json())
 
 
+@patient
 def save_profile(store: Store, suite: str, section: BaseModel, profile: DatasetProfile) -> None:
     """Store (or refresh) the profile of a suite's data next to its runs."""
     row = {
@@ -36,6 +38,7 @@ def save_profile(store: Store, suite: str, section: BaseModel, profile: DatasetP
         insert(connection, PROFILES, row, replace=True)
 
 
+@patient
 def load_profiles(store: Store, suite: str) -> list[DatasetProfile]:
     """Stored profiles of a suite, oldest first."""
     with opened(store, write=False) as connection:
@@ -44,9 +47,13 @@ def load_profiles(store: Store, suite: str) -> list[DatasetProfile]:
 
 
 def suite_profile(suite: BaseModel, source: str) -> tuple[DatasetProfile, list[str]]:
-    """The profile of a suite's data, and notes on what loading had to clean."""
+    """The profile of a suite's data, and notes on what loading had to clean; node-label facts
+    only when the suite's task reads node labels (then the labels must be usable)."""
     data = load_graph(suite.data)
-    return profile_graph(data), cleaning_notes(data, f"{source}: data")
+    labels = task_kind(suite.task).node_labels
+    if labels:
+        require_labels(data)
+    return profile_graph(data, labels), cleaning_notes(data, f"{source}: data")
 
 
 def record_profile(suite: BaseModel, path: str | Path) -> DatasetProfile:
