@@ -9,6 +9,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, TypeVar
 
 from harness.errors import InputError
+from harness.output_files import check_parent
 
 if TYPE_CHECKING:
     from harness.storage.database import Location
@@ -60,9 +61,14 @@ def cluster_address(text: str) -> str:
 
 
 def output_file(text: str) -> Path:
-    """A file the command will write: not an existing folder."""
+    """A file the command will write: not an existing folder, nor in a folder that is a file
+    (checked before any run, as well as when written)."""
     if Path(text).is_dir():
         raise argparse.ArgumentTypeError(f"given {text!r}, a folder; allowed: a file path")
+    try:
+        check_parent(Path(text))
+    except InputError as error:
+        raise argparse.ArgumentTypeError(f"given {text!r}; {error}") from None
     return Path(text)
 
 

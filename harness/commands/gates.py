@@ -27,6 +27,7 @@ from harness.gate.baseline import (
 )
 from harness.gate.compare import GateOutcome, evaluate
 from harness.gate.records import history_records
+from harness.output_files import write_output
 from harness.planning import RunSpec, expand
 from harness.report.gate_markdown import gate_markdown
 from harness.report.junit import write_junit
@@ -130,10 +131,11 @@ def gate(
     outcome = evaluate(
         suite, labels, stored, runs, environment, differences, time.time(), unmatched
     )
-    gate_history.append(store_path, history_records(outcome))
+    # the files first: one that cannot be written stops the gate (exit 2) before its history
+    # is appended, so a rerun is not counted twice
     if junit:
         write_junit(junit, outcome)
     if markdown:
-        Path(markdown).parent.mkdir(parents=True, exist_ok=True)
-        Path(markdown).write_text(gate_markdown(outcome), encoding="utf-8")
+        write_output(markdown, gate_markdown(outcome))
+    gate_history.append(store_path, history_records(outcome))
     return GateRun(store_path, executed, outcome)

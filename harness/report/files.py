@@ -13,6 +13,7 @@ from pathlib import Path
 
 from harness.analysis.suite_report import SuiteReport
 from harness.errors import InputError
+from harness.output_files import output_folder, write_output
 from harness.report import csv, html, latex, markdown
 from harness.report.plots import figures
 
@@ -20,22 +21,16 @@ Writer = Callable[[SuiteReport, dict[str, bytes], Path, bytes | None], list[Path
 
 
 def _text(path: Path, text: str) -> list[Path]:
-    path.write_text(text, encoding="utf-8")
-    return [path]
+    return [write_output(path, text)]
 
 
 def write_plots(
     report: SuiteReport, plots: dict[str, bytes], folder: Path, trend: bytes | None
 ) -> list[Path]:
     """plots/NAME.png for every plot, and plots/gate_trend.png when there is a trend."""
-    (folder / "plots").mkdir(parents=True, exist_ok=True)
+    plots_folder = output_folder(folder / "plots")
     pictures = dict(plots) | ({"gate_trend": trend} if trend is not None else {})
-    written = []
-    for name, png in pictures.items():
-        path = folder / "plots" / f"{name}.png"
-        path.write_bytes(png)
-        written.append(path)
-    return written
+    return [write_output(plots_folder / f"{name}.png", png) for name, png in pictures.items()]
 
 
 WRITERS: dict[str, Writer] = {

@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 import base64
-from html import escape
+import html
 
 from harness.analysis.suite_report import SuiteReport
+from harness.formatting import visible
 from harness.report.breakdown import report_tables
 from harness.report.plots import PLOT_TITLES
 from harness.report.text_table import TextTable, facts
@@ -25,6 +26,11 @@ td.number { text-align: right; font-variant-numeric: tabular-nums; white-space: 
 figure { margin: 1rem 0 2rem; }
 figure img { max-width: 100%; }
 """
+
+
+def escape(text: str) -> str:
+    """Text safe in HTML: hidden characters shown (harness.formatting.visible), then entities."""
+    return html.escape(visible(str(text)))
 
 
 def table(part: TextTable) -> str:

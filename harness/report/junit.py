@@ -12,6 +12,7 @@ import xml.etree.ElementTree as ElementTree
 from pathlib import Path
 
 from harness.gate.compare import FAIL, SKIP, WARN, GateOutcome
+from harness.output_files import write_output
 
 
 def junit_tree(outcome: GateOutcome) -> ElementTree.ElementTree:
@@ -74,7 +75,12 @@ def junit_tree(outcome: GateOutcome) -> ElementTree.ElementTree:
     return ElementTree.ElementTree(root)
 
 
+def junit_xml(outcome: GateOutcome) -> bytes:
+    """The JUnit XML document, UTF-8 with its declaration."""
+    root = junit_tree(outcome).getroot()
+    return ElementTree.tostring(root, encoding="utf-8", xml_declaration=True)
+
+
 def write_junit(path: str | Path, outcome: GateOutcome) -> None:
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    junit_tree(outcome).write(path, encoding="utf-8", xml_declaration=True)
+    """The JUnit XML file at `path` (a link there is replaced, not written through)."""
+    write_output(path, junit_xml(outcome))

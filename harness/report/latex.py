@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from harness.analysis.suite_report import SuiteReport
+from harness.formatting import visible
 from harness.report.breakdown import report_tables
 from harness.report.text_table import TextTable
 from harness.report.wording import headline_sentence, notices
@@ -28,8 +29,9 @@ _SPECIAL = {
 
 
 def escape(text: str) -> str:
-    """Text safe in LaTeX's text mode: every special character replaced."""
-    return "".join(_SPECIAL.get(character, character) for character in str(text))
+    """Text safe in LaTeX's text mode: hidden characters shown (harness.formatting.visible),
+    then every special character replaced."""
+    return "".join(_SPECIAL.get(character, character) for character in visible(str(text)))
 
 
 def table(part: TextTable) -> str:

@@ -8,6 +8,7 @@ from collections.abc import Mapping
 
 import pandas as pd
 
+from harness.formatting import visible
 from harness.report.markdown_text import escape
 from harness.storage.store import TEST_COLUMNS
 from harness.training.fit import NodePredictions
@@ -76,7 +77,8 @@ def flat(runs: pd.DataFrame) -> pd.DataFrame:
 
 
 def as_csv(runs: pd.DataFrame) -> str:
-    return flat(runs).to_csv(index=False)
+    """The runs as CSV, hidden characters of text shown (harness.formatting.visible)."""
+    return flat(runs).map(lambda v: visible(v) if isinstance(v, str) else v).to_csv(index=False)
 
 
 def as_markdown(runs: pd.DataFrame) -> str:
