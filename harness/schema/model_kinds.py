@@ -16,6 +16,7 @@ from harness.schema.contenders import (
     AttentionOptions,
     ContenderBase,
     ConvolutionOptions,
+    EdgeConvolutionOptions,
     MLPOptions,
     NeighbourMeanOptions,
 )
@@ -45,7 +46,8 @@ class ModelKind:
     directed edges x maximum epochs from which `compile = "auto"` compiles it (the one-off
     compile time is paid back; benchmarks/large_graphs.py, docs/performance.md); None: never.
     `layer`: for kinds sharing the attention builder, "module:function" of one layer,
-    layer(options, in_width, out_width_per_head, heads, concatenate) -> torch module.
+    layer(options, in_width, out_width_per_head, heads, concatenate, edge_width) -> torch
+    module (edge_width 0: no edge attributes).
     `sparse_kernel`: its layers can run on harness.models.sparse_layers (`kernel` in
     [training])."""
 
@@ -104,6 +106,13 @@ MODEL_KINDS: dict[str, ModelKind] = {
         "harness.models.neighbour_mean:build",
         SavedFloats(node_inputs=2, node_outputs=2),
         compile_payback=35e6,  # 17.4 epochs on 2M edges
+    ),
+    # ReLU(h_j + W_e e_ji) per edge and the two-layer MLP per node (tests/test_memory.py)
+    "gine": ModelKind(
+        EdgeConvolutionOptions,
+        "harness.models.edge_convolution:build",
+        SavedFloats(node_inputs=2, node_outputs=5, edge_outputs=1),
+        compile_payback=None,
     ),
     "mlp": ModelKind(
         MLPOptions,
