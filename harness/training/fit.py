@@ -277,7 +277,7 @@ def perform(
         graph = started.data
         diagnose = chunked_attention_diagnostics if spec.training.sampled else attention_diagnostics
         attributes = read_attributes(model, graph)
-        diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y, attributes)
+        diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y, attributes, data)
         result = replace(result, extras={**result.extras, "attention": diagnostics})
     resident = peak_resident_mb() if measured else None
     extras = {**result.extras, "threads": threads, "peak_resident_mb": resident}
