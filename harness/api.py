@@ -30,8 +30,8 @@ from harness.analysis.suite_report import (
     stored_homophily_map,
 )
 from harness.analysis.suite_report import node_breakdown as breakdown
-from harness.report.wording import headline_sentence as headline
-from harness.report.wording import with_reasons
+from harness.report.documents.wording import headline_sentence as headline
+from harness.report.documents.wording import with_reasons
 
 __all__ = [
     "SuiteReport",

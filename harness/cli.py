@@ -142,6 +142,7 @@ def checked_cluster(args: argparse.Namespace) -> str | None:
 
 
 def parser() -> argparse.ArgumentParser:
+    from harness.report.formats import DESCRIBE_FORMATS, SHOW_FORMATS, options
     from harness.storage.database import locate
     from harness.storage.store import DEFAULT_STORE
 
@@ -217,12 +218,12 @@ def parser() -> argparse.ArgumentParser:
         "describe", help="describe a suite's data: size, degrees, classes, features, homophily"
     )
     describe.add_argument("suite")
-    describe.add_argument("--format", choices=("table", "json"), default="table")
+    describe.add_argument("--format", choices=options(DESCRIBE_FORMATS), default="table")
     describe.set_defaults(handler=command_describe)
 
     show = commands.add_parser("show", help="print stored runs")
     show.add_argument("suite", nargs="?", help="suite file or suite name (default: all)")
-    show.add_argument("--format", choices=("table", "json", "csv", "md"), default="table")
+    show.add_argument("--format", choices=options(SHOW_FORMATS), default="table")
     show.add_argument(
         "--predictions",
         action="store_true",

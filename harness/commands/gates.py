@@ -27,8 +27,8 @@ from harness.gate.baseline import (
 from harness.gate.compare import GateOutcome, evaluate
 from harness.gate.records import history_records
 from harness.planning import RunSpec, expand, load_suite
-from harness.report.gate_markdown import gate_markdown
-from harness.report.junit import write_junit
+from harness.report.documents.gate import gate_document
+from harness.report.formats import FORMATS
 from harness.schema.suite import Suite
 from harness.storage import gate_history
 from harness.storage.selection import spec_runs
@@ -131,9 +131,9 @@ def gate(
         suite, labels, stored, runs, environment, differences, time.time(), unmatched
     )
     gate_history.append(store_path, history_records(outcome))
-    if junit:
-        write_junit(junit, outcome)
-    if markdown:
-        Path(markdown).parent.mkdir(parents=True, exist_ok=True)
-        Path(markdown).write_text(gate_markdown(outcome), encoding="utf-8")
+    document = gate_document(outcome)
+    for path, name in ((junit, "junit"), (markdown, "markdown")):
+        if path:
+            Path(path).parent.mkdir(parents=True, exist_ok=True)
+            Path(path).write_text(FORMATS[name].render(document), encoding="utf-8")
     return GateRun(store_path, executed, outcome)

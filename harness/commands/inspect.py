@@ -14,6 +14,7 @@ from harness.planning import load_suite
 from harness.schema.suite import Suite
 
 if TYPE_CHECKING:
+    from harness.report.documents.document import Document
     from harness.storage.database import Location
 
 
@@ -146,16 +147,19 @@ class ReportOutcome:
     report: Any  # harness.analysis.suite_report.SuiteReport
     out: Path
     written: tuple[Path, ...]
+    document: Document | None = None  # what the files say, for the screen
     status: int = 0
 
 
 def report(store_path: Location, suite_argument: str, out: Path) -> ReportOutcome:
     from harness.analysis.suite_report import analyse_store
-    from harness.report.files import write_report
-    from harness.report.trend import trend_png
+    from harness.report.documents.suite import suite_document
+    from harness.report.documents.trend import trend_png
+    from harness.report.formats.folder import prepared, write_report
     from harness.storage.gate_history import stored_history
 
     analysed = analyse_store(store_path, suite_argument)
+    out = prepared(out)  # before drawing: a bad folder fails fast
     trend = trend_png(stored_history(store_path, analysed.suite))
-    written = write_report(analysed, out, trend)
-    return ReportOutcome(analysed, out, tuple(written))
+    document = suite_document(analysed, drawn=True, trend=trend)
+    return ReportOutcome(analysed, out, tuple(write_report(document, out)), document)

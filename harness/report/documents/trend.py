@@ -36,10 +36,6 @@ def trend_figure(history: pd.DataFrame) -> Figure:
     return figure
 
 
-def save_trend(history: pd.DataFrame, path: str) -> None:
-    trend_figure(history).savefig(path)
-
-
 TREND_TITLE = "Gate history: mean test metric and seconds per epoch per gate run"
 
 

@@ -16,8 +16,8 @@ from matplotlib.figure import Figure
 from harness.analysis.suite_report import SuiteReport
 from harness.analysis.verdict import BETTER, INCONCLUSIVE, NO_DIFFERENCE, WORSE
 from harness.formatting import percent
-from harness.report.homophily_plots import homophily_plot
-from harness.report.text_table import report_metric
+from harness.report.documents.homophily_plots import homophily_plot
+from harness.report.documents.suite_facts import report_metric
 
 SIDE_COLOURS = {"attention": "#c2571a", "baseline": "#2f6f9f"}
 VERDICT_COLOURS = {
