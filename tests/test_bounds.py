@@ -11,8 +11,8 @@ from scipy import stats as scipy_stats
 
 from harness.analysis.suite_report import analyse
 from harness.report.documents.suite import suite_document
-from harness.report.formats.markdown import render
 from harness.report.documents.wording import headline_sentence, reasons
+from harness.report.formats.markdown import render
 
 # three seeds, one of them slow to learn for the baseline: differences of +80, +79 and +22 points
 ATTENTION = [0.90, 0.91, 0.89]

@@ -21,8 +21,8 @@ from harness.cli import main
 from harness.execution.local import execute
 from harness.planning import expand, load_suite
 from harness.report.documents.suite import suite_document
-from harness.report.formats.folder import write_report
 from harness.report.documents.wording import breakdown_summary
+from harness.report.formats.folder import write_report
 from harness.storage.predictions import decode, encode, levels, load_predictions
 from harness.training.fit import NodePredictions
 

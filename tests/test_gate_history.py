@@ -9,11 +9,11 @@ import pytest
 from sqlalchemy import text
 
 from harness.cli import main
+from harness.formatting import sparkline
 from harness.gate.baseline import build_baseline, contender_labels
 from harness.gate.compare import evaluate
 from harness.gate.records import history_records
 from harness.planning import expand, parse_suite
-from harness.formatting import sparkline
 from harness.report.documents.document import Document, Plot
 from harness.report.documents.trend import TREND_TITLE, trend_figure, trend_png
 from harness.report.formats import html

@@ -4,6 +4,7 @@ computed by harness.data.profile)."""
 from __future__ import annotations
 
 from harness.data.profile import DatasetProfile
+from harness.formatting import missing
 from harness.report.documents.document import Document, Text, table
 
 
@@ -46,7 +47,7 @@ def profile_document(profile: DatasetProfile, notes: tuple[str, ...] = ()) -> Do
     """The profile's properties, then the notes; its JSON data is the profile, with undefined
     homophily (one class) as null."""
     values = profile.as_dict()
-    values["homophily"] = {k: (None if v != v else v) for k, v in values["homophily"].items()}
+    values["homophily"] = {k: (None if missing(v) else v) for k, v in values["homophily"].items()}
     part = table("profile", "", ["", ""], profile_rows(profile), right=(False, False))
     blocks = (part, *(Text(f"note: {note}") for note in notes))
     return Document(title="Dataset profile", blocks=blocks, data=values, name="profile")

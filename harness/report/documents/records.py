@@ -3,11 +3,11 @@
 from __future__ import annotations
 
 import json
-import math
 from collections.abc import Mapping
 
 import pandas as pd
 
+from harness.formatting import missing
 from harness.report.documents.document import Document, table
 from harness.storage.store import TEST_COLUMNS
 from harness.training.fit import NodePredictions
@@ -54,7 +54,7 @@ def records(runs: pd.DataFrame) -> list[dict]:
 
 def _plain(value: object) -> object:
     """NaN becomes None so that the JSON output stays valid JSON."""
-    return None if isinstance(value, float) and math.isnan(value) else value
+    return None if missing(value) else value
 
 
 def records_document(

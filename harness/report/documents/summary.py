@@ -4,13 +4,19 @@ paired comparisons with their reasons and the per-node breakdown. Formatting onl
 
 from __future__ import annotations
 
-import math
-
 import pandas as pd
 
 from harness.analysis.axes import AblationView
 from harness.analysis.suite_report import SuiteReport
-from harness.formatting import fixed, interval, metric_label, percent, signed, signed_interval
+from harness.formatting import (
+    fixed,
+    interval,
+    metric_label,
+    missing,
+    percent,
+    signed,
+    signed_interval,
+)
 from harness.report.documents.breakdown import headline_table
 from harness.report.documents.diagnostic_tables import arrival_table
 from harness.report.documents.document import Block, Document, Items, Table, table
@@ -47,7 +53,7 @@ def summary_table(summary: pd.DataFrame, title: str) -> Table:
 
 def _share(value: float, chance: float) -> str:
     """A measured share with its uniform-attention value in brackets; "-" when not measured."""
-    if value is None or (isinstance(value, float) and math.isnan(value)):
+    if missing(value):
         return "-"
     return f"{fixed(value)} ({fixed(chance)})"
 
@@ -88,7 +94,7 @@ def axis_level_table(
 
 def attention_variants_table(attention: pd.DataFrame) -> Table:
     """Per variant: does its attention differ from neighbour averaging?"""
-    unlabelled = bool(attention["same_label_share"].isna().all())
+    unlabelled = all(missing(value) for value in attention["same_label_share"])
     rows = [
         [
             str(row.variant),

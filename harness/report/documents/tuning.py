@@ -6,15 +6,15 @@ from __future__ import annotations
 
 import pandas as pd
 
-from harness.formatting import fixed, sparkline
+from harness.formatting import fixed, missing, sparkline
 from harness.report.documents.document import Document, Table, table
 
 
 def budget_text(row: pd.Series) -> str:
     parts = []
-    if not pd.isna(row["budget_trials"]):
+    if not missing(row["budget_trials"]):
         parts.append(f"{int(row['budget_trials'])} trials")
-    if not pd.isna(row["budget_seconds"]):
+    if not missing(row["budget_seconds"]):
         parts.append(f"{row['budget_seconds']:g} s")
     return " or ".join(parts)
 
