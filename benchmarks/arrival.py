@@ -31,8 +31,9 @@ from harness.data.inductive import measure_arrival  # noqa: E402
 from harness.data.splits import make_split  # noqa: E402
 from harness.gate.baseline import cpu_model  # noqa: E402
 from harness.models import build_model  # noqa: E402
-from harness.schema.data import FractionSplit, SyntheticData  # noqa: E402
+from harness.schema.data import SyntheticData  # noqa: E402
 from harness.schema.model_kinds import ContenderOptions  # noqa: E402
+from harness.schema.splits import FractionSplit  # noqa: E402
 
 CONTENDERS = {
     "gat": ({"model": "gat", "heads": 4, "hidden": 8}, 2),

@@ -8,7 +8,7 @@ import gc
 import sys
 from pathlib import Path
 
-from harness import screen
+from harness import __version__, screen
 from harness.arguments import (
     OneLineParser,
     cluster_address,
@@ -38,14 +38,14 @@ def command_run(args: argparse.Namespace) -> int:
     )
 
     feedback = screen.feedback(args.quiet)
-    check_cluster_use(args.suite, args.store, args.storage, checked_cluster(args))
+    check_cluster_use(args.suite, args.store, args.tuning_database, checked_cluster(args))
     with connected_cluster(args.cluster) as cluster:
         outcome = run_suite(
             args.suite,
             args.store,
             args.jobs,
             args.threads,
-            args.storage,
+            args.tuning_database,
             args.memory_limit,
             feedback,
             cluster,
@@ -64,7 +64,7 @@ def command_run(args: argparse.Namespace) -> int:
 def command_tuning(args: argparse.Namespace) -> int:
     from harness.commands.inspect import tuning
 
-    screen.show_tuning(tuning(args.suite, args.store, args.storage))
+    screen.show_tuning(tuning(args.suite, args.store, args.tuning_database))
     return 0
 
 
@@ -134,6 +134,19 @@ def command_report(args: argparse.Namespace) -> int:
     return outcome.status
 
 
+class RenamedOption(argparse.Action):
+    """The tuning database's old option name: still read, with a one-line note to move on."""
+
+    def __call__(self, parser, namespace, values, option_string=None) -> None:  # noqa: ANN001
+        screen.errors.print(
+            "heedful: note: --storage is now called --tuning-database; the old name still "
+            "works but will be removed",
+            markup=False,
+            soft_wrap=True,
+        )
+        setattr(namespace, self.dest, values)
+
+
 def checked_cluster(args: argparse.Namespace) -> str | None:
     """--cluster or --jobs, not both."""
     if args.cluster is not None and args.jobs > 1:
@@ -149,7 +162,13 @@ def parser() -> argparse.ArgumentParser:
     top = OneLineParser(
         prog="heedful", description="Benchmark graph attention against simpler baselines."
     )
-    commands = top.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    top.add_argument("--version", action="version", version=f"heedful {__version__}")
+    commands = top.add_subparsers(
+        dest="command", required=True, metavar="COMMAND", help="heedful COMMAND --help says more"
+    )
+
+    def with_suite(sub: argparse.ArgumentParser, text: str = "suite file (TOML)") -> None:
+        sub.add_argument("suite", metavar="SUITE", help=text)
 
     def with_store(sub: argparse.ArgumentParser) -> None:
         sub.add_argument(
@@ -162,68 +181,101 @@ def parser() -> argparse.ArgumentParser:
         )
 
     def with_jobs(sub: argparse.ArgumentParser) -> None:
-        sub.add_argument("--jobs", type=positive_int, default=1, help="worker processes")
+        sub.add_argument(
+            "--jobs",
+            type=positive_int,
+            default=1,
+            metavar="N",
+            help="train N runs at once in N worker processes (default 1; at most the usable cores)",
+        )
         sub.add_argument(
             "--cluster",
             type=cluster_address,
             metavar="ADDRESS",
             help="run on the Dask scheduler at ADDRESS (tcp://host:8786), or on a throw-away "
-            "local cluster of N worker processes (local:N); this process stores every result",
+            "local cluster of N worker processes (local:N); this process stores every result "
+            "(default: no cluster, local processes)",
         )
         sub.add_argument(
             "--threads",
             type=positive_int,
             default=1,
+            metavar="T",
             help="torch threads per process (default 1; jobs x threads must fit the cores)",
         )
 
-    def with_storage(sub: argparse.ArgumentParser) -> None:
+    def with_tuning_database(sub: argparse.ArgumentParser) -> None:
         sub.add_argument(
-            "--storage",
+            "--tuning-database",
             metavar="URL",
-            help="tuning storage, any SQLAlchemy URL Optuna supports (default: SQLite file "
-            "beside the result store); workers on one storage share the work",
+            help="database of the tuning studies, any SQLAlchemy URL Optuna supports (default: "
+            "an SQLite file beside the result store, runs/heedful-tuning.db; with a PostgreSQL "
+            "--store, that database); processes on one database share the tuning work",
+        )
+        sub.add_argument(
+            "--storage", action=RenamedOption, dest="tuning_database", help=argparse.SUPPRESS
         )
 
-    def with_memory_limit(sub: argparse.ArgumentParser) -> None:
+    def with_memory_limit(sub: argparse.ArgumentParser, per: str) -> None:
         sub.add_argument(
             "--memory-limit",
             type=positive_float,
             metavar="GIB",
-            help="stop when a run's estimated peak memory (times --jobs) exceeds this many GiB "
-            "(default: this machine's memory)",
+            help=f"stop with exit status 2 when the estimated peak memory of {per} exceeds "
+            "GIB gibibytes (default: this machine's physical memory)",
         )
 
-    check = commands.add_parser("check", help="validate a suite and count its runs")
-    check.add_argument("suite")
-    with_memory_limit(check)
+    check = commands.add_parser(
+        "check", help="validate a suite, count its runs and estimate their memory"
+    )
+    with_suite(check)
+    with_memory_limit(check, "one run")
     check.set_defaults(handler=command_check)
 
     run = commands.add_parser("run", help="run a suite (finished runs are reused)")
-    run.add_argument("suite")
+    with_suite(run)
     with_jobs(run)
-    run.add_argument("--quiet", action="store_true", help="no progress bar")
-    with_memory_limit(run)
+    run.add_argument(
+        "--quiet", action="store_true", help="no progress bar or progress notes (default: shown)"
+    )
+    with_memory_limit(run, "--jobs runs side by side")
     with_store(run)
-    with_storage(run)
+    with_tuning_database(run)
     run.set_defaults(handler=command_run)
 
     tuned = commands.add_parser("tuning", help="print what tuning did for a tuned suite")
-    tuned.add_argument("suite")
+    with_suite(tuned)
     with_store(tuned)
-    with_storage(tuned)
+    with_tuning_database(tuned)
     tuned.set_defaults(handler=command_tuning)
 
     describe = commands.add_parser(
         "describe", help="describe a suite's data: size, degrees, classes, features, homophily"
     )
-    describe.add_argument("suite")
-    describe.add_argument("--format", choices=options(DESCRIBE_FORMATS), default="table")
+    with_suite(describe)
+    describe.add_argument(
+        "--format",
+        choices=options(DESCRIBE_FORMATS),
+        default="table",
+        help="table for reading, json for scripts (default: %(default)s)",
+    )
     describe.set_defaults(handler=command_describe)
 
-    show = commands.add_parser("show", help="print stored runs")
-    show.add_argument("suite", nargs="?", help="suite file or suite name (default: all)")
-    show.add_argument("--format", choices=options(SHOW_FORMATS), default="table")
+    show = commands.add_parser(
+        "show",
+        help="print stored results: summaries and verdicts (table), or every stored run "
+        "(json, csv, md)",
+    )
+    show.add_argument(
+        "suite", nargs="?", metavar="SUITE", help="suite file or stored suite name (default: all)"
+    )
+    show.add_argument(
+        "--format",
+        choices=options(SHOW_FORMATS),
+        default="table",
+        help="table: per-contender summaries, ablation effects and verdicts; json, csv, md: "
+        "one record per stored run (default: %(default)s)",
+    )
     show.add_argument(
         "--predictions",
         action="store_true",
@@ -235,29 +287,53 @@ def parser() -> argparse.ArgumentParser:
     report = commands.add_parser(
         "report", help="write statistics, verdicts and plots (Markdown, CSV, LaTeX, HTML)"
     )
-    report.add_argument("suite", help="suite file or stored suite name")
-    report.add_argument("--out", type=Path, required=True, help="folder for the report files")
+    with_suite(report, "suite file or stored suite name")
+    report.add_argument(
+        "--out", type=Path, required=True, metavar="DIR", help="folder for the report files"
+    )
     with_store(report)
     report.set_defaults(handler=command_report)
 
     baseline = commands.add_parser("baseline", help="run a suite and save its baseline file")
-    baseline.add_argument("suite")
-    baseline.add_argument("--save", type=output_file, required=True, metavar="FILE.json")
+    with_suite(baseline)
+    baseline.add_argument(
+        "--save",
+        type=output_file,
+        required=True,
+        metavar="FILE.json",
+        help="where to write the baseline file (JSON, safe to commit)",
+    )
     with_jobs(baseline)
     with_store(baseline)
     baseline.set_defaults(handler=command_baseline)
 
     gate = commands.add_parser("gate", help="run a suite and compare it with a baseline")
-    gate.add_argument("suite")
-    gate.add_argument("--baseline", type=Path, required=True, metavar="FILE.json")
-    gate.add_argument("--junit", type=output_file, metavar="FILE.xml", help="write JUnit XML")
-    gate.add_argument("--markdown", type=output_file, metavar="FILE.md", help="write a summary")
+    with_suite(gate)
+    gate.add_argument(
+        "--baseline",
+        type=Path,
+        required=True,
+        metavar="FILE.json",
+        help="baseline file saved by heedful baseline",
+    )
+    gate.add_argument(
+        "--junit",
+        type=output_file,
+        metavar="FILE.xml",
+        help="also write JUnit XML, one test case per contender and check (default: none)",
+    )
+    gate.add_argument(
+        "--markdown",
+        type=output_file,
+        metavar="FILE.md",
+        help="also write a Markdown summary for a pull request (default: none)",
+    )
     with_jobs(gate)
     with_store(gate)
     gate.set_defaults(handler=command_gate)
 
     history = commands.add_parser("history", help="show stored gate runs of a suite over time")
-    history.add_argument("suite", help="suite file or suite name")
+    with_suite(history, "suite file or stored suite name")
     with_store(history)
     history.set_defaults(handler=command_history)
     return top

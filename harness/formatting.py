@@ -5,19 +5,9 @@ from __future__ import annotations
 
 import math
 
-METRIC_LABELS = {
-    "accuracy": "accuracy",
-    "macro_f1": "macro-F1",
-    "roc_auc": "ROC-AUC",
-    "average_precision": "average precision",
-    "hits_at_k": "Hits@K",
-}
+from harness.schema.tasks import metric_label as metric_label  # labels live in the registry
+
 BLOCKS = "▁▂▃▄▅▆▇█"
-
-
-def metric_label(metric: str) -> str:
-    """`macro_f1` -> `macro-F1`; unknown names as given."""
-    return METRIC_LABELS.get(metric, metric)
 
 
 def missing(value: object) -> bool:

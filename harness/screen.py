@@ -16,7 +16,6 @@ from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, T
 from harness.commands.feedback import Advance, Feedback
 
 if TYPE_CHECKING:
-    from harness.commands.executing import Executed
     from harness.commands.gates import BaselineOutcome, GateRun
     from harness.commands.inspect import (
         CheckOutcome,
@@ -27,6 +26,7 @@ if TYPE_CHECKING:
     )
     from harness.commands.run import MapOutcome, RunOutcome
     from harness.commands.tuned import TunedOutcome, TuningFrames
+    from harness.execution.executed import Executed
 
 # piped output (logs, CI) is 100 columns wide; a terminal's own width otherwise
 console = Console(width=None if sys.stdout.isatty() else 100)
@@ -58,7 +58,7 @@ def interrupted(executed: Executed, store: object) -> None:
             errors.print(f"heedful: error: {line}", soft_wrap=True)
         return
     errors.print(
-        f"interrupted: {executed.trained} runs finished and stored in {store}; "
+        f"interrupted: {executed.finished} runs finished and stored in {store}; "
         "run the same command again to continue"
     )
 
@@ -75,13 +75,25 @@ def show_check(outcome: CheckOutcome) -> None:
     )
     for note in facts.notes:
         console.print(f"note: {note}", markup=False)
+    for warning in facts.warnings:
+        console.print(warning, markup=False, soft_wrap=True)
     for contender, count in outcome.runs.items():
         ablation = suite.ablation.get(contender)
         mode = ablation.mode.replace("_", "-") if ablation else ""
         points = f" ({count // len(suite.seed_list)} {mode} points)" if ablation else ""
         console.print(f"  {contender}: {count} runs{points}", markup=False)
-    console.print(f"{outcome.total} runs in total")
-    console.print("estimated peak memory:")
+    if outcome.map_runs:
+        levels = len(suite.homophily_map.levels)
+        console.print(
+            f"  homophily map: {outcome.map_runs} runs ({levels} levels on matched synthetic "
+            "graphs)"
+        )
+        console.print(
+            f"{outcome.total + outcome.map_runs} runs in total ({outcome.total} of the suite, "
+            f"{outcome.map_runs} of the homophily map)"
+        )
+    else:
+        console.print(f"{outcome.total} runs in total")
     for line in outcome.memory:
         console.print(line, markup=False)
     for line in outcome.tuning:
@@ -103,7 +115,7 @@ def show_run(outcome: RunOutcome) -> None:
         return
     executed = outcome.executed
     console.print(
-        f"{executed.trained} runs trained, {executed.reused} reused from {outcome.store}",
+        f"{executed.finished} runs trained, {executed.skipped} reused from {outcome.store}",
         markup=False,
     )
     show_documents(summary_documents(outcome.summary, outcome.ablation, (outcome.report,)))

@@ -114,6 +114,56 @@ def first_run(document: dict) -> dict:
     return document["contenders"]["attention"]["runs"][0]
 
 
+LINK_TABLE_SUITE = """\
+name = "depot_links"
+seeds = 1
+task = "link_prediction"
+metric = "{metric}"
+setting = "{setting}"
+[data]
+source = "tables"
+nodes = "nodes.csv"
+edges = "edges.csv"
+feature_prefix = "f_"
+[split]
+train = 0.5
+validation = 0.25
+test = 0.25
+[link]
+{link}
+[contenders.features_only]
+model = "mlp"
+hidden = 4
+[training]
+epochs = 2
+"""
+# every pair of five depots is linked: not one non-edge to draw a negative from
+COMPLETE_EDGES = "source,target\n" + "".join(
+    f"d{i},d{j}\n" for i in range(5) for j in range(i + 1, 5)
+)
+# a ring of twelve depots with their own ids: holding out nodes strands a training node
+RING_NODES = "id,label,f_vans\n" + "".join(f"depot-{i:02d},{'ab'[i % 2]},{i}\n" for i in range(12))
+RING_EDGES = "source,target\n" + "".join(
+    f"depot-{i:02d},depot-{(i + 1) % 12:02d}\n" for i in range(12)
+)
+FIVE_NODES = "id,label,f_vans\n" + "".join(f"d{i},{('a', 'b')[i % 2]},{i}\n" for i in range(5))
+
+
+def link_table(
+    name: str,
+    names: str,
+    link: str = "",
+    metric: str = "roc_auc",
+    setting: str = "transductive",
+    **files: str,
+) -> Bad:
+    """`check` of a link suite on the node and edge tables (`files` replace them)."""
+    text = LINK_TABLE_SUITE.format(metric=metric, setting=setting, link=link)
+    written: dict[str, str | bytes] = {"nodes.csv": NODES, "edges.csv": EDGES, "suite.toml": text}
+    written |= {key.replace("_", "."): value for key, value in files.items()}
+    return Bad(name, ("check", "{suite}"), names, written)
+
+
 TUNED = """\
 name = "tuned_couriers"
 seeds = 1
@@ -442,7 +492,7 @@ CASES: list[Bad] = [
             .replace("feature_dimension = 8", "feature_dimension = 10000")
         },
     ),
-    # command-line arguments (2: jobs within the cores; 11: --storage needs [tuning])
+    # command-line arguments (2: jobs within the cores; 11: --tuning-database needs [tuning])
     command("no_command", "", "the following arguments are required: COMMAND"),
     command("unknown_command", "launch {suite}", "invalid choice: 'launch'"),
     command("unknown_option", "run {suite} --fast", "unrecognized arguments: --fast"),
@@ -463,18 +513,18 @@ CASES: list[Bad] = [
     ),
     command(
         "storage_without_tuning",
-        "run {suite} --storage sqlite:///{folder}/t.db --store {store}",
-        "--storage: suite 'tiny_couriers' has no [tuning] table",
+        "run {suite} --tuning-database sqlite:///{folder}/t.db --store {store}",
+        "--tuning-database: suite 'tiny_couriers' has no [tuning] table",
     ),
     command(
         "storage_dead_without_tuning",
-        "run {suite} --storage postgresql://x@127.0.0.1:1/d --store {store}",
+        "run {suite} --tuning-database postgresql://x@127.0.0.1:1/d --store {store}",
         "has no [tuning] table",
     ),
     command(
         "storage_nonsense",
-        "run {folder}/tuned.toml --storage nonsense --store {store}",
-        "--storage: given 'nonsense'",
+        "run {folder}/tuned.toml --tuning-database nonsense --store {store}",
+        "--tuning-database: given 'nonsense'",
         **{"tuned.toml": TUNED},
     ),
     command("tuning_of_untuned", "tuning {suite} --store {store}", "the suite has no [tuning]"),
@@ -507,6 +557,114 @@ CASES: list[Bad] = [
         "gate {folder}/tuned.toml --baseline {baseline} --store {store}",
         "tuning: a gate compares fixed contender settings",
         **{"tuned.toml": TUNED},
+    ),
+    # issue 27, item 12: numbers past what the libraries take, and compile given as text
+    suite("seed_above_32_bits", "seeds = 2", "seeds = [4294967296]", "seeds: given [4294967296]"),
+    suite("seed_far_above", "seeds = 2", "seeds = [1, 18446744073709551616]", "seeds: given"),
+    suite(
+        "balance_nan",
+        "graph_seed = 3",
+        "graph_seed = 3\nclass_balance = [nan, 1, 1]",
+        "class_balance entries must all be finite numbers > 0",
+    ),
+    suite("balance_inf", "graph_seed = 3", "graph_seed = 3\nclass_balance = [inf, 1, 1]", "finite"),
+    suite(
+        "balance_minus_inf", "graph_seed = 3", "graph_seed = 3\nclass_balance = [1, -inf, 1]", "> 0"
+    ),
+    suite(
+        "compile_yes",
+        "epochs = 15",
+        'epochs = 15\ncompile = "yes"',
+        "training.compile: given 'yes'",
+    ),
+    suite("compile_one", "epochs = 15", "epochs = 15\ncompile = 1", "training.compile: given 1;"),
+    suite("compile_zero", "epochs = 15", "epochs = 15\ncompile = 0", "training.compile: given 0;"),
+    suite(
+        "compile_text_true", "epochs = 15", 'epochs = 15\ncompile = "true"', "compile: given 'true'"
+    ),
+    suite(
+        "contender_compile_yes",
+        "hidden = 4",
+        'hidden = 4\ntraining = {compile = "on"}',
+        "contenders.attention.training.compile: given 'on'",
+    ),
+    appended(
+        "tuning_seed_above_32_bits", "[tuning]\ntrials = 2\nseed = 4294967296\n", "tuning.seed"
+    ),
+    # issue 27, item 14: options no run would use are refused, not silently ignored
+    suite(
+        "fanout_with_full_batches",
+        "epochs = 15",
+        "epochs = 15\nfanout = [5, 5]",
+        "training.fanout: given [5, 5] where every run trains on full batches",
+    ),
+    suite(
+        "contender_fanout_with_full_batches",
+        "hidden = 4",
+        "hidden = 4\ntraining = {fanout = [3, 3]}",
+        "contenders.attention.training.fanout: given [3, 3] where every run trains on full",
+    ),
+    suite(
+        "compile_with_sampled_batches",
+        "epochs = 15",
+        'epochs = 15\ncompile = true\nbatching = "sampled"\nfanout = "all"',
+        "training.compile: given true where every run trains on sampled batches",
+    ),
+    suite(
+        "contender_compile_with_sampled_batches",
+        "hidden = 4",
+        'hidden = 4\ntraining = {compile = true, batching = "sampled", fanout = [4, 4]}',
+        "contenders.attention.training.compile: given true where every run trains on sampled",
+    ),
+    # issue 27, item 4: Hits@K with K at or above the negatives scores every edge a hit
+    link_table(
+        "hits_k_above_negatives",
+        "link.hits_k: given 100000, but the validation pairs of seed 0 hold 4 negatives",
+        "hits_k = 100000",
+        "hits_at_k",
+    ),
+    link_table(
+        "hits_k_equal_to_negatives",
+        "link.hits_k: given 4, but the validation pairs of seed 0 hold 4 negatives",
+        "hits_k = 4",
+        "hits_at_k",
+    ),
+    link_table(
+        "hits_k_default_on_small_graph",
+        "link.hits_k: given 50, but the validation pairs of seed 0 hold 4 negatives",
+        metric="hits_at_k",
+    ),
+    # issue 27, item 15: no non-edges left: "fewer" only when there is fewer to give
+    link_table(
+        "no_non_edges_one_per_edge",
+        "link.negatives_per_positive: given 1; the graph has too few non-edges for 1 negative "
+        "per validation edge; allowed: a sparser graph, or smaller validation and test shares",
+        nodes_csv=FIVE_NODES,
+        edges_csv=COMPLETE_EDGES,
+    ),
+    link_table(
+        "no_non_edges_three_per_edge",
+        "given 3; the graph has too few non-edges for 3 negatives per validation edge; allowed: "
+        "fewer",
+        "negatives_per_positive = 3",
+        nodes_csv=FIVE_NODES,
+        edges_csv=COMPLETE_EDGES,
+    ),
+    link_table(
+        "no_non_edges_inductive",
+        "given 1; the held-out nodes have too few non-edges for 1 negative per held-out edge; "
+        "allowed: a sparser graph",
+        setting="inductive",
+        nodes_csv=FIVE_NODES,
+        edges_csv=COMPLETE_EDGES,
+    ),
+    # issue 27, item 15: a stranded training node is named by its id, not a row position
+    link_table(
+        "inductive_stranded_node_by_id",
+        "split.train: 1 training nodes (first: node id 'depot-06') keep no edge",
+        setting="inductive",
+        nodes_csv=RING_NODES,
+        edges_csv=RING_EDGES,
     ),
 ]
 

@@ -12,7 +12,8 @@ from harness.data.splits import make_split
 from harness.data.synthetic import contextual_sbm
 from harness.models import build_model
 from harness.schema.contenders import AttentionOptions
-from harness.schema.data import FractionSplit, SyntheticData
+from harness.schema.data import SyntheticData
+from harness.schema.splits import FractionSplit
 from harness.schema.training import Training
 from harness.training.diagnostics import (
     MEASURES,

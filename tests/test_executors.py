@@ -50,7 +50,7 @@ def name(request: pytest.FixtureRequest, monkeypatch: pytest.MonkeyPatch) -> str
 
 @pytest.fixture
 def executor(name: str, request: pytest.FixtureRequest) -> Executor:
-    return EXECUTORS[name](resources(name, request))
+    return EXECUTORS[name].set_up(resources(name, request))
 
 
 def test_every_executor_is_under_the_contract() -> None:
@@ -125,5 +125,6 @@ def test_bad_input_found_by_a_run_stops_it_naming_the_run_and_keeps_what_is_stor
 
 def test_runs_one_copy_of_a_task_per_worker_on_the_threads_asked_for(name, request, monkeypatch):
     monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 4)  # 2 x 2 threads
-    on_two_threads = EXECUTORS[name](dataclasses.replace(resources(name, request), threads=2))
+    given = dataclasses.replace(resources(name, request), threads=2)
+    on_two_threads = EXECUTORS[name].set_up(given)
     assert on_two_threads.run_copies(torch.get_num_threads, ()) == [2, 2]

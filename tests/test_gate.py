@@ -4,14 +4,13 @@ from __future__ import annotations
 
 import json
 import shutil
-import time
 import xml.etree.ElementTree as ElementTree
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
-from torch import nn
 
-import harness.training.fit
+import harness.execution.runs
 from harness.cli import main
 
 # A fictional courier network: depots are nodes, regular routes are edges, four depot kinds.
@@ -155,40 +154,35 @@ def test_noise_level_change_passes(saved, tmp_path, capsys):
         assert case(root, contender, "reproducibility").find("skipped") is not None
 
 
-class Slowed(nn.Module):
-    """Wraps a model and sleeps in every forward pass: the same results, slower training."""
-
-    def __init__(self, model: nn.Module, pause: float) -> None:
-        super().__init__()
-        self.model, self.pause = model, pause
-
-    def forward(self, *inputs, **options):
-        time.sleep(self.pause)
-        return self.model(*inputs, **options)
-
-
 def test_slowed_contender_fails_time_check(saved, tmp_path, monkeypatch, capsys):
-    """A contender whose training really takes longer (a sleep in forward, test only) is caught.
+    """A contender whose epochs take five times as long as in its baseline is caught.
 
-    The runs are trained afresh in a copy of the store; the sleep leaves the computation and so
-    the metrics unchanged, which the reproducibility check confirms.
+    Deterministic, no clock: the baseline's seconds per epoch are set to 2 ms for every run, and
+    the runs trained afresh (in a copy of the store) report 2 ms (attention) or 10 ms
+    (features_only), so the time check sees a ratio of exactly 5.00 against a limit of 3. The
+    metrics are left as trained, which the reproducibility check confirms.
     """
     store = tmp_path / "fresh.db"
-    build = harness.training.fit.build_model
+    perform = harness.execution.runs.perform
 
-    def slowed_build(options, *args, **kwargs):
-        model = build(options, *args, **kwargs)
-        return Slowed(model, 0.01) if options.model == "mlp" else model
+    def timed(spec, *args, **kwargs):
+        result = perform(spec, *args, **kwargs)
+        return replace(result, seconds_per_epoch=0.010 if spec.model == "mlp" else 0.002)
 
-    monkeypatch.setattr(harness.training.fit, "build_model", slowed_build)
+    def fixed_time(document):
+        for contender in document["contenders"].values():
+            for run in contender["runs"]:
+                run["seconds_per_epoch"] = 0.002
+
+    monkeypatch.setattr(harness.execution.runs, "perform", timed)
     strict = write_suite(tmp_path, "suite.toml", time_action="fail")
-    status, root, _ = gate({**saved, "store": store}, strict, tmp_path)
+    fixed = edited(saved, tmp_path, fixed_time)
+    status, root, _ = gate({**saved, "store": store}, strict, tmp_path, fixed)
     out = capsys.readouterr().out
     assert status == 1
     failure = case(root, "features_only", "time").find("failure")
-    assert failure is not None and "seconds per epoch x" in failure.get("message")
-    ratio = float(failure.get("message").split("seconds per epoch x")[1].split(" ")[0])
-    assert ratio > 3.0
+    assert failure is not None and "seconds per epoch x5.00 above limit" in failure.get("message")
+    assert case(root, "attention", "time").find("failure") is None
     assert case(root, "features_only", "metric").find("failure") is None
     assert "identical metrics" in case(root, "features_only", "reproducibility").findtext(
         "system-out"

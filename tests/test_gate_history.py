@@ -134,7 +134,7 @@ def test_sparkline_scales_over_at_least_the_given_span():
     assert sparkline([]) == ""
 
 
-def test_trend_plot_has_one_line_per_contender(stored, tmp_path):
+def test_trend_plot_has_one_line_per_contender(stored):
     history = load_history(stored, "docks")
     figure = trend_figure(history)
     top, bottom = figure.axes

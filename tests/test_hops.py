@@ -79,3 +79,47 @@ def test_budget_error_gives_estimate_and_budget() -> None:
     # 292 walks of length <= 2 bound the 194 pairs: walks back to the start count too
     assert "292 edges" in message and "hops.memory_budget_mb = 0.0001" in message
     assert "\n" not in message
+
+
+def cached_file(tmp_path: Path, edges: torch.Tensor, nodes: int, radius: int = 2) -> Path:
+    return tmp_path / f"hops-{graph_hash(edges, nodes)}-radius{radius}.pt"
+
+
+@pytest.mark.parametrize(
+    ("planted", "problem"),
+    [
+        (lambda path, _: path.write_bytes(b"garbage, not a tensor"), "not a readable hop cache"),
+        (lambda path, other: torch.save(other, path), "holds no digest"),
+        (
+            lambda path, other: torch.save({"edges": other, "digest": "0" * 64}, path),
+            "its edges do not match its digest for this graph at radius 2",
+        ),
+        (
+            lambda path, _: torch.save({"edges": torch.zeros(3), "digest": "0"}, path),
+            "holds no edge list",
+        ),
+    ],
+    ids=["garbage", "other_edges_without_digest", "other_edges_wrong_digest", "not_edges"],
+)
+def test_a_bad_cache_file_is_named_rebuilt_and_never_believed(tmp_path, capsys, planted, problem):
+    """Issue 27, item 9: a garbage file failed every run; another graph's valid edge set
+    silently changed results. Both are now named, rebuilt and replaced by a checked file."""
+    edges = path_graph(8)
+    path = cached_file(tmp_path, edges, 8)
+    other = build_hop_edges(path_graph(9), 9, 2)  # a valid edge set of another graph
+    planted(path, other)
+    got = hop_edges(edges, 8, 2, tmp_path)
+    assert torch.equal(got, build_hop_edges(edges, 8, 2))
+    warning = capsys.readouterr().err.strip()
+    assert warning.startswith(f"heedful: warning: {path}: {problem}")
+    assert warning.endswith("; rebuilt") and len(warning.splitlines()) == 1
+    assert torch.equal(hop_edges(edges, 8, 2, tmp_path), got)  # the rewritten file is believed
+    assert capsys.readouterr().err == ""
+
+
+def test_a_file_copied_from_another_graph_with_its_digest_does_not_match(tmp_path, capsys):
+    small, large = path_graph(8), path_graph(9)
+    hop_edges(large, 9, 2, tmp_path)
+    cached_file(tmp_path, large, 9).rename(cached_file(tmp_path, small, 8))
+    assert torch.equal(hop_edges(small, 8, 2, tmp_path), build_hop_edges(small, 8, 2))
+    assert "do not match its digest" in capsys.readouterr().err

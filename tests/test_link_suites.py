@@ -15,9 +15,8 @@ from harness.data import load_graph
 from harness.data.edge_splits import edge_split
 from harness.errors import InputError
 from harness.planning import expand, load_suite, parse_suite
-from harness.schema.tasks import TASK_METRICS
 from harness.storage import store
-from harness.training.tasks import TASKS, perform
+from harness.training.tasks import perform
 
 # fictional Fernhill Bicycle Co-operative: docking stations and regular trips between them
 LINK_SUITE = """\
@@ -73,12 +72,6 @@ def raw_suite(**changes: object) -> dict:
     return {key: value for key, value in raw.items() if value is not None}
 
 
-def test_every_task_of_the_schema_is_registered_with_its_metrics():
-    assert {name: set(task.metrics) for name, task in TASKS.items()} == {
-        name: set(metrics) for name, metrics in TASK_METRICS.items()
-    }
-
-
 def test_a_link_suite_defaults_to_roc_auc_and_a_node_suite_keeps_accuracy():
     assert parse_suite(raw_suite(), "s.toml").metric == "roc_auc"
     assert parse_suite(raw_suite(task=None, split=None), "s.toml").metric == "accuracy"
@@ -121,10 +114,10 @@ def test_the_edge_split_depends_on_the_seed_alone_and_leaves_other_generators_al
     before = (torch.rand(1), random.random())
     torch.manual_seed(5)
     random.seed(5)
-    first = edge_split(data, suite.split, suite.link_options, seed=3)
-    again = edge_split(data, suite.split, suite.link_options, seed=3)
+    first = edge_split(data, suite.split, suite.task_options, seed=3)
+    again = edge_split(data, suite.split, suite.task_options, seed=3)
     assert (torch.rand(1), random.random()) == before
-    other = edge_split(data, suite.split, suite.link_options, seed=4)
+    other = edge_split(data, suite.split, suite.task_options, seed=4)
     for name in ("train_graph", "validation_pairs", "test_pairs", "test_labels"):
         assert torch.equal(getattr(first, name), getattr(again, name))
     assert not torch.equal(first.test_pairs, other.test_pairs)
@@ -204,7 +197,7 @@ def test_tuning_with_pruning_and_an_ablation_grid_run_on_link_suites(write_suite
     path = write_suite(tuned, "tuned.toml")
     url = f"sqlite:///{tmp_path / 'tuning.db'}"
     runs_db = tmp_path / "runs.db"
-    arguments = ["--store", str(runs_db), "--storage", url, "--quiet"]
+    arguments = ["--store", str(runs_db), "--tuning-database", url, "--quiet"]
     assert main(["run", str(path), *arguments]) == 0
     runs = store.load_runs(runs_db, ["tiny_stations"])
     assert len(runs) == 4 and runs["test_hits_at_k"].notna().all()

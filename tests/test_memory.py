@@ -3,15 +3,19 @@ stop a suite whose runs would not fit the memory limit (exit 2, one line)."""
 
 from __future__ import annotations
 
+import re
+from pathlib import Path
+
 import pytest
 from activation_check import estimate_within_a_quarter_of_measured
 
 from harness.cli import main
 from harness.execution.memory import (
+    BASE_BYTES,
     GIB,
     GraphSize,
-    declared_size,
     estimate_runs,
+    memory_outline,
     message_edges,
     run_bytes,
     saved_bytes,
@@ -89,7 +93,7 @@ hidden = 32
 
 def estimate_of(path) -> float:
     suite = load_suite(path)
-    return estimate_runs(design_points(suite), suite.training, declared_size(suite.data))[0].bytes
+    return estimate_runs(design_points(suite), suite.training, suite.data.declared_size())[0].bytes
 
 
 def test_check_stops_a_run_above_the_memory_limit_and_suggests_sampling(write_suite, capsys):
@@ -131,10 +135,51 @@ def test_generating_a_huge_graph_is_refused_before_allocating(write_suite, capsy
     assert "above the memory limit" in message
 
 
-def test_check_prints_each_contenders_estimate(tiny_suite, capsys):
+def test_check_prints_the_fixed_part_once_and_each_runs_own_part(tiny_suite, capsys):
     assert main(["check", str(tiny_suite)]) == 0
     out = capsys.readouterr().out
-    assert "estimated peak memory:" in out and "attention: about 0.5 GiB per run (full" in out
+    fixed = f"about {BASE_BYTES // 2**20} MiB per process for Python, torch and PyG"
+    assert f"estimated peak memory: {fixed}, plus per run:" in out
+    assert out.count(fixed) == 1
+    # the tiny graph's runs add under a mebibyte each: one line for all three contenders
+    assert "  attention, convolution, features_only: under 1 MiB each (full batch)" in out
+
+
+def test_identical_estimates_share_one_line_and_every_configuration_is_counted():
+    """The ablation demo has 22 configurations; lines group those with the same figure."""
+    suite = load_suite(Path(__file__).resolve().parents[1] / "suites" / "ablation.toml")
+    size = GraphSize(nodes=300, edges=1778, features=16, classes=4)
+    estimates = estimate_runs(design_points(suite), suite.training, size)
+    lines = memory_outline(estimates)
+    assert len(estimates) == 22 and 1 < len(lines) - 1 < 22
+    counted = 0
+    for line in lines[1:]:
+        counted += sum(int(n) for n in re.findall(r"\((?:all )?(\d+)(?: of \d+)? points\)", line))
+        counted += sum(1 for name in ("convolution", "features_only") if f" {name}" in line)
+    assert counted == 22
+    figures = [line.rsplit(": ", 1)[1] for line in lines[1:]]
+    assert len(set(figures)) == len(figures)  # no two lines say the same
+
+
+def test_a_limit_below_the_fixed_part_says_so_and_not_to_shrink_the_graph(tiny_suite, capsys):
+    assert main(["check", str(tiny_suite), "--memory-limit", "0.1"]) == 2
+    message = capsys.readouterr().err
+    assert message.count("\n") == 1
+    assert message.startswith("heedful: error: --memory-limit: given 0.1 GiB, below the fixed")
+    assert "--memory-limit 0.5 or more" in message
+    assert "fewer nodes" not in message and "smaller graph" not in message
+
+
+def test_jobs_whose_fixed_parts_alone_exceed_the_limit_are_told_to_use_fewer_jobs(
+    tiny_suite, capsys, tmp_path
+):
+    store = tmp_path / "runs.db"
+    limit = BASE_BYTES * 1.5 / GIB  # one process fits, two do not, whatever the graph
+    arguments = ["run", str(tiny_suite), "--store", str(store), "--jobs", "2"]
+    assert main([*arguments, "--memory-limit", f"{limit:.3f}"]) == 2
+    message = capsys.readouterr().err
+    assert "allowed: --jobs 1, or --memory-limit GIB" in message
+    assert "smaller graph" not in message and not store.exists()
 
 
 def test_memory_limit_must_be_a_positive_number(tiny_suite, capsys):

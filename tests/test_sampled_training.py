@@ -111,9 +111,13 @@ def test_sampled_batching_enters_the_key_with_its_sampler_and_full_batch_keeps_i
     write_suite,
 ):
     sampled = {s.contender: s for s in expand(load_suite(write_suite(suite_text())))}
-    full_text = suite_text().replace('batching = "sampled"', 'batching = "full"')
+    # full batches draw no neighbours: their fan-outs would be refused as unused
+    no_fanout = suite_text().replace('fanout = "all", ', "")
+    no_fanout = no_fanout.replace("training = { fanout = [3, 3, 2] }\n", "")
+    full_text = no_fanout.replace('batching = "sampled"', 'batching = "full"')
+    full_text = full_text.replace("fanout = [4, 3]\n", "")
     full = {s.contender: s for s in expand(load_suite(write_suite(full_text, "full.toml")))}
-    plain = suite_text().replace('batching = "sampled"\n', "").replace("fanout = [4, 3]\n", "")
+    plain = no_fanout.replace('batching = "sampled"\n', "").replace("fanout = [4, 3]\n", "")
     plain = plain.replace("batch_size = 32\n", "")
     default = {s.contender: s for s in expand(load_suite(write_suite(plain, "plain.toml")))}
     assert full["attention"].key == default["attention"].key  # "full" is the default

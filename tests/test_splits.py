@@ -9,7 +9,7 @@ from torch_geometric.data import Data
 from harness.data.splits import SPLITTERS, make_split
 from harness.errors import InputError
 from harness.planning import parse_suite
-from harness.schema.data import ColumnSplit, FractionSplit, PerClassSplit
+from harness.schema.splits import ColumnSplit, FractionSplit, PerClassSplit
 
 
 def labelled_graph(per_class: list[int]) -> Data:

@@ -13,7 +13,8 @@ from harness.data.splits import make_split
 from harness.models import build_model
 from harness.planning import expand, load_suite
 from harness.schema.contenders import ConvolutionOptions, MLPOptions
-from harness.schema.data import FractionSplit, SyntheticData
+from harness.schema.data import SyntheticData
+from harness.schema.splits import FractionSplit
 from harness.schema.training import Training
 from harness.training.fit import fit, perform
 from harness.training.metrics import score

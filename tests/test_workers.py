@@ -16,6 +16,7 @@ from collections import Counter
 from pathlib import Path
 
 import optuna
+import pytest
 from optuna.trial import TrialState
 
 from harness.planning import load_suite
@@ -23,6 +24,9 @@ from harness.storage import store
 from harness.tuning.storage import open_storage
 from harness.tuning.study import repeats_study_name, tuning_plan
 from harness.tuning.workers import usage
+from tests.pausing import stopped_in, wait_for
+
+pytestmark = pytest.mark.slow
 
 TRIALS = 10
 SUITE = """
@@ -65,7 +69,7 @@ def start_worker(suite: Path, store_path: Path, url: str, core: int) -> subproce
     log = open(store_path.with_suffix(f".{core}.{time.monotonic_ns()}.log"), "w")  # noqa: SIM115
     worker = subprocess.Popen(
         [sys.executable, "-m", "harness.cli", "run", str(suite), "--quiet"]
-        + ["--store", str(store_path), "--storage", url],
+        + ["--store", str(store_path), "--tuning-database", url],
         stdout=log,
         stderr=subprocess.STDOUT,
         preexec_fn=lambda: os.sched_setaffinity(0, {cores[core % len(cores)]}),
@@ -114,39 +118,40 @@ def test_two_workers_on_postgresql_each_with_its_own_result_store(tmp_path, post
 
 def test_two_workers_on_sqlite_one_killed_mid_trial_and_restarted(tmp_path):
     """Worker A is killed with SIGKILL while it runs a trial, then started again; together
-    with worker B the study completes with no finished trial lost or counted twice."""
-    # trials long enough (about a second each) and never pruned, so that worker A is caught
-    # mid-trial on a fast, idle machine, with most of that trial still ahead of it
-    suite_path = write_suite(tmp_path, "killed", epochs=300)
+    with worker B the study completes with no finished trial lost or counted twice.
+
+    Worker A is stopped (SIGSTOP) first and killed only if, while stopped, it still runs a
+    trial and two others have finished; otherwise it is resumed and looked at again."""
+    suite_path = write_suite(tmp_path, "killed", epochs=100)
     with suite_path.open("a") as suite_file:
         suite_file.write('pruner = "none"\n')  # appended to the [tuning] table
     url = f"sqlite:///{tmp_path / 'tuning.db'}"
     store_path = tmp_path / "runs.db"
     first = tuning_plan(load_suite(suite_path))[0]
+    storage = open_storage(url, 1, 3)  # its tables made before the workers open it
     doomed = start_worker(suite_path, store_path, url, 0)
     partner = start_worker(suite_path, store_path, url, 1)
-    storage = open_storage(url, 1, 3)
-    deadline = time.monotonic() + 240
-    study = None
-    while time.monotonic() < deadline:
-        assert doomed.poll() is None, "worker A ended before it could be killed"
+
+    def first_study() -> optuna.Study | None:
         try:
-            study = optuna.load_study(study_name=first.study, storage=storage)
-        except KeyError:
-            time.sleep(0.2)
-            continue
-        trials = study.get_trials(deepcopy=False)
+            return optuna.load_study(study_name=first.study, storage=storage)
+        except KeyError:  # not created yet
+            return None
+
+    def mid_trial() -> bool:
+        trials = first_study().get_trials(deepcopy=False)
         mine = [t for t in trials if t.user_attrs.get("worker", "").endswith(f":{doomed.pid}")]
         finished = [t for t in trials if t.state in (TrialState.COMPLETE, TrialState.PRUNED)]
-        # fewer than 100 of 300 epochs reported: the trial cannot end before the signal lands
-        early = [
-            t for t in mine if t.state == TrialState.RUNNING and len(t.intermediate_values) < 100
-        ]
-        if len(finished) >= 2 and early:
-            doomed.send_signal(signal.SIGKILL)
-            break
-        time.sleep(0.05)
+        return len(finished) >= 2 and any(t.state == TrialState.RUNNING for t in mine)
+
+    def alive() -> None:
+        assert doomed.poll() is None, "worker A ended before it could be killed"
+
+    reached = lambda: first_study() is not None and stopped_in([doomed.pid], mid_trial)  # noqa: E731
+    wait_for(reached, alive, "worker A never ran a trial after two had finished")
+    doomed.send_signal(signal.SIGKILL)
     assert doomed.wait(30) == -signal.SIGKILL
+    study = first_study()
     finished_before = {
         t.number: (t.state, t.value)
         for t in study.get_trials(deepcopy=False, states=(TrialState.COMPLETE, TrialState.PRUNED))

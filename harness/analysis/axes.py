@@ -16,6 +16,7 @@ import pandas as pd
 
 from harness.analysis.ablation_effects import ablation_effects
 from harness.schema.ablation import point_label
+from harness.schema.tasks import DEFAULT_TASK, TASKS
 from harness.training.diagnostics import MEASURES
 
 
@@ -91,7 +92,7 @@ class AblationView:
 def ablation_view(runs: pd.DataFrame, confidence: float = 0.95) -> AblationView:
     """Per-axis effects (analysis.ablation_effects, intervals at `confidence`) and attention
     diagnostics of stored runs."""
-    metric = str(runs["metric"].iloc[0]) if not runs.empty else "accuracy"
+    metric = str(runs["metric"].iloc[0]) if not runs.empty else TASKS[DEFAULT_TASK].default_metric
     levels = ablation_effects(runs, confidence).levels if not runs.empty else pd.DataFrame()
     return AblationView(
         metric, levels, attention_by_level(runs), attention_by_variant(runs), confidence

@@ -26,6 +26,7 @@ from harness.data import load_graph
 from harness.errors import InputError
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 from harness.schema.suite import Suite
+from harness.schema.tasks import TASKS, task_kind
 from harness.storage import store
 from harness.storage.predictions import load_predictions
 from harness.storage.selection import spec_runs
@@ -265,10 +266,12 @@ def node_breakdown(store_path: str | Path, suite: str | Path) -> pd.DataFrame:
             f"{suite}: analysis.breakdown: given false; the breakdown needs it true (the default), "
             "and runs stored with it true"
         )
-    if source.task == "link_prediction":
+    kind = task_kind(source.task)
+    if not kind.breakdown:
         raise InputError(
-            f"{suite}: task: given 'link_prediction'; the per-node breakdown groups scored test "
-            "nodes, which a link suite has not; allowed: a node classification suite"
+            f"{suite}: task: given '{source.task}'; the per-node breakdown groups scored test "
+            f"nodes, which a {kind.title} suite has not; allowed: a suite whose task has them "
+            f"({', '.join(name for name, task in TASKS.items() if task.breakdown)})"
         )
     report = analyse_store(store_path, suite)
     if report.breakdown is None:

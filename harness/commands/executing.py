@@ -5,39 +5,15 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 from contextlib import ExitStack, contextmanager
-from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from harness.commands.feedback import Feedback
+from harness.execution.executed import Executed
 from harness.execution.executors import ClusterLink, Executor
 from harness.planning import RunSpec, load_suite
 
 if TYPE_CHECKING:
     from harness.storage.database import Location
-
-INTERRUPTED = 130
-RUNS_FAILED = 3
-
-
-@dataclass(frozen=True)
-class Executed:
-    """What an execution did: runs trained, reused from the store, whether it was cut off, and
-    one line per run that could not finish (naming its spec)."""
-
-    trained: int
-    reused: int
-    interrupted: bool
-    failures: tuple[str, ...] = ()
-
-    @property
-    def stopped(self) -> bool:
-        return self.interrupted or bool(self.failures)
-
-    @property
-    def status(self) -> int:
-        if self.interrupted:
-            return INTERRUPTED
-        return RUNS_FAILED if self.failures else 0
 
 
 class ExecutedStatus:
@@ -85,5 +61,4 @@ def execute_specs(
 
     todo = len(pending(specs, store_path))
     with feedback.progress(specs[0].suite if specs else "", todo) as advance:
-        done = executor.execute(specs, store_path, lambda _: advance())
-    return Executed(done.finished, done.skipped, done.interrupted, done.failures)
+        return executor.execute(specs, store_path, lambda _: advance())

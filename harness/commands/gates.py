@@ -8,8 +8,9 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from harness.commands.executing import Executed, ExecutedStatus, execute_specs
+from harness.commands.executing import ExecutedStatus, execute_specs
 from harness.commands.feedback import SILENT, Feedback
+from harness.execution.executed import Executed
 from harness.execution.executors import Resources, executor_for
 from harness.execution.preflight import preflight
 from harness.execution.runs import pending

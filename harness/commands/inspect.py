@@ -35,16 +35,17 @@ class CheckOutcome:
     suite: Suite
     facts: Any  # harness.execution.preflight.DataFacts
     runs: dict[str, int]  # contender -> runs over all its points and seeds
-    total: int
-    memory: tuple[str, ...]  # estimated peak memory, one line per configuration
+    total: int  # the suite's own runs
+    memory: tuple[str, ...]  # estimated peak memory: the fixed part, then one line per figure
     tuning: tuple[str, ...] = ()
+    map_runs: int = 0  # runs the homophily map adds on matched synthetic graphs
     status: int = 0
 
 
 def check(suite_path: str, memory_limit: float | None = None) -> CheckOutcome:
     from harness.execution.memory import check_suite_memory, memory_outline
     from harness.execution.preflight import preflight
-    from harness.planning import expand
+    from harness.planning import expand, map_run_count
 
     suite = load_suite(suite_path)
     specs = expand(suite)
@@ -58,7 +59,9 @@ def check(suite_path: str, memory_limit: float | None = None) -> CheckOutcome:
 
         outline = tuple(tuning_outline(suite))
     lines = tuple(memory_outline(memory))
-    return CheckOutcome(suite_path, suite, facts, runs, len(specs), lines, outline)
+    return CheckOutcome(
+        suite_path, suite, facts, runs, len(specs), lines, outline, map_run_count(suite)
+    )
 
 
 @dataclass(frozen=True)

@@ -12,7 +12,6 @@ from typing import TYPE_CHECKING, Any
 import pandas as pd
 
 from harness.commands.executing import (
-    Executed,
     ExecutedStatus,
     check_cluster_use,
     connected_cluster,
@@ -21,6 +20,7 @@ from harness.commands.executing import (
 from harness.commands.feedback import SILENT, Feedback
 from harness.commands.tuned import TunedOutcome, run_tuned
 from harness.errors import InputError
+from harness.execution.executed import Executed
 from harness.execution.executors import Executor, Resources, executor_for
 from harness.planning import load_suite
 from harness.schema.suite import Suite
@@ -78,8 +78,8 @@ def run_suite(
         )
     if storage is not None:
         raise InputError(
-            f"--storage: suite '{suite.name}' has no [tuning] table, so nothing would use "
-            f"{storage!r}; allowed: --storage with a suite that tunes"
+            f"--tuning-database: suite '{suite.name}' has no [tuning] table, so nothing would use "
+            f"{storage!r}; allowed: --tuning-database with a suite that tunes"
         )
     check_suite_memory(suite, suite_path, jobs, memory_limit)  # synthetic: before data
     # spawned workers start before the heavy imports below, so that theirs overlap this
@@ -119,6 +119,8 @@ def run_fixed(
     specs = expand(suite)
     facts = preflight(suite, suite_path)
     check_suite_memory(suite, suite_path, jobs, memory_limit, facts.size)
+    for warning in facts.warnings:
+        feedback.note(warning)
     profile = record_profile(suite, store_path)
     executed = execute_specs(specs, store_path, executor, feedback)
     if executed.stopped:

@@ -87,6 +87,8 @@ def run_tuned(
     check_suite_memory(suite, suite_path, jobs, memory_limit)
     facts = preflight(suite, suite_path)
     check_suite_memory(suite, suite_path, jobs, memory_limit, facts.size)
+    for warning in facts.warnings:
+        feedback.note(warning)
     record_profile(suite, store_path)
     shown_url = shown(parse_url(url))  # never the password
     feedback.note(f"{suite.name}: tuning with {executor.where} on storage {shown_url}")

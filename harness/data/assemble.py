@@ -41,6 +41,7 @@ def assemble(
     weight: np.ndarray | None = None,
     split_part: np.ndarray | None = None,
     class_names: list[str] | None = None,
+    node_ids: list[str] | None = None,
 ) -> Data:
     """The cleaned graph. `unordered_repeats`: count (b, a) after (a, b) as a repeat (tables
     list each undirected edge once); PyG-style sources list both directions, so they pass False.
@@ -67,9 +68,26 @@ def assemble(
     if split_part is not None:
         data.split_part = torch.from_numpy(split_part.astype(np.int64))
     data.class_names = class_names or [str(c) for c in range(int(y.max()) + 1)]
+    if node_ids is not None:
+        data.node_ids = node_ids
     data.self_loops_removed = int(loops.sum())
     data.duplicate_edges_removed = repeats
     return data
+
+
+def node_name(data: Data, position: int) -> str:
+    """A node as its source names it: its id in a table's id column, else its position."""
+    ids = getattr(data, "node_ids", None)
+    return f"node {position}" if ids is None else f"node id {ids[position]!r}"
+
+
+def too_few_non_edges(ratio: int, where: str, edge: str) -> str:
+    """Why negatives could not be drawn, and what would help: fewer per edge only above one."""
+    helps = "fewer" if ratio > 1 else "a sparser graph, or smaller validation and test shares"
+    return (
+        f"link.negatives_per_positive: given {ratio}; {where} too few non-edges for "
+        f"{ratio} negative{'s' if ratio > 1 else ''} per {edge}; allowed: {helps}"
+    )
 
 
 def edge_count(data: Data) -> int:

@@ -22,6 +22,7 @@ from torch_geometric.data import Data
 from torch_geometric.transforms import RandomLinkSplit
 from torch_geometric.utils import is_undirected
 
+from harness.data.assemble import too_few_non_edges
 from harness.errors import InputError
 
 
@@ -98,8 +99,7 @@ def edge_split(
         positives = int(scored.edge_label.sum())
         if int(len(scored.edge_label)) - positives < positives * link.negatives_per_positive:
             raise InputError(
-                f"link.negatives_per_positive: the graph has too few non-edges for "
-                f"{link.negatives_per_positive} negatives per {part} edge; allowed: fewer"
+                too_few_non_edges(link.negatives_per_positive, "the graph has", f"{part} edge")
             )
     test_graph = test.edge_index if link.validation_edges_at_test else train.edge_index
     empty = test.edge_label_index[:, :0]

@@ -122,7 +122,7 @@ def check_feature_start(nodes: int, options: BaseModel, where: str) -> None:
 def contender_graph(data: Data, options: BaseModel, seed: int, hop_cache: str) -> StartedGraph:
     """The graph a contender sees: its feature start, and for attention its hop edge set."""
     started = start_features(data, options, seed)
-    radius = getattr(options, "hop_radius", 1)
+    radius = options.layer_radius()
     if radius == 1:
         return started
     graph = copy.copy(started.data)
@@ -143,7 +143,7 @@ def check_contender_graphs(
     for design in designs:
         options = design.options
         check_feature_start(data.num_nodes, options, _where(design, "start_width", source))
-        radius = getattr(options, "hop_radius", 1)
+        radius = options.layer_radius()
         if radius > 1:
             where = _where(design, "hop_radius", source)
             heads = options.heads_per_layer()

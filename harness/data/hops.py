@@ -4,13 +4,16 @@ With A the 0/1 adjacency (A[j, i] = 1 for an edge j -> i), node j lies within k 
 when (A + A^2 + ... + A^k)[j, i] > 0. The powers are sparse products (scipy), binarised after
 each step so the entries stay small. The diagonal is dropped: whether a node attends to itself
 is the model's choice. Edge sets are cached on disk under a content hash of the graph, so
-each (graph, radius) pair is built once, whichever suite or worker asks first.
+each (graph, radius) pair is built once, whichever suite or worker asks first. Each file keeps
+a digest of its edges bound to the graph and radius; a file that does not match is named in a
+warning and rebuilt, never used.
 """
 
 from __future__ import annotations
 
 import hashlib
 import os
+import sys
 import tempfile
 from pathlib import Path
 
@@ -89,17 +92,45 @@ def hop_edges(
     if cache is None:
         return build_hop_edges(edge_index, nodes, radius)
     folder = Path(cache)
-    path = folder / f"hops-{graph_hash(edge_index, nodes)}-radius{radius}.pt"
+    graph = graph_hash(edge_index, nodes)
+    path = folder / f"hops-{graph}-radius{radius}.pt"
     if path.exists():
-        return torch.load(path, weights_only=True)
+        edges, problem = read_hop_file(path, graph, radius)
+        if edges is not None:
+            return edges
+        print(f"heedful: warning: {path}: {problem}; rebuilt", file=sys.stderr, flush=True)
     edges = build_hop_edges(edge_index, nodes, radius)
     folder.mkdir(parents=True, exist_ok=True)
     # write then rename, so a worker never reads a half-written file from another worker
     handle, temporary = tempfile.mkstemp(dir=folder, suffix=".part")
     os.close(handle)
-    torch.save(edges, temporary)
+    torch.save({"edges": edges, "digest": hop_digest(edges, graph, radius)}, temporary)
     os.replace(temporary, path)
     return edges
+
+
+def hop_digest(edges: torch.Tensor, graph: str, radius: int) -> str:
+    """SHA-256 of a hop edge set bound to its graph and radius: a file copied from another
+    graph's cache, or edited, does not match."""
+    digest = hashlib.sha256(f"{graph}:{radius}:".encode())
+    digest.update(edges.contiguous().numpy().tobytes())
+    return digest.hexdigest()
+
+
+def read_hop_file(path: Path, graph: str, radius: int) -> tuple[torch.Tensor | None, str]:
+    """A cached edge set whose stored digest matches, else None and what is wrong with it."""
+    try:
+        stored = torch.load(path, weights_only=True)
+    except Exception as error:  # torch raises several types for damaged or foreign files
+        return None, f"not a readable hop cache file ({type(error).__name__})"
+    if not isinstance(stored, dict) or set(stored) != {"edges", "digest"}:
+        return None, "holds no digest (written by an older version, or not by this program)"
+    edges = stored["edges"]
+    if not (isinstance(edges, torch.Tensor) and edges.dtype == torch.int64 and edges.dim() == 2):
+        return None, "holds no edge list"
+    if stored["digest"] != hop_digest(edges, graph, radius):
+        return None, f"its edges do not match its digest for this graph at radius {radius}"
+    return edges, ""
 
 
 def check_hop_budget(

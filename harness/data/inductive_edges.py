@@ -17,6 +17,7 @@ from pydantic import BaseModel
 from torch_geometric.data import Data
 from torch_geometric.utils import degree, is_undirected
 
+from harness.data.assemble import node_name, too_few_non_edges
 from harness.data.edge_splits import EdgeSplit, edge_split
 from harness.errors import InputError
 
@@ -36,10 +37,7 @@ def held_out_negatives(
         if not bad.any():
             return torch.stack([source, target])
         target[bad] = torch.randint(nodes, (int(bad.sum()),), generator=generator)
-    raise InputError(
-        f"link.negatives_per_positive: the held-out nodes have too few non-edges for {ratio} "
-        "negatives per edge; allowed: fewer"
-    )
+    raise InputError(too_few_non_edges(ratio, "the held-out nodes have", "held-out edge"))
 
 
 def inductive_edge_split(
@@ -69,7 +67,8 @@ def inductive_edge_split(
     stranded = torch.nonzero((part == 0) & had_edges & ~kept).flatten()
     if len(stranded):
         raise InputError(
-            f"split.train: {len(stranded)} training nodes (first: node {int(stranded[0])}) keep "
+            f"split.train: {len(stranded)} training nodes (first: "
+            f"{node_name(data, int(stranded[0]))}) keep "
             "no edge once the held-out nodes are removed; allowed: larger train share or a "
             "denser graph"
         )

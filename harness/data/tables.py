@@ -211,6 +211,7 @@ def load_tables(spec: TableData) -> Data:
         weight=weight,
         split_part=split_part,
         class_names=class_names,
+        node_ids=[str(name) for name in index],
     )
     data.split_origin = f"{shown(spec.nodes)}: column '{spec.split_column}'"
     return data

@@ -26,7 +26,8 @@ from distributed.scheduler import KilledWorker
 
 import harness
 from harness.errors import InputError
-from harness.execution.runs import Outcome, describe, failure_line, pending, record_of
+from harness.execution.executed import Executed
+from harness.execution.runs import describe, failure_line, pending, record_of
 from harness.planning import RunSpec
 from harness.storage import store
 from harness.training.tasks import perform
@@ -152,7 +153,7 @@ def execute_on_cluster(
     cluster: Cluster,
     threads: int = 1,
     on_finished: Callable[[str], None] | None = None,
-) -> Outcome:
+) -> Executed:
     """Submit every spec not yet stored; store each result as it arrives. Ctrl-C cancels what
     is still running and keeps what is stored."""
     todo = pending(specs, store_path)
@@ -184,7 +185,7 @@ def execute_on_cluster(
         if futures:
             with suppress(Exception):
                 client.cancel(list(futures))
-    return Outcome(len(specs), len(specs) - len(todo), finished, interrupted, tuple(failures))
+    return Executed(len(specs), len(specs) - len(todo), finished, interrupted, tuple(failures))
 
 
 def _with_threads(task: Callable[..., Any], arguments: tuple, threads: int) -> Any:

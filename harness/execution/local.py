@@ -10,15 +10,22 @@ from typing import Any
 
 import torch
 
+from harness.execution.executed import Executed
 from harness.execution.pool import Workers, available_cores, start_workers, worker_setup
-from harness.execution.runs import Outcome, failure_line, pending, run_and_store
+from harness.execution.runs import (
+    failure_line,
+    no_space_line,
+    out_of_space,
+    pending,
+    run_and_store,
+)
 from harness.execution.sharing import share_with_workers
 from harness.models import load_builders
 from harness.planning import RunSpec
-from harness.planning.run_choices import COMPILE_MIN_EDGES, declared_edges
+from harness.planning.run_choices import COMPILE_MIN_EDGES
 from harness.storage import store
 
-# a graph this large gives a lone last run every core (README, Processes and threads)
+# a graph this large gives a lone last run every core (docs/large-graphs.md, threads per run)
 LARGE_GRAPH_EDGES = COMPILE_MIN_EDGES
 
 WORKER_MODULES = (__name__,)  # what a worker loads before its first run
@@ -32,7 +39,7 @@ def last_run_threads(spec: RunSpec, jobs: int, threads: int) -> int:
     command was given, jobs x threads within the usable cores, since the other processes would
     sit idle; on a small graph more threads gain little, so it keeps `threads`.
     """
-    edges = declared_edges(spec.data)
+    edges = spec.data.declared_edges()
     if jobs > 1 and edges is not None and edges >= LARGE_GRAPH_EDGES:
         return max(threads, min(jobs * threads, available_cores()))
     return threads
@@ -61,12 +68,15 @@ def _run_alone(
     raised = []
     torch.set_num_threads(threads)
     try:
-        for spec in todo:  # with jobs > 1, a single run left
+        for index, spec in enumerate(todo):  # with jobs > 1, a single run left
             with torch_threads(last_run_threads(spec, jobs, threads)):
                 try:
                     contender = run_and_store(spec, store_path)
                 except Exception as error:
                     raised.append(failure_line(spec, error))
+                    if out_of_space(error):
+                        raised.append(no_space_line(len(todo) - index - 1))
+                        break
                     continue
             if on_finished:
                 on_finished(contender)
@@ -82,7 +92,7 @@ def execute(
     on_finished: Callable[[str], None] | None = None,
     workers: Workers | None = None,
     threads: int = 1,
-) -> Outcome:
+) -> Executed:
     """Run every spec not yet stored, on `jobs` processes of `threads` torch threads each;
     Ctrl-C keeps what finished. A run that raises is reported and the others go on; one that
     raises InputError stops them all (what is stored stays).
@@ -111,7 +121,7 @@ def execute(
     # counted in the store: a run may be stored in the moment Ctrl-C or a kill arrives
     finished = len(todo) - len(pending(todo, store_path))
     failures = (*raised, *(run.message() for run in lost))
-    return Outcome(len(specs), len(specs) - len(todo), finished, interrupted, failures, lost)
+    return Executed(len(specs), len(specs) - len(todo), finished, interrupted, failures, lost)
 
 
 def run_copies(task: Callable[..., Any], arguments: tuple, jobs: int, threads: int) -> list[Any]:

@@ -6,18 +6,22 @@ every head. Full batch counts every node and edge of the graph (the k-hop set fo
 plus self-loops); sampled batching counts a batch: `batch_size` targets and, hop by hop, up to
 `fanout` neighbours of each, capped by the graph. A process also holds the graph itself, the
 Python and library images, and what backward and the allocator add on top of the saved
-tensors; the factors below are measured (README, "Memory estimate").
+tensors; the factors below are measured (docs/large-graphs.md, "Memory estimate").
 """
 
 from __future__ import annotations
 
 import os
 from dataclasses import dataclass
+from typing import Any
 
 from pydantic import BaseModel
 
 from harness.errors import InputError
 from harness.planning import design_points
+from harness.schema.ablation import point_label
+from harness.schema.contenders import ContenderBase
+from harness.schema.data import DataSource, GraphSize
 from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.training import Training
 
@@ -32,28 +36,6 @@ SYNTHETIC_BYTES_PER_FEATURE = 20  # float64 means + noise, then the float32 copy
 SYNTHETIC_BYTES_PER_EDGE = 80  # numpy draws, both directions, coalescing
 
 
-@dataclass(frozen=True)
-class GraphSize:
-    """What the estimate needs to know of a graph: directed edges (both directions counted)."""
-
-    nodes: int
-    edges: int
-    features: int
-    classes: int
-
-    @property
-    def average_degree(self) -> float:
-        return self.edges / max(self.nodes, 1)
-
-
-def declared_size(data: BaseModel) -> GraphSize | None:
-    """Size of a synthetic graph from its data section, before generating it; None otherwise."""
-    if data.source != "synthetic":
-        return None
-    edges = round(data.nodes * data.average_degree)
-    return GraphSize(data.nodes, edges, data.feature_dimension, data.classes)
-
-
 def machine_bytes() -> int:
     """Physical memory of this machine."""
     return os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
@@ -65,21 +47,20 @@ def hop_edges(size: GraphSize, radius: int) -> float:
     return size.nodes * min(reach, size.nodes - 1)
 
 
-def layer_shapes(options: BaseModel, size: GraphSize) -> list[tuple[int, int, int]]:
+def layer_shapes(options: ContenderBase, size: GraphSize) -> list[tuple[int, int, int]]:
     """(input width, output width per head, heads) of every layer."""
     hidden, layers = options.hidden, options.layers
     width = options.start_width if options.feature_start == "identity" else size.features
-    heads = options.heads_per_layer() if hasattr(options, "heads_per_layer") else [1] * layers
-    merges = options.merge_per_layer() if hasattr(options, "merge_per_layer") else None
+    heads, merges = options.heads_per_layer(), options.merge_per_layer()
     shapes = []
     for index in range(layers):
         out = size.classes if index == layers - 1 else hidden
         shapes.append((width, out, heads[index]))
-        width = out * heads[index] if merges and merges[index] == "concatenate" else out
+        width = out * heads[index] if merges[index] == "concatenate" else out
     return shapes
 
 
-def saved_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float) -> float:
+def saved_bytes(options: ContenderBase, size: GraphSize, nodes: float, edges: float) -> float:
     """Tensors autograd saves for backward in one training step over `nodes` nodes and `edges`
     message edges, from the floats its kind declares (within 25% of fit's measurement on a
     3,000-node graph, tests/test_memory.py); every message edge also keeps its two indices."""
@@ -92,23 +73,26 @@ def saved_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float)
     return saved
 
 
-def step_bytes(options: BaseModel, size: GraphSize, nodes: float, edges: float) -> float:
+def step_bytes(options: ContenderBase, size: GraphSize, nodes: float, edges: float) -> float:
     """Peak of one training step: the saved tensors times BACKWARD_FACTOR, plus the widest
     layer's messages, which live only while that layer runs."""
     widest = max(heads * out for _, out, heads in layer_shapes(options, size))
     return BACKWARD_FACTOR * saved_bytes(options, size, nodes, edges) + edges * widest * FLOAT
 
 
-def message_edges(options: BaseModel, size: GraphSize) -> float:
+def message_edges(options: ContenderBase, size: GraphSize) -> float:
     """Edges every layer runs on in a full-graph pass: k-hop set, plus self-loops."""
     kind = MODEL_KINDS[options.model]
     if not kind.message_edges:
         return 0.0
-    edges = hop_edges(size, options.hop_radius) if hasattr(options, "hop_radius") else size.edges
+    radius = options.layer_radius()
+    edges = size.edges if radius == 1 else hop_edges(size, radius)
     return edges + (size.nodes if kind.self_loops else 0)
 
 
-def batch_extent(options: BaseModel, size: GraphSize, training: Training) -> tuple[float, float]:
+def batch_extent(
+    options: ContenderBase, size: GraphSize, training: Training
+) -> tuple[float, float]:
     """Expected nodes and edges of one sampled batch, capped by the graph."""
     if not MODEL_KINDS[options.model].message_edges:
         return min(training.batch_size, size.nodes), 0.0
@@ -125,13 +109,13 @@ def batch_extent(options: BaseModel, size: GraphSize, training: Training) -> tup
     return nodes, min(edges, message_edges(options, size) * len(counts))
 
 
-def graph_bytes(size: GraphSize, options: BaseModel) -> float:
+def graph_bytes(size: GraphSize, options: ContenderBase) -> float:
     """The graph the process holds: features, labels, edges (and the k-hop set)."""
     edges = size.edges + message_edges(options, size)
     return size.nodes * (size.features * FLOAT + INDEX) + edges * 2 * INDEX
 
 
-def run_bytes(options: BaseModel, size: GraphSize, training: Training) -> float:
+def run_bytes(options: ContenderBase, size: GraphSize, training: Training) -> float:
     """Estimated peak resident memory of one run."""
     parameters = sum((w * o * h + o * h) * 4 * FLOAT for w, o, h in layer_shapes(options, size))
     if training.sampled:
@@ -145,9 +129,9 @@ def run_bytes(options: BaseModel, size: GraphSize, training: Training) -> float:
     return BASE_BYTES + graph_bytes(size, options) + parameters + step
 
 
-def data_bytes(data: BaseModel, size: GraphSize) -> float:
+def data_bytes(data: DataSource, size: GraphSize) -> float:
     """Peak while generating a synthetic graph (numpy works in float64 and int64)."""
-    if data.source != "synthetic":
+    if not data.generated:
         return 0.0
     features = size.nodes * size.features * SYNTHETIC_BYTES_PER_FEATURE
     return BASE_BYTES + features + size.edges * SYNTHETIC_BYTES_PER_EDGE
@@ -163,6 +147,12 @@ class RunMemory:
     batching: str
     bytes: float
     sampled_bytes: float | None = None
+    point: tuple[tuple[str, Any], ...] = ()  # the ablation point: (axis, level) pairs
+
+    @property
+    def own_bytes(self) -> float:
+        """What this run adds to the fixed part of its process (BASE_BYTES)."""
+        return self.bytes - BASE_BYTES
 
 
 SUGGESTED = {"batching": "sampled", "batch_size": 1024}
@@ -179,8 +169,9 @@ def estimate_runs(designs: list, suite_training: Training, size: GraphSize) -> l
             fanout = [10] * design.options.layers
             alternative = training.model_copy(update={**SUGGESTED, "fanout": fanout})
             sampled = run_bytes(design.options, size, alternative)
+        point = tuple(design.point.items())
         estimates.append(
-            RunMemory(design.contender, design.label, training.batching, needed, sampled)
+            RunMemory(design.contender, design.label, training.batching, needed, sampled, point)
         )
     return estimates
 
@@ -189,11 +180,34 @@ def gib(value: float) -> str:
     return f"{value / GIB:,.1f} GiB"
 
 
+def size_text(value: float) -> str:
+    """MiB below a gibibyte (a small run's figure would read 0.0 GiB), GiB above."""
+    if value >= GIB:
+        return gib(value)
+    mib = value / 2**20
+    return f"{mib:,.0f} MiB" if mib >= 1 else "under 1 MiB"
+
+
+FIXED_PART = f"about {size_text(BASE_BYTES)} per process for Python, torch and PyG"
+
+
+def check_fixed_part(limit_bytes: float) -> None:
+    """Stop when one process alone, before any graph, would exceed the limit: no smaller
+    graph or model helps then."""
+    if BASE_BYTES > limit_bytes:
+        needed = -(-BASE_BYTES * 10 // GIB) / 10  # rounded up to 0.1 GiB
+        raise InputError(
+            f"--memory-limit: given {limit_bytes / GIB:g} GiB, below the fixed part of every "
+            f"run ({FIXED_PART}, before any graph); allowed: --memory-limit {needed:g} or more"
+        )
+
+
 def check_data_memory(data_peak: float, limit_bytes: float, source: str) -> None:
     """Stop when generating the graph alone would exceed the limit."""
     if data_peak > limit_bytes:
         raise InputError(
-            f"{source}: data: generating this graph needs about {gib(data_peak)}, above the "
+            f"{source}: data: generating this graph needs about {gib(data_peak)} "
+            f"({size_text(data_peak - BASE_BYTES)} for the graph, {FIXED_PART}), above the "
             f"memory limit of {gib(limit_bytes)}; allowed: fewer nodes, a smaller "
             "average_degree or feature_dimension, or --memory-limit GIB to raise the limit"
         )
@@ -210,19 +224,24 @@ def check_run_memory(
     if needed <= limit_bytes:
         return
     processes = f"{running} jobs x {gib(largest.bytes)} = {gib(needed)}" if running > 1 else ""
-    hint = ""
-    if largest.sampled_bytes is not None:
-        hint = (
-            f', batching = "sampled" (batch_size = 1024, fanout = 10 per layer: about '
-            f"{gib(largest.sampled_bytes)} per run)"
-        )
+    parts = f"{size_text(largest.own_bytes)} for the graph and model, {FIXED_PART}"
+    if BASE_BYTES * running > limit_bytes:  # the processes alone: only fewer of them help
+        fitting = int(limit_bytes // largest.bytes)
+        advice = f"--jobs {fitting}" if fitting >= 1 else "--jobs 1"
+    else:
+        hint = ""
+        if largest.sampled_bytes is not None:
+            hint = (
+                f', batching = "sampled" (batch_size = 1024, fanout = 10 per layer: about '
+                f"{gib(largest.sampled_bytes)} per run)"
+            )
+        advice = f"{'fewer --jobs, ' if running > 1 else ''}a smaller graph or model{hint}"
     raise InputError(
         f"{source}: contenders.{largest.contender}: a {largest.batching}-batch run of "
-        f"{largest.label} needs about "
-        f"{gib(largest.bytes)}{'; ' + processes if processes else ''}, above the memory limit "
+        f"{largest.label} needs about {gib(largest.bytes)} ({parts})"
+        f"{'; ' + processes if processes else ''}, above the memory limit "
         f"of {gib(limit_bytes)} (this machine has {gib(machine_bytes())}); allowed: "
-        f"{'fewer --jobs, ' if running > 1 else ''}a smaller graph or model{hint}, or "
-        "--memory-limit GIB to raise the limit"
+        f"{advice}, or --memory-limit GIB to raise the limit"
     )
 
 
@@ -236,10 +255,11 @@ def check_suite_memory(
     """Estimates of a suite's runs, stopping with an input error when they do not fit;
     empty when the graph's size is not known yet (it is known before loading only for
     synthetic data; pass `loaded` once the graph is loaded)."""
-    size = declared_size(suite.data) or loaded
+    size = suite.data.declared_size() or loaded
     if size is None:
         return []
     limit = machine_bytes() if limit_gib is None else limit_gib * GIB
+    check_fixed_part(limit)
     estimates = estimate_runs(design_points(suite), suite.training, size)
     check_data_memory(data_bytes(suite.data, size), limit, source)
     runs = len(estimates) * len(suite.seed_list)
@@ -248,17 +268,46 @@ def check_suite_memory(
 
 
 def memory_outline(estimates: list[RunMemory], jobs: int = 1) -> list[str]:
-    """One line per contender configuration; sampling is suggested for full-batch runs that
-    would take more than half of this machine's memory with `jobs` processes."""
-    lines = []
+    """The fixed part of every process, then what each run adds: configurations with the same
+    figure share one line. Sampling is suggested for full-batch runs that would take more than
+    half of this machine's memory with `jobs` processes."""
+    if not estimates:
+        return []
+    groups: dict[tuple[str, str, str], list[RunMemory]] = {}
     for estimate in estimates:
-        needed = gib(estimate.bytes)
-        line = f"  {estimate.label}: about {needed} per run ({estimate.batching} batch)"
+        suggestion = ""
         heavy = estimate.bytes * jobs > machine_bytes() / 2
         if estimate.sampled_bytes is not None and heavy:
-            line += (
+            suggestion = (
                 f'; batching = "sampled" (batch_size = 1024, fanout = 10 per layer) would '
-                f"need about {gib(estimate.sampled_bytes)}"
+                f"need about {gib(estimate.sampled_bytes)} in all"
             )
-        lines.append(line)
+        figure = (size_text(estimate.own_bytes), estimate.batching, suggestion)
+        groups.setdefault(figure, []).append(estimate)
+    points = {estimate.contender: 0 for estimate in estimates}
+    for estimate in estimates:
+        points[estimate.contender] += 1
+    lines = [f"estimated peak memory: {FIXED_PART}, plus per run:"]
+    for (figure, batching, suggestion), members in groups.items():
+        each = " each" if len(members) > 1 else ""
+        names = ", ".join(_group_names(members, points))
+        lines.append(f"  {names}: {figure}{each} ({batching} batch){suggestion}")
     return lines
+
+
+def _group_names(members: list[RunMemory], points: dict[str, int]) -> list[str]:
+    """Contenders of one figure; a contender with only some of its points here says how many,
+    or names them when there are two at most."""
+    names = []
+    for contender in dict.fromkeys(member.contender for member in members):
+        own = [member for member in members if member.contender == contender]
+        if len(own) == points[contender]:
+            names.append(contender if len(own) == 1 else f"{contender} (all {len(own)} points)")
+        elif len(own) == 1:
+            names.append(own[0].label)
+        else:
+            shared = set(own[0].point).intersection(*(member.point for member in own[1:]))
+            common = {axis: level for axis, level in own[0].point if (axis, level) in shared}
+            where = point_label(contender, common) if common else contender
+            names.append(f"{where} ({len(own)} of {points[contender]} points)")
+    return names

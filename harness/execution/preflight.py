@@ -9,14 +9,18 @@ from torch_geometric.data import Data
 
 from harness.data import load_graph
 from harness.data.assemble import cleaning_notes, edge_count
+from harness.data.edge_splits import EdgeSplit
 from harness.data.feature_starts import check_contender_graphs
 from harness.data.homophily import measure_homophily
 from harness.data.inductive_edges import EDGE_SPLITS
 from harness.data.splits import make_split
 from harness.errors import InputError
 from harness.execution.memory import GraphSize
-from harness.planning import design_points
+from harness.planning import design_points, expand
+from harness.planning.run_choices import COMPILE_MIN_EDGES, compile_pays_back
+from harness.schema.named import imported
 from harness.schema.suite import Suite
+from harness.schema.tasks import task_kind
 
 
 @dataclass(frozen=True)
@@ -30,6 +34,7 @@ class DataFacts:
     edge_homophily: float  # Zhu et al. (2020)
     node_homophily: float  # Pei et al. (2020)
     notes: tuple[str, ...] = ()  # self-loops and repeated edges removed on load
+    warnings: tuple[str, ...] = ()  # settings that will cost more than they give
 
     @property
     def size(self) -> GraphSize:
@@ -57,19 +62,31 @@ def check_edge_splits(suite: Suite, data: Data, source: str) -> None:
     """Every seed's edge split: enough edges for each share and enough non-edges."""
     for seed in suite.seed_list:
         try:
-            EDGE_SPLITS[suite.setting](data, suite.split, suite.link_options, seed)
+            split = EDGE_SPLITS[suite.setting](data, suite.split, suite.task_options, seed)
         except InputError as error:
             raise InputError(f"{source}: {error}") from None
+        if suite.metric == "hits_at_k":
+            check_hits_k(suite.task_options.hits_k, split, seed, source)
 
 
-SPLIT_CHECKS = {"node_classification": check_node_splits, "link_prediction": check_edge_splits}
+def check_hits_k(hits_k: int, split: EdgeSplit, seed: int, source: str) -> None:
+    """Hits@K counts every edge as a hit when K reaches the negatives: a score of 1.000 that
+    says nothing (OGB's evaluator, which ours follows, does the same)."""
+    for part, labels in (("validation", split.validation_labels), ("test", split.test_labels)):
+        negatives = int((labels < 0.5).sum())
+        if hits_k >= negatives:
+            raise InputError(
+                f"{source}: link.hits_k: given {hits_k}, but the {part} pairs of seed {seed} "
+                f"hold {negatives} negatives, so every {part} edge would count as a hit; "
+                f"allowed: K below {negatives} (or more negatives_per_positive)"
+            )
 
 
 def preflight(suite: Suite, source: str) -> DataFacts:
     """Load the graph and draw every seed's split; errors name the suite file and key."""
     data = load_graph(suite.data)
     classes = int(data.y.max()) + 1
-    SPLIT_CHECKS[suite.task](suite, data, source)
+    imported(task_kind(suite.task).data_check)(suite, data, source)
     check_contender_graphs(design_points(suite), data, suite.hops.memory_budget_mb, source)
     measured = measure_homophily(data.edge_index, data.y)
     return DataFacts(
@@ -79,15 +96,40 @@ def preflight(suite: Suite, source: str) -> DataFacts:
         data.num_features,
         measured.edge,
         measured.node,
-        tuple(cleaning_notes(data, f"{source}: data")) + unused_label_notes(suite, source),
+        tuple(cleaning_notes(data, f"{source}: data")) + task_notes(suite, source),
+        compile_warnings(suite, data.edge_index.size(1), source),
     )
 
 
-def unused_label_notes(suite: Suite, source: str) -> tuple[str, ...]:
-    """A warning when a link suite names a label column: nothing in it uses labels."""
-    if suite.task == "link_prediction" and "label_column" in suite.data.model_fields_set:
-        return (
-            f"{source}: data.label_column: warning: link prediction uses no node labels; "
-            "the column only feeds the data profile",
+def compile_warnings(suite: Suite, edges: int, source: str) -> tuple[str, ...]:
+    """One line per contender told `compile = true` on a graph too small for compiling to pay
+    back within its epochs: it will train slower than eager, not faster."""
+    if not task_kind(suite.task).compiles:
+        return ()
+    lines = {}
+    for design in design_points(suite):
+        training = design.options.training.apply(suite.training)
+        model = design.options.model
+        if training.compile is True and not compile_pays_back(model, edges, training.epochs):
+            lines[design.contender] = (
+                f"{source}: contenders.{design.contender}: warning: compile = true on "
+                f"{edges:,} directed edges for {training.epochs} epochs will not pay back: "
+                f"compiling takes tens of seconds per run and saves little below "
+                f'{COMPILE_MIN_EDGES:,} edges; compile = "auto" compiles only where it pays'
+            )
+    return tuple(lines.values())
+
+
+def task_notes(suite: Suite, source: str) -> tuple[str, ...]:
+    """Warnings from what the task declares: a label column its runs never read, compiling
+    asked for where it does not apply."""
+    kind = task_kind(suite.task)
+    notes = []
+    if not kind.node_labels and "label_column" in suite.data.model_fields_set:
+        notes.append(
+            f"{source}: data.label_column: warning: {kind.title} uses no node labels; "
+            "the column only feeds the data profile"
         )
-    return ()
+    if not kind.compiles and any(spec.training.compile is True for spec in expand(suite)):
+        notes.append(f"{source}: training.compile: warning: {kind.no_compile_reason}")
+    return tuple(notes)

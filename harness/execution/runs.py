@@ -1,10 +1,9 @@
-"""What every executor shares: one run's store row, the specs still to run, the line that
-names a run that could not finish, and what an execution reports."""
+"""What every executor shares: one run's store row, the specs still to run, and the line that
+names a run that could not finish."""
 
 from __future__ import annotations
 
-import signal
-from dataclasses import dataclass
+import errno
 from typing import Any
 
 from harness.errors import InputError
@@ -13,37 +12,6 @@ from harness.storage import store
 from harness.storage.predictions import encode, to_text
 from harness.training.fit import RunResult, as_trained
 from harness.training.tasks import perform
-
-
-@dataclass(frozen=True)
-class LostRun:
-    """A run whose worker process died under it twice: not stored, reported instead."""
-
-    suite: str
-    label: str
-    seed: int
-    key: str
-    exit_code: int | None
-
-    def message(self) -> str:
-        how = "SIGKILL" if self.exit_code == -signal.SIGKILL else f"exit code {self.exit_code}"
-        return (
-            f"{self.suite}: run {self.label} seed {self.seed} (key {self.key}) ended its worker "
-            f"process twice ({how}); likely cause: memory (the kernel's out-of-memory killer "
-            "sends SIGKILL); lower the suite's sizes or run fewer jobs"
-        )
-
-
-@dataclass(frozen=True)
-class Outcome:
-    """What an execution did."""
-
-    planned: int
-    skipped: int
-    finished: int
-    interrupted: bool
-    failures: tuple[str, ...] = ()  # one line per run that could not finish, naming its spec
-    lost: tuple[LostRun, ...] = ()  # of those, the runs that ended their worker twice
 
 
 def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:
@@ -94,6 +62,33 @@ def pending(specs: list[RunSpec], store_path: store.Store) -> list[RunSpec]:
     for suite in suites:
         done |= {(suite, c, k) for c, k in store.finished_keys(store_path, suite)}
     return [s for s in specs if not any((s.suite, s.contender, k) in done for k in s.stored_keys)]
+
+
+NO_SPACE_ERRNOS = (errno.ENOSPC, errno.EDQUOT)
+NO_SPACE_WORDS = ("database or disk is full", "No space left on device", "Disk quota exceeded")
+
+
+def out_of_space(error: BaseException) -> bool:
+    """Whether a run failed because the disk filled, so that every later run would too. Read
+    from the errno and the text: an error a worker sends back has lost its cause."""
+    seen: BaseException | None = error
+    for _ in range(10):  # a chain of causes, never a cycle
+        if seen is None:
+            return False
+        if isinstance(seen, OSError) and seen.errno in NO_SPACE_ERRNOS:
+            return True
+        if any(words in str(seen) for words in NO_SPACE_WORDS):
+            return True
+        seen = seen.__cause__ or seen.__context__
+    return False
+
+
+def no_space_line(left: int) -> str:
+    """The line that ends an execution stopped by a full disk."""
+    return (
+        f"stopped: the disk is full, so {left} runs were not started (each would fail the same "
+        "way); finished runs are stored: free some space and run the same command again"
+    )
 
 
 def describe(spec: RunSpec) -> str:

@@ -12,8 +12,15 @@ from multiprocessing.connection import wait
 import torch
 
 from harness.errors import InputError
+from harness.execution.executed import LostRun
 from harness.execution.pool import Worker, Workers
-from harness.execution.runs import LostRun, failure_line, pending, run_and_store
+from harness.execution.runs import (
+    failure_line,
+    no_space_line,
+    out_of_space,
+    pending,
+    run_and_store,
+)
 from harness.planning import RunSpec
 from harness.storage import store
 
@@ -42,11 +49,12 @@ class Sharing:
         self.lost: list[LostRun] = []
         self.raised: list[str] = []  # one line per run that raised (not bad input)
         self.failures: list[BaseException] = []  # what stops the sharing: bad input
+        self.no_space = False  # a full disk: no run starts, the busy ones end as they do
         self.on_finished = on_finished or (lambda _: None)
 
     def take(self, for_worker: bool) -> RunSpec | None:
         with self.lock:
-            if self.failures or self.stop.is_set():
+            if self.failures or self.no_space or self.stop.is_set():
                 return None
             if for_worker and self.retry:
                 return self.retry.popleft()
@@ -65,6 +73,9 @@ class Sharing:
                 self.raised.append(failure_line(spec, error))
             except InputError as stop:
                 self.failures.append(stop)
+            if out_of_space(error) and not self.no_space:
+                self.no_space = True
+                self.raised.append(no_space_line(len(self.queue) + len(self.retry)))
 
     def run_here(self, spec: RunSpec) -> None:
         try:

@@ -27,19 +27,19 @@ from harness.schema.ablation import point_label
 from harness.schema.base import format_validation_error
 from harness.schema.gate import BASELINE_FORMAT, BASELINE_FORMAT_VERSION, BaselineFile
 from harness.schema.suite import Suite
-from harness.schema.tasks import DEFAULT_TASK
+from harness.schema.tasks import first_metric_names, metric_names, task_kind
 
 RUN_FIELDS = (
     "test_metric",
     "val_metric",
-    "test_accuracy",
-    "test_macro_f1",
-    "test_roc_auc",
+    *(f"test_{name}" for name in first_metric_names()),
     "seconds_per_epoch",
     "peak_mb",
 )
-# link prediction metrics: recorded for runs that have them (node runs leave them out)
-LATER_RUN_FIELDS = ("test_average_precision", "test_hits_at_k")
+# metrics of later tasks: recorded for runs that have them (the first task's runs leave them out)
+LATER_RUN_FIELDS = tuple(
+    f"test_{name}" for name in metric_names() if name not in first_metric_names()
+)
 
 
 def cpu_model() -> str:
@@ -89,9 +89,11 @@ def suite_task(suite: Suite) -> dict[str, Any]:
         "setting": suite.setting,
         "metric": suite.metric,
     }
-    if suite.task != DEFAULT_TASK:  # node classification hashes stay as they were
+    kind = task_kind(suite.task)
+    if kind.keyed:  # hashes of baselines saved before tasks existed stay as they were
         task["task"] = suite.task
-        task["link"] = suite.link_options.model_dump(mode="json")
+        if kind.options_section:
+            task[kind.options_section] = suite.task_options.model_dump(mode="json")
     return task
 
 

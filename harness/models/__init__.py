@@ -3,32 +3,24 @@
 
 from __future__ import annotations
 
-import importlib
-from functools import cache
-
 import torch
 from pydantic import BaseModel
 from torch import nn
 
 from harness.models.interface import Network
 from harness.schema.model_kinds import MODEL_KINDS
-
-
-@cache
-def _builder(path: str):  # noqa: ANN202 - build(options, in_dim, out_dim) -> nn.Module
-    module, _, function = path.partition(":")
-    return getattr(importlib.import_module(module), function)
+from harness.schema.named import imported
 
 
 def load_builders() -> None:
     """Import every registered builder now (worker processes do, before their first run)."""
     for kind in MODEL_KINDS.values():
-        _builder(kind.builder)
+        imported(kind.builder)
 
 
 def builder_of(model: str):  # noqa: ANN201 - build(options, in_dim, out_dim) -> nn.Module
     """The registered kind's builder, imported on first use."""
-    return _builder(MODEL_KINDS[model].builder)
+    return imported(MODEL_KINDS[model].builder)
 
 
 class EmbeddingStart(nn.Module):

@@ -24,6 +24,8 @@ from torch_geometric.utils import add_self_loops, remove_self_loops
 from harness.models.graph_cache import once_per_graph
 from harness.models.stack import LayerStack
 from harness.schema.contenders import AttentionOptions
+from harness.schema.model_kinds import MODEL_KINDS
+from harness.schema.named import imported
 
 
 class ScaledDotProductConv(TransformerConv):
@@ -43,22 +45,57 @@ class ScaledDotProductConv(TransformerConv):
                 part.reset_parameters()
 
 
-def attention_layer(
+def dot_product_layer(
     options: AttentionOptions, width: int, out: int, heads: int, concat: bool
 ) -> nn.Module:
-    """One attention layer; self-loops are handled by the stack, not by the layer."""
-    shared = {"heads": heads, "concat": concat, "dropout": options.attention_dropout}
-    if options.model == "dot_product":
-        return ScaledDotProductConv(width, out, root_weight=options.residual, **shared)
-    layer_class = GATConv if options.model == "gat" else GATv2Conv
+    """Scaled dot-product scores (Shi et al., 2021); `residual` is TransformerConv's root weight."""
+    return ScaledDotProductConv(
+        width, out, root_weight=options.residual, **shared_settings(options, heads, concat)
+    )
+
+
+def static_layer(
+    options: AttentionOptions, width: int, out: int, heads: int, concat: bool
+) -> nn.Module:
+    """Static scores (Velickovic et al., 2018)."""
+    return scored_layer(GATConv, options, width, out, heads, concat)
+
+
+def dynamic_layer(
+    options: AttentionOptions, width: int, out: int, heads: int, concat: bool
+) -> nn.Module:
+    """Dynamic scores (Brody et al., 2022)."""
+    return scored_layer(GATv2Conv, options, width, out, heads, concat)
+
+
+def shared_settings(options: AttentionOptions, heads: int, concat: bool) -> dict:
+    return {"heads": heads, "concat": concat, "dropout": options.attention_dropout}
+
+
+def scored_layer(
+    layer_class: type[MessagePassing],
+    options: AttentionOptions,
+    width: int,
+    out: int,
+    heads: int,
+    concat: bool,
+) -> nn.Module:
+    """A LeakyReLU-scored layer; self-loops are handled by the stack, not by the layer."""
     return layer_class(
         width,
         out,
         negative_slope=options.negative_slope,
         add_self_loops=False,
         residual=options.residual,
-        **shared,
+        **shared_settings(options, heads, concat),
     )
+
+
+def attention_layer(
+    options: AttentionOptions, width: int, out: int, heads: int, concat: bool
+) -> nn.Module:
+    """One layer of the kind's declared layer function (harness/schema/model_kinds.py)."""
+    return imported(MODEL_KINDS[options.model].layer)(options, width, out, heads, concat)
 
 
 class AttentionStack(LayerStack):

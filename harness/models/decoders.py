@@ -8,6 +8,8 @@ Scores are logits: sigma(s_ij) is the predicted probability that (i, j) is an ed
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import torch
 from pydantic import BaseModel
 from torch import nn
@@ -42,6 +44,13 @@ class PairPerceptronDecoder(nn.Module):
         return self.out(torch.relu(self.hidden(product))).squeeze(-1)
 
 
+# the `[link]` decoder choices, each built from the link options
+DECODERS: dict[str, Callable[[BaseModel], nn.Module]] = {
+    "dot_product": lambda link: DotProductDecoder(),
+    "mlp": lambda link: PairPerceptronDecoder(link.embedding_width, link.decoder_hidden),
+}
+
+
 class LinkModel(nn.Module):
     """Encoder (any contender kind) followed by a pair decoder."""
 
@@ -64,8 +73,4 @@ def build_link_model(
 ) -> LinkModel:
     """The contender's network with `link.embedding_width` outputs, and the suite's decoder."""
     encoder = build_model(options, in_dim, link.embedding_width, embedding_rows)
-    if link.decoder == "mlp":
-        decoder: nn.Module = PairPerceptronDecoder(link.embedding_width, link.decoder_hidden)
-    else:
-        decoder = DotProductDecoder()
-    return LinkModel(encoder, decoder)
+    return LinkModel(encoder, DECODERS[link.decoder](link))

@@ -27,10 +27,11 @@ from harness.schema.ablation import (
     point_label,
 )
 from harness.schema.base import format_validation_error, key_dump
-from harness.schema.batching import check_batching
-from harness.schema.data import FractionSplit, SyntheticData
+from harness.schema.batching import check_batching, check_options_apply
+from harness.schema.data import SyntheticData
+from harness.schema.splits import FractionSplit
 from harness.schema.suite import Suite
-from harness.schema.tasks import DEFAULT_TASK
+from harness.schema.tasks import DEFAULT_TASK, task_kind
 from harness.schema.training import Training
 from harness.schema.tuning import TRAINING_KEYS, check_tuning
 
@@ -55,7 +56,7 @@ class RunSpec:
     point: dict[str, Any] = field(default_factory=dict)
     hop_cache: str = DEFAULT_HOP_CACHE  # where k-hop edge sets are cached; not in the key
     task: str = DEFAULT_TASK
-    link: BaseModel | None = None  # the `[link]` options of a link prediction suite
+    link: BaseModel | None = None  # the task's own table (`[link]` of a link suite), if any
     keep_predictions: bool = True  # store test-node probabilities (breakdown); not in the key
 
     @property
@@ -84,15 +85,17 @@ class RunSpec:
         }
         if sampled:  # the two samplers draw different batches from one seed
             determining["sampler"] = sampler_in_use()
-        if self.task != DEFAULT_TASK:  # keys of node classification runs stay as they were
+        kind = task_kind(self.task)
+        if kind.keyed:  # keys of runs stored before tasks existed stay as they were
             determining["task"] = self.task
-            determining["link"] = key_dump(self.link)
+            if kind.options_section:
+                determining[kind.options_section] = key_dump(self.link)
         return json_digest(determining)
 
     @property
     def stored_keys(self) -> frozenset[str]:
         """Keys under which this run may be stored: its own, and for a compiled run also the
-        eager one, since a run whose compiling failed is stored as eager (see README)."""
+        eager one, since a run whose compiling failed is stored as eager (docs/large-graphs.md)."""
         if self.training.compile is not True:
             return frozenset({self.key})
         eager = replace(self, training=self.training.model_copy(update={"compile": False}))
@@ -125,6 +128,7 @@ def parse_suite(raw: dict, source: str) -> Suite:
     check_ablation(suite.contenders, suite.ablation, suite.setting, source)
     check_tuning(suite, source)  # search spaces against the contenders' options
     check_batching(suite, source)  # fan-out lengths against each contender's layers
+    check_options_apply(suite, source)  # no fanout or compile that no run would use
     return suite
 
 
@@ -188,7 +192,7 @@ def run_spec(
         point=design.point,
         hop_cache=hop_cache_directory(suite.hops),
         task=suite.task,
-        link=suite.link_options if suite.task == "link_prediction" else None,
+        link=suite.task_options,
         keep_predictions=suite.analysis.breakdown,
     )
 
@@ -240,6 +244,12 @@ def matched_section(profile: GraphShape, level: float, suite: Suite) -> Syntheti
         class_balance=[float(count) for count in counts],
         graph_seed=options.graph_seed,
     )
+
+
+def map_run_count(suite: Suite) -> int:
+    """Runs the homophily map adds (as many as map_specs gives, known before any data)."""
+    options = suite.homophily_map
+    return 0 if options is None else len(options.levels) * len(suite.contenders) * options.seeds
 
 
 def map_specs(suite: Suite, profile: GraphShape) -> list[RunSpec]:

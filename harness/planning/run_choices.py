@@ -3,10 +3,7 @@ decided from the declared graph size) and which neighbour sampler this installat
 
 from __future__ import annotations
 
-from pathlib import Path
-
-from pydantic import BaseModel
-
+from harness.schema.data import DataSource
 from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.training import Training
 
@@ -20,57 +17,24 @@ PYG_SAMPLER = "pyg_neighbor"
 COMPILE_MIN_EDGES = 200_000  # below this, even a long run's saving is lost in noise
 
 
-def declared_edges(data: BaseModel) -> int | None:
-    """Directed edges the data section will give, known before loading it; None if unknown.
-
-    Synthetic graphs: nodes x average degree; tables: edge rows (twice if undirected); bundled
-    graphs are small. PyG datasets are not counted without loading them.
-    """
-    if data.source == "synthetic":
-        return round(data.nodes * data.average_degree)
-    if data.source == "tables":
-        return table_rows(data.edges) * (1 if data.directed else 2)
-    if data.source in ("karate", "digits"):
-        return 0
-    return None
-
-
-_ROWS: dict[tuple[str, int, int], int] = {}
-
-
-def table_rows(path: str) -> int:
-    """Data rows of a CSV (lines after the header) or Parquet file (from its footer)."""
-    stat = Path(path).stat()
-    cache_key = (path, stat.st_size, stat.st_mtime_ns)
-    if cache_key not in _ROWS:
-        if Path(path).suffix.lower() == ".csv":
-            with open(path, "rb") as handle:
-                lines = sum(block.count(b"\n") for block in iter(lambda: handle.read(1 << 20), b""))
-            _ROWS[cache_key] = max(lines - 1, 0)
-        else:
-            import pyarrow.parquet  # only suites with Parquet tables need it
-
-            _ROWS[cache_key] = pyarrow.parquet.ParquetFile(path).metadata.num_rows
-    return _ROWS[cache_key]
-
-
-def resolve_compile(training: Training, model: str, data: BaseModel) -> Training:
+def resolve_compile(training: Training, model: str, data: DataSource) -> Training:
     """Training with `compile = "auto"` decided: true or false, before any key is taken.
     Sampled runs are never compiled (every batch has another shape)."""
     if training.sampled and training.compile is not False:
         return training.model_copy(update={"compile": False})
     if training.compile != "auto":
         return training
-    edges = declared_edges(data)
+    edges = data.declared_edges()
+    wanted = edges is not None and compile_pays_back(model, edges, training.epochs)
+    return training.model_copy(update={"compile": wanted})
+
+
+def compile_pays_back(model: str, edges: int, epochs: int) -> bool:
+    """Whether compiling a full-batch run of `model` on `edges` directed edges for `epochs`
+    epochs saves more than the compile costs (the kind's measured `compile_payback`)."""
     kind = MODEL_KINDS.get(model)
     payback = None if kind is None else kind.compile_payback
-    wanted = (
-        edges is not None
-        and payback is not None
-        and edges >= COMPILE_MIN_EDGES
-        and edges * training.epochs >= payback
-    )
-    return training.model_copy(update={"compile": wanted})
+    return payback is not None and edges >= COMPILE_MIN_EDGES and edges * epochs >= payback
 
 
 def sampler_in_use() -> str:

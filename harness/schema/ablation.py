@@ -29,8 +29,16 @@ OPTIONS = TypeAdapter(ContenderOptions)
 class Ablation(StrictModel):
     """Options of one contender to vary, each with the levels it takes."""
 
-    mode: Literal["grid", "one_at_a_time"] = "one_at_a_time"
-    axes: dict[str, list[Any]]
+    mode: Literal["grid", "one_at_a_time"] = Field(
+        "one_at_a_time",
+        description=(
+            "one_at_a_time: the contender's own options once, then each axis swept "
+            "alone; grid: every combination of the levels."
+        ),
+    )
+    axes: dict[str, list[Any]] = Field(
+        description="Option name to the list of levels it takes, e.g. heads = [1, 4].",
+    )
 
     @field_validator("axes")
     @classmethod
@@ -52,8 +60,24 @@ class HopSettings(StrictModel):
     else runs/cache.
     """
 
-    memory_budget_mb: float = Field(1024.0, gt=0, le=1_000_000)
-    cache: str | None = Field(None, min_length=1)
+    memory_budget_mb: float = Field(
+        1024.0,
+        gt=0,
+        le=1_000_000,
+        description=(
+            "Largest estimated attention memory, in MB, for a hop radius above 1; "
+            "check stops above it."
+        ),
+    )
+    cache: str | None = Field(
+        None,
+        min_length=1,
+        description=(
+            "Folder of the k-hop edge cache, compiled code and PyG's generated "
+            "modules; default runs/cache; the HEEDFUL_CACHE environment variable "
+            "wins."
+        ),
+    )
 
 
 def level_text(value: Any) -> str:

@@ -6,6 +6,9 @@ from pydantic import Field, field_validator, model_validator
 
 from harness.schema.base import StrictModel
 
+# settings of the per-node breakdown, refused for a task that has none
+BREAKDOWN_KEYS = ("local_homophily_edges", "degree_edges", "breakdown")
+
 
 class Analysis(StrictModel):
     """Settings of the statistics and verdicts.
@@ -17,14 +20,55 @@ class Analysis(StrictModel):
     for new runs and leaves the per-node breakdown out (for graphs with very many test nodes).
     """
 
-    minimum_gain: float = Field(1.0, ge=0, le=100)
-    confidence: float = Field(0.95, ge=0.5, le=0.999)
-    bootstrap_resamples: int = Field(2000, ge=100, le=100_000)
-    attention: list[str] = []
-    baselines: list[str] = []
-    local_homophily_edges: list[float] = [0.0, 0.2, 0.4, 0.6, 0.8, 1.0]
-    degree_edges: list[int] = []
-    breakdown: bool = True
+    minimum_gain: float = Field(
+        1.0,
+        ge=0,
+        le=100,
+        description="Smallest difference that matters, in metric points (0.01 of the metric).",
+    )
+    confidence: float = Field(
+        0.95,
+        ge=0.5,
+        le=0.999,
+        description="Confidence of every interval; 1 - confidence is the level of the tests.",
+    )
+    bootstrap_resamples: int = Field(
+        2000,
+        ge=100,
+        le=100_000,
+        description="Resamples of the percentile bootstrap intervals.",
+    )
+    attention: list[str] = Field(
+        [],
+        description=(
+            "Contenders on the attention side of the comparisons; default: the "
+            "attention model kinds."
+        ),
+    )
+    baselines: list[str] = Field(
+        [],
+        description=(
+            "Contenders on the baseline side; default: every contender not on the attention side."
+        ),
+    )
+    local_homophily_edges: list[float] = Field(
+        [0.0, 0.2, 0.4, 0.6, 0.8, 1.0],
+        description=("Bin edges of the per-node breakdown by local homophily, rising from 0 to 1."),
+    )
+    degree_edges: list[int] = Field(
+        [],
+        description=(
+            "Lowest degree of each degree group but the first, rising; empty: the "
+            "quartiles of the degrees."
+        ),
+    )
+    breakdown: bool = Field(
+        True,
+        description=(
+            "Keep test-node predictions of new runs and make the per-node breakdown; "
+            "false for graphs with very many test nodes."
+        ),
+    )
 
     @field_validator("local_homophily_edges")
     @classmethod

@@ -11,6 +11,8 @@ from pydantic import BaseModel, ConfigDict, ValidationError, model_validator
 UNKNOWN_KEY = "unknown key"
 STRAY_BOOLEAN = "true/false given for"
 QUOTED_VALUE = "text given where allowed is"
+# numpy's RandomState (node splits) and Optuna's samplers take seeds below 2**32
+LARGEST_SEED = 2**32 - 1
 
 
 class StrictModel(BaseModel):

@@ -6,6 +6,7 @@ from typing import TYPE_CHECKING
 
 from harness.errors import InputError
 from harness.schema.ablation import configured_points, point_label
+from harness.schema.tasks import task_kind
 from harness.schema.tuning import spaces
 
 if TYPE_CHECKING:
@@ -20,6 +21,40 @@ def _fanout_source(suite: Suite, contender: str) -> str:
     return "training.fanout"
 
 
+def check_options_apply(suite: Suite, source: str) -> None:
+    """`fanout` applies only to sampled batches and `compile = true` only to full ones: each is
+    refused where no run would use it, rather than silently ignored."""
+    inherit_fanout = inherit_compile = False  # whether any run uses the suite table's value
+    for contender, _, options in configured_points(suite.contenders, suite.ablation):
+        own = options.training
+        training = own.apply(suite.training)
+        where = f"{source}: contenders.{contender}.training"
+        if own.fanout is not None and not training.sampled:
+            raise InputError(unused_fanout(where, own.fanout))
+        if own.compile is True and training.sampled:
+            raise InputError(unused_compile(where))
+        inherit_fanout |= own.fanout is None and training.sampled
+        inherit_compile |= own.compile is None and not training.sampled
+    if suite.training.fanout is not None and not inherit_fanout:
+        raise InputError(unused_fanout(f"{source}: training", suite.training.fanout))
+    if suite.training.compile is True and not inherit_compile:
+        raise InputError(unused_compile(f"{source}: training"))
+
+
+def unused_fanout(where: str, fanout: object) -> str:
+    return (
+        f"{where}.fanout: given {fanout!r} where every run trains on full batches, which draw no "
+        'neighbours; allowed: leave fanout out, or batching = "sampled"'
+    )
+
+
+def unused_compile(where: str) -> str:
+    return (
+        f"{where}.compile: given true where every run trains on sampled batches, which are never "
+        'compiled (every batch has another shape); allowed: false or "auto", or batching = "full"'
+    )
+
+
 def check_batching(suite: Suite, source: str) -> None:
     """Sampled contenders need a fan-out with one entry per layer (or "all")."""
     tuned = {} if suite.tuning is None else spaces(suite.tuning, suite.contenders)
@@ -27,12 +62,12 @@ def check_batching(suite: Suite, source: str) -> None:
         training = options.training.apply(suite.training)
         if not training.sampled:
             continue
-        if suite.task == "link_prediction":
+        if not task_kind(suite.task).sampled_batches:
             own = suite.contenders[contender].training.batching is not None
             key = f"contenders.{contender}.training" if own else "training"
             raise InputError(
                 f'{source}: {key}.batching: given "sampled"; sampled batches are not extended '
-                'to link prediction; allowed: "full"'
+                f'to {task_kind(suite.task).title}; allowed: "full"'
             )
         where = f"{source}: {_fanout_source(suite, contender)}"
         layers = options.layers

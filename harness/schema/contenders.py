@@ -46,14 +46,44 @@ class ContenderBase(StrictModel):
     `degree_cap` caps the one-hot degree of `degree` and `given_degree`.
     """
 
-    layers: int = Field(2, ge=1, le=8)
-    hidden: int = Field(64, ge=1, le=4096)
-    dropout: float = Field(0.5, ge=0, lt=1)
-    activation: Activation = "elu"
-    feature_start: FeatureStart = "given"
-    start_width: int = Field(16, ge=1, le=1024)
-    degree_cap: int = Field(32, ge=1, le=10_000)
-    training: TrainingOverride = TrainingOverride()
+    layers: int = Field(2, ge=1, le=8, description="Number of layers, the output layer included.")
+    hidden: int = Field(
+        64,
+        ge=1,
+        le=4096,
+        description="Width of each hidden layer (attention kinds: the width of each head).",
+    )
+    dropout: float = Field(0.5, ge=0, lt=1, description="Dropout on each layer's input.")
+    activation: Activation = Field("elu", description="Activation between layers.")
+    feature_start: FeatureStart = Field(
+        "given",
+        description=(
+            "The node features a contender starts from: given (the data's), identity "
+            "(a learned row per node; transductive only), degree (one-hot, capped), "
+            "log_degree, random (fixed Gaussian columns), constant, given_degree "
+            "(given plus the degree one-hot), laplacian (eigenvectors) or random_walk"
+            " (return probabilities)."
+        ),
+    )
+    start_width: int = Field(
+        16,
+        ge=1,
+        le=1024,
+        description=(
+            "Width of identity and random starts, the number of Laplacian "
+            "eigenvectors, or the random-walk steps."
+        ),
+    )
+    degree_cap: int = Field(
+        32,
+        ge=1,
+        le=10_000,
+        description=("Largest degree with its own column in the degree and given_degree one-hots."),
+    )
+    training: TrainingOverride = Field(
+        TrainingOverride(),
+        description="This contender's changes to the suite's training defaults.",
+    )
 
     @model_validator(mode="before")
     @classmethod
@@ -66,6 +96,18 @@ class ContenderBase(StrictModel):
                         f"attention; allowed only for {', '.join(_attention_kinds())}"
                     )
         return data
+
+    # what every kind's layers declare, so that no stage asks which kind it holds
+    def layer_radius(self) -> int:
+        """Hops one layer reaches: 1, but for kinds that attend over a wider hop set."""
+        return 1
+
+    def heads_per_layer(self) -> list[int]:
+        return [1] * self.layers
+
+    def merge_per_layer(self) -> list[str]:
+        """How each layer merges its heads; one head gives the same either way."""
+        return ["average"] * self.layers
 
 
 def _attention_kinds() -> tuple[str, ...]:
@@ -83,15 +125,45 @@ class AttentionOptions(ContenderBase):
     static and dynamic scores; scaled dot-product scores have none.
     """
 
-    model: Literal["gat", "gatv2", "dot_product"]
-    hidden: int = Field(8, ge=1, le=4096)
-    heads: HeadCount | list[HeadCount] = 8
-    head_merge: HeadMerge | list[HeadMerge] = "concatenate"
-    hop_radius: int = Field(1, ge=1, le=3)
-    attend_to_self: bool = True
-    negative_slope: float = Field(0.2, ge=0, lt=1)
-    attention_dropout: float = Field(0.0, ge=0, lt=1)
-    residual: bool = False
+    model: Literal["gat", "gatv2", "dot_product"] = Field(
+        description=(
+            "Attention scoring: gat (static, Velickovic et al. 2018), gatv2 (dynamic,"
+            " Brody et al. 2022) or dot_product (scaled dot product, Shi et al. "
+            "2021)."
+        ),
+    )
+    hidden: int = Field(8, ge=1, le=4096, description="Width of each attention head.")
+    heads: HeadCount | list[HeadCount] = Field(
+        8,
+        description="Attention heads, one count for every layer or a list with one per layer.",
+    )
+    head_merge: HeadMerge | list[HeadMerge] = Field(
+        "concatenate",
+        description=(
+            "How heads combine: one value sets the hidden layers (the output layer "
+            "averages), or a list sets every layer."
+        ),
+    )
+    hop_radius: int = Field(
+        1,
+        ge=1,
+        le=3,
+        description="A node attends to every node within this many hops.",
+    )
+    attend_to_self: bool = Field(True, description="Whether a node attends to itself.")
+    negative_slope: float = Field(
+        0.2,
+        ge=0,
+        lt=1,
+        description="LeakyReLU slope of the gat and gatv2 scores.",
+    )
+    attention_dropout: float = Field(
+        0.0,
+        ge=0,
+        lt=1,
+        description="Dropout on the attention weights.",
+    )
+    residual: bool = Field(False, description="Add a linear skip connection to each layer.")
 
     @model_validator(mode="after")
     def _layer_shapes(self) -> AttentionOptions:
@@ -112,6 +184,9 @@ class AttentionOptions(ContenderBase):
                 )
         return self
 
+    def layer_radius(self) -> int:
+        return self.hop_radius
+
     def heads_per_layer(self) -> list[int]:
         return list(self.heads) if isinstance(self.heads, list) else [self.heads] * self.layers
 
@@ -125,16 +200,26 @@ class AttentionOptions(ContenderBase):
 class ConvolutionOptions(ContenderBase):
     """Graph convolution with symmetric normalisation (Kipf and Welling, 2017)."""
 
-    model: Literal["gcn"]
+    model: Literal["gcn"] = Field(
+        description=(
+            "gcn: graph convolution with symmetric normalisation (Kipf and Welling, 2017)."
+        ),
+    )
 
 
 class NeighbourMeanOptions(ContenderBase):
     """Mean aggregation over neighbours plus a root weight (Hamilton et al., 2017)."""
 
-    model: Literal["sage"]
+    model: Literal["sage"] = Field(
+        description=(
+            "sage: the mean of the neighbours plus a root weight (Hamilton et al., 2017)."
+        ),
+    )
 
 
 class MLPOptions(ContenderBase):
     """Multi-layer perceptron on node features alone: ignores edges."""
 
-    model: Literal["mlp"]
+    model: Literal["mlp"] = Field(
+        description="mlp: a multi-layer perceptron on node features alone; ignores edges.",
+    )

@@ -1,19 +1,16 @@
-"""The data and split sections: where the graph comes from, and how its nodes are split.
-
-Data sources are chosen by `source`, split methods by `method` (default "fractions").
-"""
+"""The data section: where the graph comes from, chosen by `source`. Splits: splits.py."""
 
 from __future__ import annotations
 
 import hashlib
+import math
 import re
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Annotated, Any, Literal
+from typing import Annotated, ClassVar, Literal
 
 from pydantic import (
-    Discriminator,
     Field,
-    Tag,
     ValidationInfo,
     computed_field,
     field_validator,
@@ -63,6 +60,7 @@ def resolve_path(value: str, info: ValidationInfo) -> str:
 
 
 _DIGESTS: dict[tuple[str, int, int], str] = {}
+_ROWS: dict[tuple[str, int, int], int] = {}
 
 
 def file_digest(path: str) -> str:
@@ -78,18 +76,99 @@ def file_digest(path: str) -> str:
     return _DIGESTS[cache_key]
 
 
-class SyntheticData(StrictModel):
+def table_rows(path: str) -> int:
+    """Data rows of a CSV (lines after the header) or Parquet file (from its footer)."""
+    stat = Path(path).stat()
+    cache_key = (path, stat.st_size, stat.st_mtime_ns)
+    if cache_key not in _ROWS:
+        if Path(path).suffix.lower() == ".csv":
+            with open(path, "rb") as handle:
+                lines = sum(block.count(b"\n") for block in iter(lambda: handle.read(1 << 20), b""))
+            _ROWS[cache_key] = max(lines - 1, 0)
+        else:
+            import pyarrow.parquet  # only suites with Parquet tables need it
+
+            _ROWS[cache_key] = pyarrow.parquet.ParquetFile(path).metadata.num_rows
+    return _ROWS[cache_key]
+
+
+@dataclass(frozen=True)
+class GraphSize:
+    """What a memory estimate needs to know of a graph: directed edges (both directions counted)."""
+
+    nodes: int
+    edges: int
+    features: int
+    classes: int
+
+    @property
+    def average_degree(self) -> float:
+        return self.edges / max(self.nodes, 1)
+
+
+class DataSource(StrictModel):
+    """What every data section declares about its graph before it is loaded."""
+
+    # whether loading generates the graph (its peak memory is then estimated before it runs)
+    generated: ClassVar[bool] = False
+
+    def declared_edges(self) -> int | None:
+        """Directed edges the section will give, known before loading it; None if unknown."""
+        return None
+
+    def declared_size(self) -> GraphSize | None:
+        """The whole size of the graph, when the section alone tells it."""
+        return None
+
+
+class SyntheticData(DataSource):
     """Contextual stochastic block model: planted classes, homophilous edges, Gaussian features."""
 
-    source: Literal["synthetic"]
-    nodes: int = Field(1000, ge=4, le=2_000_000)
-    classes: int = Field(4, ge=2, le=100)
-    average_degree: float = Field(8.0, gt=0, le=1000)
-    edge_homophily: float = Field(0.7, ge=0, le=1)
-    feature_dimension: int = Field(16, ge=1, le=10_000)
-    feature_signal: float = Field(1.0, ge=0, le=100)
-    class_balance: list[float] | None = None
-    graph_seed: int = Field(0, ge=0)
+    generated: ClassVar[bool] = True
+
+    source: Literal["synthetic"] = Field(
+        description="synthetic: a contextual stochastic block model generated from a seed.",
+    )
+    nodes: int = Field(1000, ge=4, le=2_000_000, description="Number of nodes.")
+    classes: int = Field(4, ge=2, le=100, description="Number of planted classes.")
+    average_degree: float = Field(
+        8.0,
+        gt=0,
+        le=1000,
+        description="Mean number of neighbours per node.",
+    )
+    edge_homophily: float = Field(
+        0.7,
+        ge=0,
+        le=1,
+        description="Share of edges that join two nodes of the same class.",
+    )
+    feature_dimension: int = Field(
+        16,
+        ge=1,
+        le=10_000,
+        description="Number of Gaussian feature columns.",
+    )
+    feature_signal: float = Field(
+        1.0,
+        ge=0,
+        le=100,
+        description=(
+            "Distance between the class means of the features, in standard "
+            "deviations; 0: features carry no label information."
+        ),
+    )
+    class_balance: list[float] | None = Field(
+        None,
+        description=(
+            "Relative class sizes, one positive weight per class; default: equal classes."
+        ),
+    )
+    graph_seed: int = Field(
+        0,
+        ge=0,
+        description="Seed of the generated graph (the same for every run seed).",
+    )
 
     @model_validator(mode="after")
     def _balance_matches_classes(self) -> SyntheticData:
@@ -100,8 +179,8 @@ class SyntheticData(StrictModel):
                     f"class_balance has {len(balance)} entries; allowed: one per class "
                     f"({self.classes})"
                 )
-            if any(b <= 0 for b in balance):
-                raise ValueError("class_balance entries must all be > 0")
+            if any(not 0 < b < math.inf for b in balance):  # NaN fails every comparison
+                raise ValueError("class_balance entries must all be finite numbers > 0")
         weights = balance or [1.0] * self.classes
         shares = [w / sum(weights) for w in weights]
         smallest = min(range(self.classes), key=shares.__getitem__)
@@ -114,8 +193,14 @@ class SyntheticData(StrictModel):
             raise ValueError(f"average_degree must be below nodes - 1 ({self.nodes - 1})")
         return self
 
+    def declared_edges(self) -> int:
+        return round(self.nodes * self.average_degree)
 
-class TableData(StrictModel):
+    def declared_size(self) -> GraphSize:
+        return GraphSize(self.nodes, self.declared_edges(), self.feature_dimension, self.classes)
+
+
+class TableData(DataSource):
     """A nodes file and an edges file, CSV or Parquet; paths are relative to the suite file.
 
     Nodes: an id column, feature columns (a list, a prefix, or else every other column), a label
@@ -123,19 +208,63 @@ class TableData(StrictModel):
     test, or empty). Edges: source and target ids and an optional weight column.
     """
 
-    source: Literal["tables"]
-    nodes: str
-    edges: str
-    id_column: str = "id"
-    feature_columns: list[str] | None = None
-    feature_prefix: str | None = None
-    label_column: str = "label"
-    split_column: str | None = None
-    source_column: str = "source"
-    target_column: str = "target"
-    weight_column: str | None = None
-    directed: bool = False
-    standardise: bool = False  # rescale each feature column to mean 0, standard deviation 1
+    source: Literal["tables"] = Field(
+        description="tables: a nodes file and an edges file, CSV or Parquet.",
+    )
+    nodes: str = Field(
+        description="Nodes file (.csv, .parquet or .pq), relative to the suite file.",
+    )
+    edges: str = Field(
+        description="Edges file (.csv, .parquet or .pq), relative to the suite file.",
+    )
+    id_column: str = Field(
+        "id",
+        description="Nodes column of unique node ids (strings or integers).",
+    )
+    feature_columns: list[str] | None = Field(
+        None,
+        description=(
+            "Nodes columns holding the features; default: every column but the id, "
+            "label and split columns."
+        ),
+    )
+    feature_prefix: str | None = Field(
+        None,
+        description=(
+            "Take as features every nodes column whose name starts with this (instead"
+            " of feature_columns)."
+        ),
+    )
+    label_column: str = Field(
+        "label",
+        description=(
+            "Nodes column of class labels; an empty cell is an unlabelled node, never split."
+        ),
+    )
+    split_column: str | None = Field(
+        None,
+        description=(
+            "Nodes column saying train, validation, test or empty, read by split method column."
+        ),
+    )
+    source_column: str = Field("source", description="Edges column of the source node id.")
+    target_column: str = Field("target", description="Edges column of the target node id.")
+    weight_column: str | None = Field(
+        None,
+        description=(
+            "Edges column of edge weights, kept as edge_weight; today's contenders do"
+            " not use weights."
+        ),
+    )
+    directed: bool = Field(
+        False,
+        description=("false: every edge also runs the other way; true: edges are taken as given."),
+    )
+    # rescale each feature column to mean 0, standard deviation 1
+    standardise: bool = Field(
+        False,
+        description="Rescale each feature column to mean 0 and standard deviation 1.",
+    )
 
     @field_validator("nodes", "edges")
     @classmethod
@@ -170,31 +299,70 @@ class TableData(StrictModel):
     def content_digest(self) -> str:
         return file_digest(self.nodes) + file_digest(self.edges)
 
+    def declared_edges(self) -> int:
+        """Edge rows, twice when undirected (each row is both directions)."""
+        return table_rows(self.edges) * (1 if self.directed else 2)
 
-class KarateData(StrictModel):
+
+class KarateData(DataSource):
     """Zachary's karate club (Zachary, 1977), networkx's copy: 34 members, two factions."""
 
-    source: Literal["karate"]
+    source: Literal["karate"] = Field(
+        description=(
+            "karate: Zachary's karate club (networkx's copy), 34 members in two factions."
+        ),
+    )
+
+    def declared_edges(self) -> int:
+        return 0  # small enough to count as none
 
 
-class DigitsData(StrictModel):
+class DigitsData(DataSource):
     """scikit-learn's digits (UCI optical recognition of handwritten digits) as a k-NN graph."""
 
-    source: Literal["digits"]
-    neighbours: int = Field(10, ge=1, le=100)
+    source: Literal["digits"] = Field(
+        description=("digits: scikit-learn's handwritten digits as a k-nearest-neighbour graph."),
+    )
+    neighbours: int = Field(10, ge=1, le=100, description="k of the k-nearest-neighbour graph.")
+
+    def declared_edges(self) -> int:
+        return 0  # small enough to count as none
 
 
-class PygData(StrictModel):
-    """A PyG dataset class from the allow-list PYG_DATASETS, stored under a local root folder."""
+class PygData(DataSource):
+    """A PyG dataset class from the allow-list PYG_DATASETS, stored under a local root folder.
+    Its edges are not counted without loading it."""
 
-    source: Literal["pyg"]
-    dataset: PygClass
-    name: str | None = None
-    root: str = "datasets"
-    download: bool = False
+    source: Literal["pyg"] = Field(
+        description="pyg: a dataset class of PyTorch Geometric, from an allow-list.",
+    )
+    dataset: PygClass = Field(description="The PyG dataset class.")
+    name: str | None = Field(
+        None,
+        description=(
+            "The dataset within the class, where the class has several (e.g. "
+            "Minesweeper for HeterophilousGraphDataset)."
+        ),
+    )
+    root: str = Field(
+        "datasets",
+        description="Local folder of the dataset's files, relative to the suite file.",
+    )
+    download: bool = Field(
+        False,
+        description="Fetch missing files; otherwise missing files are an error listing them.",
+    )
     # load files PyG would unpickle although Heedful did not see them made (harness/data/
     # pyg_folder.py); says nothing about the result, so it enters no key or hash
-    trusted: bool = Field(False, exclude=True)
+    trusted: bool = Field(
+        False,
+        exclude=True,
+        description=(
+            "Load files PyG would unpickle although Heedful's manifest does not list "
+            "them; only for a folder whose files you know the origin of. Enters no "
+            "run key."
+        ),
+    )
 
     @field_validator("root")
     @classmethod
@@ -224,77 +392,3 @@ DataSection = Annotated[
     SyntheticData | TableData | KarateData | DigitsData | PygData,
     Field(discriminator="source"),
 ]
-
-
-class FractionSplit(StrictModel):
-    """Stratified random split by fractions, drawn anew for each seed."""
-
-    method: Literal["fractions"] = "fractions"
-    train: float = Field(0.5, gt=0, lt=1)
-    validation: float = Field(0.25, gt=0, lt=1)
-    test: float = Field(0.25, gt=0, lt=1)
-
-    @model_validator(mode="after")
-    def _sums_to_at_most_one(self) -> FractionSplit:
-        total = self.train + self.validation + self.test
-        if total > 1 + 1e-9:
-            raise ValueError(f"train + validation + test = {total:g}; allowed: at most 1")
-        return self
-
-
-class PerClassSplit(StrictModel):
-    """A fixed number of labelled nodes per class for training and validation, drawn per seed.
-
-    Test: `test_per_class` nodes per class, or every remaining labelled node when absent.
-    """
-
-    method: Literal["per_class"]
-    train_per_class: int = Field(20, ge=1, le=1_000_000)
-    validation_per_class: int = Field(30, ge=1, le=1_000_000)
-    test_per_class: int | None = Field(None, ge=1, le=1_000_000)
-
-
-class ColumnSplit(StrictModel):
-    """The split the data carries: a table's split column, or a PyG dataset's masks.
-
-    When a PyG dataset holds several mask columns, seed s uses column s mod their count.
-    """
-
-    method: Literal["column"]
-
-
-def _split_method(value: Any) -> str:
-    if isinstance(value, dict):
-        return value.get("method", "fractions")
-    return getattr(value, "method", "fractions")
-
-
-SplitSection = Annotated[
-    Annotated[FractionSplit, Tag("fractions")]
-    | Annotated[PerClassSplit, Tag("per_class")]
-    | Annotated[ColumnSplit, Tag("column")],
-    Discriminator(
-        _split_method,
-        custom_error_type="unknown_split_method",
-        custom_error_message="unknown split method; allowed: fractions, per_class, column",
-    ),
-]
-
-
-class HomophilyMap(StrictModel):
-    """Run the contenders on synthetic graphs matched to the suite's data (nodes, average
-    degree, classes and their balance, feature width) at each edge homophily in `levels`."""
-
-    levels: list[float] = [0.1, 0.3, 0.5, 0.7, 0.9]
-    seeds: int = Field(2, ge=1, le=100)
-    feature_signal: float = Field(1.0, ge=0, le=100)
-    graph_seed: int = Field(0, ge=0)
-
-    @field_validator("levels")
-    @classmethod
-    def _levels_in_range(cls, levels: list[float]) -> list[float]:
-        if len(levels) < 2 or len(set(levels)) != len(levels):
-            raise ValueError("allowed: two or more distinct edge homophily values")
-        if any(not 0 <= level <= 1 for level in levels):
-            raise ValueError("allowed: edge homophily values from 0 to 1")
-        return sorted(levels)

@@ -43,7 +43,9 @@ class ModelKind:
     A kind that `attends` builds a network with attention weights
     (harness.models.interface.AttentionNetwork), which the diagnostics read. `compile_payback`:
     directed edges x maximum epochs from which `compile = "auto"` compiles it (the one-off
-    compile time is paid back; benchmarks/large_graphs.py, README Performance); None: never."""
+    compile time is paid back; benchmarks/large_graphs.py, docs/performance.md); None: never.
+    `layer`: for kinds sharing the attention builder, "module:function" of one layer,
+    layer(options, in_width, out_width_per_head, heads, concatenate) -> torch module."""
 
     options: type[ContenderBase]  # pydantic class with `model: Literal[<kind name>, ...]`
     builder: str  # "module:function", build(options, in_dim, out_dim) -> torch module
@@ -53,9 +55,11 @@ class ModelKind:
     attends: bool = False
     extra_hops: int = 0
     compile_payback: float | None = None
+    layer: str | None = None
 
 
 ATTENTION = "harness.models.attention:build"
+LAYERS = "harness.models.attention"
 # static scores: a scalar score and its softmax per edge and head, and the weighted message
 STATIC_SCORES = SavedFloats(node_inputs=2, node_outputs=3, edge_outputs=1, edge_scalars=3)
 # dynamic and dot-product scores: a score vector per edge and head before it is reduced
@@ -64,9 +68,19 @@ VECTOR_SCORES = SavedFloats(node_inputs=2, node_outputs=3, edge_outputs=2, edge_
 ATTENDING = {"self_loops": True, "attends": True, "compile_payback": 19e6}  # 9.4 epochs, 2M edges
 
 MODEL_KINDS: dict[str, ModelKind] = {
-    "gat": ModelKind(AttentionOptions, ATTENTION, STATIC_SCORES, **ATTENDING),
-    "gatv2": ModelKind(AttentionOptions, ATTENTION, VECTOR_SCORES, **ATTENDING),
-    "dot_product": ModelKind(AttentionOptions, ATTENTION, VECTOR_SCORES, **ATTENDING),
+    "gat": ModelKind(
+        AttentionOptions, ATTENTION, STATIC_SCORES, **ATTENDING, layer=f"{LAYERS}:static_layer"
+    ),
+    "gatv2": ModelKind(
+        AttentionOptions, ATTENTION, VECTOR_SCORES, **ATTENDING, layer=f"{LAYERS}:dynamic_layer"
+    ),
+    "dot_product": ModelKind(
+        AttentionOptions,
+        ATTENTION,
+        VECTOR_SCORES,
+        **ATTENDING,
+        layer=f"{LAYERS}:dot_product_layer",
+    ),
     # D^{-1/2} (A + I) D^{-1/2}: a neighbour's degree counts its own neighbours, one hop on;
     # one normalised weight per edge
     "gcn": ModelKind(

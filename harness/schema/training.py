@@ -4,12 +4,22 @@ from __future__ import annotations
 
 from typing import Annotated, ClassVar, Literal
 
-from pydantic import Field
+from pydantic import Field, field_validator
 
 from harness.schema.base import StrictModel
 
 Batching = Literal["full", "sampled"]
 CompileMode = Literal["auto"] | bool
+COMPILE_ALLOWED = 'allowed: "auto", true or false (without quotes)'
+
+
+def compile_mode(value: object) -> object:
+    """Only "auto", true or false: pydantic would read "yes" and 1 as true."""
+    if value is None or value == "auto" or isinstance(value, bool):
+        return value
+    raise ValueError(COMPILE_ALLOWED)
+
+
 # neighbours drawn per layer, first layer first; "all" keeps every neighbour
 Fanout = list[Annotated[int, Field(ge=1, le=100_000)]] | Literal["all"]
 
@@ -31,14 +41,48 @@ class Training(StrictModel):
     # eager training is what every run did before compiling existed: it keeps their keys
     unkeyed_values: ClassVar[dict[str, tuple]] = {"compile": (False,)}
 
-    epochs: int = Field(200, ge=1, le=100_000)
-    patience: int = Field(50, ge=1, le=100_000)
-    learning_rate: float = Field(0.01, gt=0, le=1)
-    weight_decay: float = Field(5e-4, ge=0, le=1)
-    batching: Batching = "full"
-    batch_size: int = Field(1024, ge=1, le=10_000_000)
-    fanout: Fanout | None = Field(None, min_length=1)
-    compile: CompileMode = "auto"
+    epochs: int = Field(200, ge=1, le=100_000, description="Most epochs a run trains.")
+    patience: int = Field(
+        50,
+        ge=1,
+        le=100_000,
+        description=(
+            "Epochs without a better validation score before training stops; the best"
+            " epoch's weights are kept."
+        ),
+    )
+    learning_rate: float = Field(0.01, gt=0, le=1, description="Adam's learning rate.")
+    weight_decay: float = Field(5e-4, ge=0, le=1, description="Adam's weight decay (L2 penalty).")
+    batching: Batching = Field(
+        "full",
+        description=(
+            "full: the whole graph at every step; sampled: neighbour-sampled batches "
+            "of target nodes."
+        ),
+    )
+    batch_size: int = Field(
+        1024,
+        ge=1,
+        le=10_000_000,
+        description="Target nodes per step of sampled batching.",
+    )
+    fanout: Fanout | None = Field(
+        None,
+        min_length=1,
+        description=(
+            "Sampled batching: neighbours drawn per layer, first layer first, one "
+            "entry per layer; or all."
+        ),
+    )
+    compile: CompileMode = Field(
+        "auto",
+        description=(
+            "auto: torch.compile a full-batch run when its graph is large enough for "
+            "the compile to pay back; true: always; false: never."
+        ),
+    )
+
+    _compile_mode = field_validator("compile", mode="before")(compile_mode)
 
     @property
     def sampled(self) -> bool:
@@ -48,14 +92,48 @@ class Training(StrictModel):
 class TrainingOverride(StrictModel):
     """Per-contender changes to the suite's training defaults; unset keys keep the default."""
 
-    epochs: int | None = Field(None, ge=1, le=100_000)
-    patience: int | None = Field(None, ge=1, le=100_000)
-    learning_rate: float | None = Field(None, gt=0, le=1)
-    weight_decay: float | None = Field(None, ge=0, le=1)
-    batching: Batching | None = None
-    batch_size: int | None = Field(None, ge=1, le=10_000_000)
-    fanout: Fanout | None = Field(None, min_length=1)
-    compile: CompileMode | None = None
+    epochs: int | None = Field(
+        None,
+        ge=1,
+        le=100_000,
+        description="Most epochs a run trains; default: the suite's.",
+    )
+    patience: int | None = Field(
+        None,
+        ge=1,
+        le=100_000,
+        description="Early-stopping patience in epochs; default: the suite's.",
+    )
+    learning_rate: float | None = Field(
+        None,
+        gt=0,
+        le=1,
+        description="Adam's learning rate; default: the suite's.",
+    )
+    weight_decay: float | None = Field(
+        None,
+        ge=0,
+        le=1,
+        description="Adam's weight decay; default: the suite's.",
+    )
+    batching: Batching | None = Field(None, description="full or sampled; default: the suite's.")
+    batch_size: int | None = Field(
+        None,
+        ge=1,
+        le=10_000_000,
+        description="Target nodes per sampled step; default: the suite's.",
+    )
+    fanout: Fanout | None = Field(
+        None,
+        min_length=1,
+        description="Neighbours drawn per layer, or all; default: the suite's.",
+    )
+    compile: CompileMode | None = Field(
+        None,
+        description="auto, true or false; default: the suite's.",
+    )
+
+    _compile_mode = field_validator("compile", mode="before")(compile_mode)
 
     def apply(self, defaults: Training) -> Training:
         changes = {k: v for k, v in self.model_dump().items() if v is not None}

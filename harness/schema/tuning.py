@@ -13,7 +13,7 @@ from typing import Any, Literal
 from pydantic import Field, ValidationError, model_validator
 
 from harness.errors import InputError
-from harness.schema.base import StrictModel, show
+from harness.schema.base import LARGEST_SEED, StrictModel, show
 from harness.schema.model_kinds import attends
 from harness.schema.training import Training
 
@@ -21,9 +21,9 @@ from harness.schema.training import Training
 class Range(StrictModel):
     """An interval [low, high]; integer options take whole-number bounds."""
 
-    low: float
-    high: float
-    log: bool = False
+    low: float = Field(description="Lowest value.")
+    high: float = Field(description="Highest value (above low).")
+    log: bool = Field(False, description="Sample log-uniformly (low must be above 0).")
 
     @model_validator(mode="after")
     def _not_empty(self) -> Range:
@@ -43,13 +43,46 @@ SpaceEntry = Range | Choices
 class Tuning(StrictModel):
     """One budget for every contender; trials and/or seconds of training per contender."""
 
-    trials: int | None = Field(None, ge=1, le=100_000)
-    seconds: float | None = Field(None, gt=0, le=30 * 24 * 3600)
-    pruner: Literal["median", "halving", "none"] = "median"
-    seed: int = Field(0, ge=0)
-    equal_parameters: str | int | None = None
-    heartbeat_seconds: int = Field(10, ge=1, le=3600)
-    space: dict[str, dict[str, SpaceEntry]] = {}
+    trials: int | None = Field(
+        None,
+        ge=1,
+        le=100_000,
+        description="Finished trials per contender (the same for all).",
+    )
+    seconds: float | None = Field(
+        None,
+        gt=0,
+        le=30 * 24 * 3600,
+        description="Seconds of trial time per contender.",
+    )
+    pruner: Literal["median", "halving", "none"] = Field(
+        "median",
+        description=("Stops hopeless trials early: median, halving (successive halving) or none."),
+    )
+    seed: int = Field(0, ge=0, le=LARGEST_SEED, description="Seed of the sampler.")
+    equal_parameters: str | int | None = Field(
+        None,
+        description=(
+            "Size each contender's hidden width to this contender's parameter count "
+            "(a name), or to a count."
+        ),
+    )
+    heartbeat_seconds: int = Field(
+        10,
+        ge=1,
+        le=3600,
+        description=(
+            "Seconds between a running trial's heartbeats; a trial silent for three "
+            "times this long is taken as dead."
+        ),
+    )
+    space: dict[str, dict[str, SpaceEntry]] = Field(
+        {},
+        description=(
+            "Per contender, option name to a range (low, high, log) or a list of "
+            "choices; default: the model kind's space."
+        ),
+    )
 
     @model_validator(mode="after")
     def _has_budget(self) -> Tuning:

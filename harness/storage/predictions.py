@@ -7,8 +7,8 @@ after another, the last class left out (255 minus the others). Test nodes are st
 ascending node order, so runs of one seed share the order. Each node's predicted class is
 kept exactly (it alone holds the top level), so accuracy and macro-F1 per group equal the
 run's own; every probability is within 2/255 of the run's, which moved ROC-AUC by under 0.002
-in our checks (README, "Cost of storing predictions"). Blobs of the first encoding (float16,
-10-byte header, .xz container) still read.
+in our checks (docs/reports.md, "Cost of storing predictions"). Blobs of the first encoding
+(float16, 10-byte header, .xz container) still read.
 """
 
 from __future__ import annotations
@@ -103,10 +103,6 @@ def _decode_float16(blob: bytes) -> NodePredictions:
 def to_text(blob: bytes) -> str:
     """JSON-safe form, for records that travel through tuning storage."""
     return base64.b64encode(blob).decode("ascii")
-
-
-def from_text(text: str) -> bytes:
-    return base64.b64decode(text)
 
 
 def load_predictions(store_path: str | Path, keys: Iterable[str]) -> dict[str, NodePredictions]:

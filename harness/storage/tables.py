@@ -11,8 +11,10 @@ from __future__ import annotations
 from sqlalchemy import BigInteger, Column, Double, Integer, LargeBinary, MetaData, Table, Text
 from sqlalchemy.types import TypeEngine
 
+from harness.schema.tasks import metric_names
+
 # every test metric of every task has a column `test_NAME`; a run fills its task's, NULL elsewhere
-TEST_METRICS = ("accuracy", "macro_f1", "roc_auc", "average_precision", "hits_at_k")
+TEST_METRICS = metric_names()
 TEST_COLUMNS = tuple(f"test_{name}" for name in TEST_METRICS)
 # a gate run's figures for one contender; NULL where a check had none
 GATE_FIGURES = (

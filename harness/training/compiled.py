@@ -16,12 +16,24 @@ BACKEND: str | Callable = "inductor"
 CACHE_VARIABLE = "TORCHINDUCTOR_CACHE_DIR"
 
 Result = TypeVar("Result")
+CACHES_SET: set[str] = set()  # values this process gave the variable (a run may change them)
 
 
 def use_compile_cache(cache_folder: str) -> None:
     """Compiled kernels go under Heedful's cache folder (`compile/`), shared by every process and
-    night that uses the folder; a TORCHINDUCTOR_CACHE_DIR set by the user wins."""
-    os.environ.setdefault(CACHE_VARIABLE, str(Path(cache_folder).resolve() / "compile"))
+    night that uses the folder; a TORCHINDUCTOR_CACHE_DIR set by the user wins. Importing torch
+    sets the variable to its own default (a temporary folder), which is not the user's choice."""
+    from torch._inductor.runtime.cache_dir_utils import default_cache_dir
+    from torch._inductor.utils import clear_caches
+
+    wanted = str(Path(cache_folder).resolve() / "compile")
+    current = os.environ.get(CACHE_VARIABLE)
+    ours = (None, os.path.abspath(default_cache_dir()), *CACHES_SET)
+    if current == wanted or current not in ours:
+        return
+    os.environ[CACHE_VARIABLE] = wanted
+    CACHES_SET.add(wanted)
+    clear_caches()  # folders torch derived from the old value
 
 
 class Forward:

@@ -13,5 +13,5 @@ def check_shared(address: str, storage_url: str) -> None:
     if parsed.get_backend_name() == "sqlite" and not address.startswith("local:"):
         raise InputError(
             f"--cluster {address}: tuning storage {shown(parsed)} is a file on this machine; "
-            "allowed: --storage or --store with a PostgreSQL URL every worker reaches"
+            "allowed: --tuning-database or --store with a PostgreSQL URL every worker reaches"
         )

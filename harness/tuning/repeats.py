@@ -13,7 +13,7 @@ from collections.abc import Callable
 from dataclasses import replace
 
 import optuna
-from optuna.trial import FrozenTrial, Trial, TrialState
+from optuna.trial import Trial, TrialState
 
 from harness.execution.runs import record_of
 from harness.planning import expand, with_settings
@@ -21,6 +21,8 @@ from harness.schema.suite import Suite
 from harness.storage import store
 from harness.training.tasks import perform
 from harness.tuning.storage import fail_stale_trials
+from harness.tuning.study import WORKER
+from harness.tuning.trial_loop import run_trials
 from harness.tuning.trial_states import LIVE, POLL_SECONDS, SurplusTrial, trial_id, usage
 
 
@@ -63,6 +65,7 @@ def run_repeats(
         trial.suggest_categorical("contender", names)
         trial.suggest_int("seed", min(seeds), max(seeds))
         first_live(trial, key)
+        trial.set_user_attr("worker", WORKER)
         spec = with_settings(specs[key], settings[key[0]])
         spec = resize(spec) if resize is not None else spec
         result = perform(spec)
@@ -73,10 +76,6 @@ def run_repeats(
         if store_path is not None:  # None on a cluster worker: the submitter stores
             store.save_run(store_path, record)
         return result.val_metric
-
-    def stop_when_none_waiting(study: optuna.Study, _: FrozenTrial) -> None:
-        if usage(study).waiting == 0:
-            study.stop()
 
     while True:
         fail_stale_trials(study)
@@ -90,7 +89,7 @@ def run_repeats(
         if all(key in done for key in wanted):
             return
         if any(t.state == TrialState.WAITING for t in trials):
-            study.optimize(objective, catch=(SurplusTrial,), callbacks=[stop_when_none_waiting])
+            run_trials(study, objective, lambda study: usage(study).waiting > 0, (SurplusTrial,))
         else:
             time.sleep(POLL_SECONDS)
 

@@ -48,13 +48,14 @@ def epochs_trained(study: optuna.Study) -> int:
 
 
 def importances(study: optuna.Study) -> dict[str, float]:
-    """fANOVA importances (seeded); empty when fewer than two trials completed."""
+    """fANOVA importances (seeded); empty when fewer than two trials completed, or when
+    every completed trial scored the same."""
     completed = study.get_trials(deepcopy=False, states=(TrialState.COMPLETE,))
     varied = {
         k for t in completed for k in t.params if len({str(u.params.get(k)) for u in completed}) > 1
     }
-    if len(completed) < 2 or not varied:
-        return {}
+    if len(completed) < 2 or not varied or len({t.value for t in completed}) < 2:
+        return {}  # nothing to explain: fANOVA splits the variance of the scores
     evaluator = optuna.importance.FanovaImportanceEvaluator(seed=0)
     values = optuna.importance.get_param_importances(
         study, evaluator=evaluator, params=sorted(varied)
@@ -71,7 +72,8 @@ def tuning_summary(suite: Suite, storage: optuna.storages.BaseStorage) -> list[C
         except KeyError:
             raise InputError(
                 f"suite '{suite.name}': no tuning study for contender '{plan.contender}' in this "
-                "storage; allowed: run the suite first (heedful run), with the same --storage"
+                "tuning database; allowed: run the suite first (heedful run), with the same "
+                "--tuning-database"
             ) from None
         used = usage(study)
         completed = [t for t in study.get_trials(deepcopy=False) if t.state == TrialState.COMPLETE]

@@ -19,6 +19,7 @@ from harness.errors import InputError
 from harness.models import build_model
 from harness.models.generated import generated_modules_in
 from harness.planning import RunSpec
+from harness.schema.tasks import task_kind
 
 TOLERANCE = 0.10
 WIDEST = 4096
@@ -39,11 +40,12 @@ class Sized:
 
 
 def dimensions(spec: RunSpec) -> tuple[int, int, int]:
-    """Input width, output width (classes, or a link suite's embedding width) and embedding
-    rows of the graph the contender starts from."""
+    """Input width, output width (classes, or what the task's options set, e.g. a link suite's
+    embedding width) and embedding rows of the graph the contender starts from."""
     data = load_graph(spec.data)
     started = start_features(data, spec.options, spec.seed)
-    outputs = spec.link.embedding_width if spec.link is not None else int(data.y.max()) + 1
+    option = task_kind(spec.task).output_option
+    outputs = getattr(spec.link, option) if option else int(data.y.max()) + 1
     return started.width, outputs, started.embedding_rows
 
 

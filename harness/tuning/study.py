@@ -5,7 +5,7 @@ estimator, Bergstra et al., 2011, seeded), trains on the train nodes of the tuni
 and reports the best validation score so far after every epoch, so that a median or successive
 halving pruner (Jamieson and Talwalkar, 2016; Li et al., 2018) can stop hopeless trials. The test
 nodes are dropped from the split before training. After tuning, the best settings run as
-seeded repeats (harness/workers.py), and only those runs reach the result store.
+seeded repeats (harness/tuning/workers.py), and only those runs reach the result store.
 """
 
 from __future__ import annotations

@@ -19,7 +19,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import optuna
-from optuna.trial import FrozenTrial, Trial
+from optuna.trial import Trial
 
 from harness.execution.executors import Executor
 from harness.schema.suite import Suite
@@ -37,6 +37,7 @@ from harness.tuning.study import (
     repeats_study_name,
     tuning_plan,
 )
+from harness.tuning.trial_loop import run_trials
 from harness.tuning.trial_states import (
     FINISHED,
     LIVE,
@@ -84,12 +85,7 @@ def admission(study: optuna.Study, tuning: Tuning) -> Callable[[Trial], None]:
 def take_share(study: optuna.Study, objective: Callable[[Trial], float], tuning: Tuning) -> None:
     """Run trials of this study until the budget has no room for another."""
 
-    def stop_without_room(study: optuna.Study, _: FrozenTrial) -> None:
-        if not has_room(usage(study), tuning):
-            study.stop()
-
-    if has_room(usage(study), tuning):
-        study.optimize(objective, catch=(SurplusTrial,), callbacks=[stop_without_room])
+    run_trials(study, objective, lambda study: has_room(usage(study), tuning), (SurplusTrial,))
 
 
 def settle(study: optuna.Study, objective: Callable[[Trial], float], tuning: Tuning) -> None:

@@ -32,7 +32,7 @@ from harness.schema.contenders import (
     MLPOptions,
     NeighbourMeanOptions,
 )
-from harness.schema.data import FractionSplit
+from harness.schema.splits import FractionSplit
 from harness.schema.training import Training
 from harness.training.fit import fit
 
