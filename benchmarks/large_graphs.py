@@ -6,10 +6,15 @@ Graphs: the synthetic contextual block model with 100,000 nodes and 1,000,000 un
 0.5, ELU; the attention output layer averages its 8 heads, as Heedful's default).
 
 Loops, each in its own process (so that its peak resident memory is its own), alternating:
-- `heedful` and `heedful_compiled`: Heedful's `perform()` of the run, compile = false / true;
+- `heedful` and `heedful_compiled`: Heedful's `perform()` of the run, compile = false / true,
+  with `kernel = "auto"` (the sparse kernel for attention at these sizes);
+- `heedful_scatter`: the same eager run on PyG's scatter layers (`kernel = "scatter"`);
+- `heedful_threads2`: `heedful` on two torch threads instead of one;
 - `textbook` and `textbook_compiled`: a plain full-batch loop written below with PyG's layers at
   their defaults (self-loops added by the layer on every call), Adam, then the same loop with
   `torch.compile(model)`.
+Each row also carries this process's copy bandwidth (GB/s, one thread, a 256 MiB tensor) and
+the memory-bandwidth estimate of an attention epoch (`bandwidth_seconds`, see `edge_bytes`).
 An epoch is one training step plus one validation pass. Seconds per epoch: median of the
 measured epochs after warm-up (Heedful: its first epoch, eager and metered, and for compiled
 runs the second, which compiles; textbook: the first). Compile seconds: the compiling epoch
@@ -39,17 +44,24 @@ from pathlib import Path
 import torch
 from torch import nn
 
-SIZES = {"100k": (100_000, 20.0), "1m": (1_000_000, 10.0)}  # nodes, average degree
+SIZES = {"10k": (10_000, 20.0), "100k": (100_000, 20.0), "1m": (1_000_000, 10.0)}  # nodes, degree
 CONTENDERS = {
     "gat": {"model": "gat", "heads": 8, "hidden": 8},
     "gatv2": {"model": "gatv2", "heads": 8, "hidden": 8},
     "gcn": {"model": "gcn", "hidden": 64},
     "sage": {"model": "sage", "hidden": 64},
 }
-LOOPS = ("heedful", "heedful_compiled", "textbook", "textbook_compiled")
+LOOPS = (
+    "heedful",
+    "heedful_compiled",
+    "heedful_scatter",
+    "heedful_threads2",
+    "textbook",
+    "textbook_compiled",
+)
 
 
-def suite_for(size: str, contender: str, epochs: int, compile_model: bool):
+def suite_for(size: str, contender: str, epochs: int, compile_model: bool, kernel: str = "auto"):
     """A one-run suite: the benchmark graph and one contender, patience that never stops it."""
     from harness.planning import expand, parse_suite
 
@@ -65,7 +77,12 @@ def suite_for(size: str, contender: str, epochs: int, compile_model: bool):
             "feature_dimension": 64,
             "graph_seed": 1,
         },
-        "training": {"epochs": epochs, "patience": epochs, "compile": compile_model},
+        "training": {
+            "epochs": epochs,
+            "patience": epochs,
+            "compile": compile_model,
+            "kernel": kernel,
+        },
         "contenders": {contender: CONTENDERS[contender]},
     }
     return expand(parse_suite(raw, "benchmarks/large_graphs.py"))[0]
@@ -137,6 +154,30 @@ def heedful_epochs(spec, on_epoch_seconds: list[float]) -> dict:
     return {"tensor_mb": result.peak_mb, "extras_compile": result.extras["compile"]}
 
 
+def edge_bytes(spec) -> float:
+    """Bytes an attention epoch must move at least, edge-wise: per layer and edge, its source
+    index (8 bytes) and per head the score, the weight and the source's C-wide value row read
+    once (4 bytes each); backward moves twice the forward's; validation is one more forward
+    of the first layer (the last runs on the validation rows' edges only)."""
+    nodes = spec.data.nodes
+    edges = nodes * spec.data.average_degree + nodes  # directed edges, one self-loop per node
+    heads, width = spec.options.heads_per_layer(), [spec.options.hidden, spec.data.classes]
+    forward = [edges * (8 + 4 * h * (2 + c)) for h, c in zip(heads, width, strict=True)]
+    return 3 * sum(forward) + forward[0]
+
+
+def copy_gigabytes_per_second() -> float:
+    """Read plus write bandwidth of one tensor copy (256 MiB) on this thread, best of three."""
+    source = torch.ones(64 * 2**20)
+    target = torch.empty_like(source)
+    best = float("inf")
+    for _ in range(3):
+        started = time.perf_counter()
+        target.copy_(source)
+        best = min(best, time.perf_counter() - started)
+    return 2 * source.numel() * 4 / best / 1e9
+
+
 def peak_resident_mb() -> float:
     for line in Path("/proc/self/status").read_text().splitlines():
         if line.startswith("VmHWM:"):
@@ -146,12 +187,16 @@ def peak_resident_mb() -> float:
 
 def child(size: str, contender: str, loop: str, measured: int) -> dict:
     """One loop in this process; prints one JSON line."""
-    torch.set_num_threads(1)
+    torch.set_num_threads(2 if loop.endswith("threads2") else 1)
     compiled = loop.endswith("compiled")
     warm_up = 1 + (compiled and loop.startswith("heedful"))
     epochs = warm_up + measured
-    spec = suite_for(size, contender, epochs, compiled)
-    row: dict = {"size": size, "contender": contender, "loop": loop}
+    kernel = "scatter" if loop.endswith("scatter") else "auto"
+    spec = suite_for(size, contender, epochs, compiled, kernel)
+    row: dict = {"size": size, "contender": contender, "loop": loop, "kernel": spec.training.kernel}
+    if contender in ("gat", "gatv2"):
+        row["copy_gb_per_s"] = copy_gigabytes_per_second()
+        row["bandwidth_seconds"] = edge_bytes(spec) / (row["copy_gb_per_s"] * 1e9)
     if loop.startswith("heedful"):
         seconds: list[float] = []
         row.update(heedful_epochs(spec, seconds))
@@ -163,7 +208,42 @@ def child(size: str, contender: str, loop: str, measured: int) -> dict:
     row["compile_seconds"] = max(0.0, seconds[warm_up - 1] - typical) if compiled else 0.0
     row["peak_resident_mb"] = peak_resident_mb()
     row["threads"] = torch.get_num_threads()
+    row["load_average"] = os.getloadavg()[0]
     return row
+
+
+RATIOS = {  # name: (numerator loop, denominator loop); seconds per epoch
+    "heedful / textbook (goal <= 0.35)": ("heedful", "textbook"),
+    "heedful / textbook compiled (goal <= 0.8)": ("heedful", "textbook_compiled"),
+    "heedful compiled / heedful (goal <= 1)": ("heedful_compiled", "heedful"),
+    "heedful / heedful on scatter": ("heedful", "heedful_scatter"),
+    "one thread / two threads (goal >= 1.6)": ("heedful", "heedful_threads2"),
+}
+
+
+def summary(rows: list[dict]) -> list[str]:
+    """The goal ratios per contender, from the rows of one run (medians over rounds)."""
+    lines = []
+    for contender in dict.fromkeys(row["contender"] for row in rows):
+        seconds: dict[str, list[float]] = {}
+        for row in rows:
+            if row["contender"] == contender and "seconds_per_epoch" in row:
+                seconds.setdefault(row["loop"], []).append(row["seconds_per_epoch"])
+        typical = {loop: statistics.median(values) for loop, values in seconds.items()}
+        for name, (top, bottom) in RATIOS.items():
+            if top in typical and bottom in typical:
+                lines.append(f"{contender}: {name}: {typical[top] / typical[bottom]:.2f}")
+        estimate = [
+            r["bandwidth_seconds"]
+            for r in rows
+            if r.get("loop") == "heedful"
+            and r["contender"] == contender
+            and "bandwidth_seconds" in r
+        ]
+        if estimate and "heedful" in typical:
+            distance = typical["heedful"] / statistics.median(estimate)
+            lines.append(f"{contender}: heedful / memory-bandwidth estimate: {distance:.1f}")
+    return lines
 
 
 def run_child(size: str, contender: str, loop: str, measured: int) -> dict:
@@ -179,7 +259,7 @@ def run_child(size: str, contender: str, loop: str, measured: int) -> dict:
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     parser.add_argument("--size", choices=sorted(SIZES), default="100k")
-    parser.add_argument("--contenders", default=",".join(CONTENDERS))
+    parser.add_argument("--contenders", default="gat,gatv2")
     parser.add_argument("--loops", default=",".join(LOOPS))
     parser.add_argument("--epochs", type=int, default=3, help="measured epochs after warm-up")
     parser.add_argument("--rounds", type=int, default=1, help="alternating rounds")
@@ -190,15 +270,18 @@ def main() -> None:
         size, contender, loop, measured = args.child
         print(json.dumps(child(size, contender, loop, int(measured))))
         return
+    rows = []
     for round_number in range(args.rounds):
         for contender in args.contenders.split(","):
             for loop in args.loops.split(","):
                 row = run_child(args.size, contender, loop, args.epochs)
                 row["round"] = round_number
+                rows.append(row)
                 print(json.dumps(row), flush=True)
                 if args.out:
                     with open(args.out, "a") as handle:
                         handle.write(json.dumps(row) + "\n")
+    print("\n".join(summary(rows)))
 
 
 if __name__ == "__main__":

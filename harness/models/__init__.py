@@ -44,11 +44,19 @@ def unwrap(model: nn.Module, x: torch.Tensor) -> tuple[Network, torch.Tensor]:
 
 
 def build_model(
-    options: BaseModel, in_dim: int, out_dim: int, embedding_rows: int = 0
+    options: BaseModel,
+    in_dim: int,
+    out_dim: int,
+    embedding_rows: int = 0,
+    kernel: str = "scatter",
 ) -> nn.Module:
     """The contender's network, freshly initialised from the current torch seed.
 
     With `embedding_rows` > 0 the input is node ids, embedded in `in_dim` columns first.
+    `kernel` "sparse" (resolved by harness.planning, only for kinds registered with
+    `sparse_kernel`) goes to the builder; the parameters and their initialisation are the same.
     """
-    network = builder_of(options.model)(options, in_dim, out_dim)
+    build = builder_of(options.model)
+    extra = {"kernel": kernel} if kernel != "scatter" else {}
+    network = build(options, in_dim, out_dim, **extra)
     return EmbeddingStart(embedding_rows, in_dim, network) if embedding_rows else network

@@ -12,6 +12,8 @@ concatenate in hidden layers, average in the output layer. An output layer that 
 is followed by a linear map from K x classes to classes.
 N(i) is the attention edge set: the k-hop neighbourhood (harness.data.hops) plus i itself
 when `attend_to_self`. `residual` adds a linear skip W_r h_i to each layer's output.
+With `kernel = "sparse"` the same layers (and parameters) are computed by the sparse kernel
+(harness.models.sparse_layers) on the edges in target order, derived once per edge set.
 """
 
 from __future__ import annotations
@@ -22,6 +24,8 @@ from torch_geometric.nn import GATConv, GATv2Conv, MessagePassing, TransformerCo
 from torch_geometric.utils import add_self_loops, remove_self_loops
 
 from harness.models.graph_cache import once_per_graph
+from harness.models.sparse_kernel import TargetGraphs
+from harness.models.sparse_layers import sparse_forward
 from harness.models.stack import LayerStack
 from harness.schema.contenders import AttentionOptions
 from harness.schema.model_kinds import MODEL_KINDS
@@ -112,6 +116,8 @@ class AttentionStack(LayerStack):
         super().__init__(layers, activation, dropout, uses_edges=True)
         self.attend_to_self = attend_to_self
         self.projection = projection
+        self.kernel = "scatter"  # "sparse": layers run on harness.models.sparse_layers
+        self.target_graphs = TargetGraphs()
 
     def reset_parameters(self) -> None:
         super().reset_parameters()
@@ -127,6 +133,13 @@ class AttentionStack(LayerStack):
 
     def message_edges(self, edge_index: torch.Tensor, nodes: int) -> tuple[torch.Tensor, None]:
         return self.attention_edges(edge_index, nodes), None
+
+    def apply_layer(
+        self, layer: nn.Module, x: torch.Tensor, edges: torch.Tensor, weights: None = None
+    ) -> torch.Tensor:
+        if self.kernel == "scatter":
+            return layer(x, edges)
+        return sparse_forward(layer, x, self.target_graphs.get(edges, x.size(0)))
 
     def attention_step(
         self, index: int, x: torch.Tensor, edges: torch.Tensor
@@ -153,7 +166,9 @@ class AttentionStack(LayerStack):
         return self.finish(x), edges, weights
 
 
-def build(options: AttentionOptions, in_dim: int, out_dim: int) -> nn.Module:
+def build(
+    options: AttentionOptions, in_dim: int, out_dim: int, kernel: str = "scatter"
+) -> nn.Module:
     heads, merges = options.heads_per_layer(), options.merge_per_layer()
     layers: list[nn.Module] = []
     width = in_dim
@@ -164,6 +179,8 @@ def build(options: AttentionOptions, in_dim: int, out_dim: int) -> nn.Module:
         layers.append(attention_layer(options, width, out, heads[index], concat))
         width = out * heads[index] if concat else out
     projection = nn.Linear(width, out_dim) if width != out_dim else None
-    return AttentionStack(
+    stack = AttentionStack(
         layers, options.activation, options.dropout, options.attend_to_self, projection
     )
+    stack.kernel = kernel
+    return stack

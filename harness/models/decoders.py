@@ -69,8 +69,12 @@ class LinkModel(nn.Module):
 
 
 def build_link_model(
-    options: BaseModel, link: BaseModel, in_dim: int, embedding_rows: int = 0
+    options: BaseModel,
+    link: BaseModel,
+    in_dim: int,
+    embedding_rows: int = 0,
+    kernel: str = "scatter",
 ) -> LinkModel:
     """The contender's network with `link.embedding_width` outputs, and the suite's decoder."""
-    encoder = build_model(options, in_dim, link.embedding_width, embedding_rows)
+    encoder = build_model(options, in_dim, link.embedding_width, embedding_rows, kernel)
     return LinkModel(encoder, DECODERS[link.decoder](link))

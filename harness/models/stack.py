@@ -61,13 +61,16 @@ class LayerStack(nn.Module):
         weights: torch.Tensor | None = None,
     ) -> torch.Tensor:
         """Layer `index` with its dropout before and activation after (none after the last)."""
-        layer = self.layers[index]
-        x = self.dropout(x)
-        if not self.uses_edges:
-            x = layer(x)
-        else:
-            x = layer(x, edges) if weights is None else layer(x, edges, weights)
+        x = self.apply_layer(self.layers[index], self.dropout(x), edges, weights)
         return self.activation(x) if index < len(self.layers) - 1 else x
+
+    def apply_layer(
+        self, layer: nn.Module, x: torch.Tensor, edges: torch.Tensor, weights: torch.Tensor | None
+    ) -> torch.Tensor:
+        """One layer on its input and the message edges (a kind may compute it otherwise)."""
+        if not self.uses_edges:
+            return layer(x)
+        return layer(x, edges) if weights is None else layer(x, edges, weights)
 
     def finish(self, x: torch.Tensor) -> torch.Tensor:
         """Logits from the last layer's output."""

@@ -18,7 +18,7 @@ from pydantic import BaseModel, ValidationError
 import harness
 from harness.digest import json_digest
 from harness.errors import InputError
-from harness.planning.run_choices import resolve_compile, sampler_in_use
+from harness.planning.run_choices import resolve_compile, resolve_kernel, sampler_in_use
 from harness.schema.ablation import (
     DEFAULT_HOP_CACHE,
     HopSettings,
@@ -27,7 +27,7 @@ from harness.schema.ablation import (
     point_label,
 )
 from harness.schema.base import format_validation_error, key_dump
-from harness.schema.batching import check_batching, check_options_apply
+from harness.schema.batching import check_batching, check_kernel, check_options_apply
 from harness.schema.data import SyntheticData
 from harness.schema.splits import FractionSplit
 from harness.schema.suite import Suite
@@ -129,6 +129,7 @@ def parse_suite(raw: dict, source: str) -> Suite:
     check_tuning(suite, source)  # search spaces against the contenders' options
     check_batching(suite, source)  # fan-out lengths against each contender's layers
     check_options_apply(suite, source)  # no fanout or compile that no run would use
+    check_kernel(suite, source)  # the sparse kernel only for kinds that have one
     return suite
 
 
@@ -179,9 +180,13 @@ def run_spec(
         suite=suite_name or suite.name,
         contender=design.contender,
         options=design.options,
-        training=resolve_compile(
-            design.options.training.apply(suite.training),
-            design.options.model,
+        training=resolve_kernel(
+            resolve_compile(
+                design.options.training.apply(suite.training),
+                design.options.model,
+                suite.data if data is None else data,
+            ),
+            design.options,
             suite.data if data is None else data,
         ),
         data=suite.data if data is None else data,

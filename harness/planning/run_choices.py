@@ -1,7 +1,10 @@
 """Choices made for a run before its key is taken: whether it is compiled (`compile = "auto"`
-decided from the declared graph size) and which neighbour sampler this installation has."""
+decided from the declared graph size), which attention kernel it uses (`kernel = "auto"`, from
+the edges of a training step) and which neighbour sampler this installation has."""
 
 from __future__ import annotations
+
+from pydantic import BaseModel
 
 from harness.schema.data import DataSource
 from harness.schema.model_kinds import MODEL_KINDS
@@ -35,6 +38,43 @@ def compile_pays_back(model: str, edges: int, epochs: int) -> bool:
     kind = MODEL_KINDS.get(model)
     payback = None if kind is None else kind.compile_payback
     return payback is not None and edges >= COMPILE_MIN_EDGES and edges * epochs >= payback
+
+
+# The sparse kernel pays from this many message edges per step on: below it, its fixed costs
+# (CSR building, one product per head) outweigh what it saves (benchmarks/kernel_threshold.py,
+# README Performance).
+SPARSE_MIN_EDGES = 50_000
+
+
+def step_edges(training: Training, layers: int, data: DataSource) -> int | None:
+    """Message edges of one training step, known before loading: the whole graph's, or a
+    sampled batch's estimate (`batch_size` targets, each layer's fan-out capped by the average
+    degree, at most the graph's edges); None when the data does not declare its edges."""
+    edges = data.declared_edges()
+    if edges is None or not training.sampled:
+        return edges
+    size = data.declared_size()
+    degree = edges / size.nodes if size is not None and size.nodes else float(edges)
+    fanout = training.fanout if isinstance(training.fanout, list) else [degree] * layers
+    frontier, batch_edges = float(training.batch_size), 0.0
+    for count in fanout:
+        drawn = frontier * min(count, degree)
+        batch_edges += drawn
+        frontier += drawn
+    return min(round(batch_edges), edges)
+
+
+def resolve_kernel(training: Training, options: BaseModel, data: DataSource) -> Training:
+    """Training with `kernel = "auto"` decided: "sparse" for kinds with a sparse kernel when a
+    training step has at least SPARSE_MIN_EDGES message edges, else "scatter"."""
+    kind = MODEL_KINDS.get(options.model)
+    if kind is None or not kind.sparse_kernel:
+        return training.model_copy(update={"kernel": "scatter"})
+    if training.kernel != "auto":
+        return training
+    edges = step_edges(training, options.layers, data)
+    wanted = edges is not None and edges >= SPARSE_MIN_EDGES
+    return training.model_copy(update={"kernel": "sparse" if wanted else "scatter"})
 
 
 def sampler_in_use() -> str:

@@ -1,4 +1,5 @@
-"""Cross-checks of sampled batching against each contender: fan-out entries match its layers."""
+"""Cross-checks of the training section against each contender: fan-out entries match its
+layers, and `kernel = "sparse"` is asked only of kinds that have a sparse kernel."""
 
 from __future__ import annotations
 
@@ -6,6 +7,7 @@ from typing import TYPE_CHECKING
 
 from harness.errors import InputError
 from harness.schema.ablation import configured_points, point_label
+from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.tasks import task_kind
 from harness.schema.tuning import spaces
 
@@ -89,3 +91,19 @@ def check_batching(suite: Suite, source: str) -> None:
                 f"{where}: given {training.fanout} while tuning.space.{contender} varies "
                 'layers; allowed: fanout = "all", or a fixed layers count'
             )
+
+
+def check_kernel(suite: Suite, source: str) -> None:
+    """`kernel = "sparse"` only for kinds registered with a sparse kernel."""
+    sparse = sorted(name for name, kind in MODEL_KINDS.items() if kind.sparse_kernel)
+    for contender, options in suite.contenders.items():
+        if options.training.apply(suite.training).kernel != "sparse":
+            continue
+        if MODEL_KINDS[options.model].sparse_kernel:
+            continue
+        own = options.training.kernel is not None
+        key = f"contenders.{contender}.training" if own else "training"
+        raise InputError(
+            f'{source}: {key}.kernel: given "sparse" for {contender} (model {options.model}); '
+            f'allowed: "sparse" only for {", ".join(sparse)}; "auto" or "scatter" for any model'
+        )

@@ -45,7 +45,9 @@ class ModelKind:
     directed edges x maximum epochs from which `compile = "auto"` compiles it (the one-off
     compile time is paid back; benchmarks/large_graphs.py, docs/performance.md); None: never.
     `layer`: for kinds sharing the attention builder, "module:function" of one layer,
-    layer(options, in_width, out_width_per_head, heads, concatenate) -> torch module."""
+    layer(options, in_width, out_width_per_head, heads, concatenate) -> torch module.
+    `sparse_kernel`: its layers can run on harness.models.sparse_layers (`kernel` in
+    [training])."""
 
     options: type[ContenderBase]  # pydantic class with `model: Literal[<kind name>, ...]`
     builder: str  # "module:function", build(options, in_dim, out_dim) -> torch module
@@ -56,6 +58,7 @@ class ModelKind:
     extra_hops: int = 0
     compile_payback: float | None = None
     layer: str | None = None
+    sparse_kernel: bool = False
 
 
 ATTENTION = "harness.models.attention:build"
@@ -65,7 +68,12 @@ STATIC_SCORES = SavedFloats(node_inputs=2, node_outputs=3, edge_outputs=1, edge_
 # dynamic and dot-product scores: a score vector per edge and head before it is reduced
 VECTOR_SCORES = SavedFloats(node_inputs=2, node_outputs=3, edge_outputs=2, edge_scalars=6)
 
-ATTENDING = {"self_loops": True, "attends": True, "compile_payback": 19e6}  # 9.4 epochs, 2M edges
+ATTENDING = {
+    "self_loops": True,
+    "attends": True,
+    "compile_payback": 19e6,  # 9.4 epochs on 2M edges
+    "sparse_kernel": True,
+}
 
 MODEL_KINDS: dict[str, ModelKind] = {
     "gat": ModelKind(

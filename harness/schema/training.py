@@ -10,6 +10,7 @@ from harness.schema.base import StrictModel
 
 Batching = Literal["full", "sampled"]
 CompileMode = Literal["auto"] | bool
+Kernel = Literal["auto", "sparse", "scatter"]
 COMPILE_ALLOWED = 'allowed: "auto", true or false (without quotes)'
 
 
@@ -33,13 +34,19 @@ class Training(StrictModel):
     large enough for the compile to pay back within the run's epochs (harness.planning resolves
     it to true or false before run keys are taken), true compiles, false never does. Sampled
     runs are not compiled: every batch has another shape.
+
+    `kernel`: how attention layers compute: "scatter" (PyG's layers, per-edge messages),
+    "sparse" (harness.models.sparse_layers: CSR products and segment softmax), or "auto": sparse
+    where a step's edges are many enough for it to pay (harness.planning resolves it, as
+    `compile`); kinds without a sparse kernel always scatter.
     """
 
     keyed_when_set: ClassVar[frozenset[str]] = frozenset(
-        {"batching", "batch_size", "fanout", "compile"}
+        {"batching", "batch_size", "fanout", "compile", "kernel"}
     )
-    # eager training is what every run did before compiling existed: it keeps their keys
-    unkeyed_values: ClassVar[dict[str, tuple]] = {"compile": (False,)}
+    # eager training and the scatter kernel are what every run did before these options
+    # existed: they keep their keys
+    unkeyed_values: ClassVar[dict[str, tuple]] = {"compile": (False,), "kernel": ("scatter",)}
 
     epochs: int = Field(200, ge=1, le=100_000, description="Most epochs a run trains.")
     patience: int = Field(
@@ -79,6 +86,14 @@ class Training(StrictModel):
         description=(
             "auto: torch.compile a full-batch run when its graph is large enough for "
             "the compile to pay back; true: always; false: never."
+        ),
+    )
+    kernel: Kernel = Field(
+        "auto",
+        description=(
+            "How attention layers compute. auto: the sparse kernel when a step's edges are "
+            "many enough for it to pay; sparse: always (attention kinds only); scatter: "
+            "PyG's layers."
         ),
     )
 
@@ -131,6 +146,9 @@ class TrainingOverride(StrictModel):
     compile: CompileMode | None = Field(
         None,
         description="auto, true or false; default: the suite's.",
+    )
+    kernel: Kernel | None = Field(
+        None, description="auto, sparse or scatter; default: the suite's."
     )
 
     _compile_mode = field_validator("compile", mode="before")(compile_mode)

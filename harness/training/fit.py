@@ -241,7 +241,9 @@ def perform(
     classes = int(data.y.max()) + 1
     started = contender_graph(data, spec.options, spec.seed, spec.hop_cache)
     with generated_modules_in(spec.hop_cache):
-        model = build_model(spec.options, started.width, classes, started.embedding_rows)
+        model = build_model(
+            spec.options, started.width, classes, started.embedding_rows, spec.training.kernel
+        )
     inductive = None
     if spec.setting == "inductive":  # held-out nodes and their edges never reach training
         train_graph = training_subgraph(data, split)
@@ -260,6 +262,7 @@ def perform(
         diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y)
         result = replace(result, extras={**result.extras, "attention": diagnostics})
     resident = peak_resident_mb() if measured else None
-    return replace(
-        result, extras={**result.extras, "threads": threads, "peak_resident_mb": resident}
-    )
+    extras = {**result.extras, "threads": threads, "peak_resident_mb": resident}
+    if spec.training.kernel == "sparse":  # scatter runs keep the extras they always had
+        extras["kernel"] = "sparse"
+    return replace(result, extras=extras)

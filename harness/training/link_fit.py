@@ -134,7 +134,9 @@ def perform_links(
     NEGATIVES_RANDOM.seed(spec.seed)  # the fresh training negatives (PyG's draws)
     seen = graph_view(data, split.train_graph, spec)  # features and hops from training edges
     tested = graph_view(data, split.test_graph, spec) if not validation_only else seen
-    model = build_link_model(spec.options, spec.link, seen.width, seen.embedding_rows)
+    model = build_link_model(
+        spec.options, spec.link, seen.width, seen.embedding_rows, spec.training.kernel
+    )
     result = fit_links(
         model, seen.data, tested.data, split, spec.training, spec.metric, spec.link, on_epoch
     )
@@ -144,4 +146,6 @@ def perform_links(
         diagnostics = attention_diagnostics(model.encoder, graph.x, graph.edge_index, unlabelled)
         attention = {**diagnostics, "note": LABELS_NOTE}
         result = replace(result, extras={**result.extras, "attention": attention})
+    if spec.training.kernel == "sparse":
+        result = replace(result, extras={**result.extras, "kernel": "sparse"})
     return result

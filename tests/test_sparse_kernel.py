@@ -1,0 +1,84 @@
+"""The sparse kernel's pieces: the target-order graph and its transpose, the per-model cache,
+and every custom backward against finite differences (torch.autograd.gradcheck, float64)."""
+
+from __future__ import annotations
+
+import copy
+
+import torch
+from torch.autograd import gradcheck
+
+from harness.models.sparse_kernel import (
+    TargetGraphs,
+    aggregate,
+    at_sources,
+    at_targets,
+    pair_scores,
+    segment_softmax,
+    target_graph,
+)
+
+NODES = 7
+EDGES = torch.tensor([[1, 2, 0, 3, 3, 5, 1, 4, 6], [0, 0, 1, 1, 2, 2, 4, 4, 4]])[
+    :, [4, 0, 8, 2, 6, 1, 3, 7, 5]
+]
+
+
+def test_edges_in_target_order_and_their_transpose():
+    graph = target_graph(EDGES, NODES)
+    targets = EDGES[1, graph.order]
+    assert torch.equal(targets, torch.sort(EDGES[1], stable=True).values)
+    assert torch.equal(graph.source_index, EDGES[0, graph.order])
+    assert graph.pointer.tolist() == [0, 2, 4, 6, 6, 9, 9, 9]  # nodes 3, 5, 6: no in-edges
+    sources_in_back_order = graph.source_index[graph.back_order]
+    assert torch.equal(sources_in_back_order, torch.sort(graph.source_index).values)
+    assert torch.equal(graph.back_targets.long(), targets[graph.back_order])
+    dense = torch.zeros(NODES, NODES)
+    dense[targets, graph.source_index] = torch.arange(1.0, 10.0)
+    values = torch.arange(1.0, 10.0)
+    assert torch.equal(graph.matrix(values).to_dense(), dense)
+    assert torch.equal(
+        graph.matrix(values[graph.back_order], transposed=True).to_dense(), dense.t()
+    )
+
+
+def test_every_backward_matches_finite_differences():
+    graph = target_graph(EDGES, NODES)
+    double = {"dtype": torch.float64, "requires_grad": True}
+    scores = torch.randn(3, graph.edges, **double)
+    values = torch.randn(NODES, 3, 2, **double)
+    query, key = torch.randn(NODES, 3, 2, **double), torch.randn(NODES, 3, 2, **double)
+    node_scores = torch.randn(NODES, 3, **double)
+    assert gradcheck(lambda s: segment_softmax(s, graph), (scores,))
+    assert gradcheck(lambda w, v: aggregate(w, v, graph), (scores, values))
+    assert gradcheck(lambda q, k: pair_scores(q, k, graph), (query, key))
+    assert gradcheck(lambda n: at_targets(n, graph), (node_scores,))
+    assert gradcheck(lambda n: at_targets(n, graph), (values,))
+    assert gradcheck(lambda n: at_sources(n, graph), (node_scores,))
+
+
+def test_softmax_weights_sum_to_one_per_target_and_empty_targets_get_nothing():
+    graph = target_graph(EDGES, NODES)
+    weights = segment_softmax(torch.randn(2, graph.edges) * 30, graph)
+    sums = torch.zeros(2, NODES).index_add_(1, EDGES[1, graph.order], weights)
+    assert torch.allclose(sums[:, [0, 1, 2, 4]], torch.ones(2, 4))
+    out = aggregate(weights, torch.randn(NODES, 2, 3), graph)
+    assert torch.equal(out[[3, 5, 6]], torch.zeros(3, 2, 3))
+    empty = target_graph(EDGES[:, :0], NODES)
+    assert (
+        aggregate(segment_softmax(torch.zeros(2, 0), empty), torch.ones(NODES, 2, 3), empty)
+        .abs()
+        .sum()
+        == 0
+    )
+
+
+def test_graphs_are_kept_per_edge_tensor_and_rebuilt_after_a_change():
+    graphs = TargetGraphs(size=2)
+    first, second = EDGES.clone(), EDGES[:, :5].clone()
+    built = graphs.get(first, NODES)
+    assert graphs.get(second, NODES) is not built
+    assert graphs.get(first, NODES) is built  # both kept: training graph and validation rows
+    first[0, 0] = 6
+    assert graphs.get(first, NODES) is not built
+    assert copy.deepcopy(graphs).entries == []  # a copied model sorts its edges afresh
