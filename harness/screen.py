@@ -65,14 +65,16 @@ def interrupted(executed: Executed, store: object) -> None:
 
 def show_check(outcome: CheckOutcome) -> None:
     suite, facts = outcome.suite, outcome.facts
+    classes = "" if facts.classes is None else f"{facts.classes} classes, "
     console.print(
         f"{outcome.path}: suite '{suite.name}' is valid: {facts.nodes} nodes, {facts.edges} "
-        f"edges, {facts.classes} classes, {facts.features} features",
+        f"edges, {classes}{facts.features} features",
         markup=False,
     )
-    console.print(
-        f"measured homophily: edge {facts.edge_homophily:.3f}, node {facts.node_homophily:.3f}"
-    )
+    if facts.edge_homophily is not None:  # node labels: only for tasks that read them
+        console.print(
+            f"measured homophily: edge {facts.edge_homophily:.3f}, node {facts.node_homophily:.3f}"
+        )
     for note in facts.notes:
         console.print(f"note: {note}", markup=False)
     for warning in facts.warnings:

@@ -658,6 +658,15 @@ CASES: list[Bad] = [
         nodes_csv=FIVE_NODES,
         edges_csv=COMPLETE_EDGES,
     ),
+    # issue 27, item 3: a link suite needs no label column, but one it names must be there
+    link_table(
+        "link_named_label_column_missing",
+        "nodes.csv: column 'kind' (data.label_column) not found",
+        nodes_csv=NODES,
+        suite_toml=LINK_TABLE_SUITE.format(
+            metric="roc_auc", setting="transductive", link=""
+        ).replace('feature_prefix = "f_"', 'feature_prefix = "f_"\nlabel_column = "kind"'),
+    ),
     # issue 27, item 15: a stranded training node is named by its id, not a row position
     link_table(
         "inductive_stranded_node_by_id",

@@ -13,6 +13,7 @@ import pandas as pd
 import pytest
 
 from harness.cli import main
+from harness.data.assemble import require_labels
 from harness.data.tables import load_tables
 from harness.errors import InputError
 from harness.planning import parse_suite
@@ -52,8 +53,10 @@ def write(folder: Path, nodes: str = NODES, edges: str = EDGES) -> Path:
 
 
 def load_error(folder: Path, **options: object) -> str:
+    """The one-line error of loading the tables for a task that reads node labels (tasks that
+    read none accept a table without usable labels: tests/test_link_tables.py)."""
     with pytest.raises(InputError) as caught:
-        load_tables(table_section(folder, **{"split_column": "split", **options}))
+        require_labels(load_tables(table_section(folder, **{"split_column": "split", **options})))
     message = str(caught.value)
     assert "\n" not in message
     return message

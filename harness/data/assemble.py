@@ -12,6 +12,8 @@ import torch
 from torch_geometric.data import Data
 from torch_geometric.utils import coalesce, to_undirected
 
+from harness.errors import InputError
+
 # Values a split column may hold; anything else is an error, empty cells are "not used".
 SPLIT_PARTS = {"train": 0, "validation": 1, "test": 2}
 
@@ -73,6 +75,14 @@ def assemble(
     data.self_loops_removed = int(loops.sum())
     data.duplicate_edges_removed = repeats
     return data
+
+
+def require_labels(data: Data) -> None:
+    """For tasks that read node labels: the labels a source could not give are an error
+    (a table without its label column, or with one class)."""
+    problem = getattr(data, "label_problem", None)
+    if problem:
+        raise InputError(problem)
 
 
 def node_name(data: Data, position: int) -> str:

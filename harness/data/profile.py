@@ -41,11 +41,16 @@ class DatasetProfile:
     isolated_nodes: int
     self_loops_removed: int
     duplicate_edges_removed: int
-    class_names: list[str]
+    class_names: list[str]  # empty, as the counts, when the task reads no node labels
     class_counts: list[int]
     unlabelled_nodes: int
     features: FeatureSummary
-    homophily: Homophily
+    homophily: Homophily | None  # None when the task reads no node labels
+
+    @property
+    def labelled(self) -> bool:
+        """Whether the node-label facts (classes, unlabelled nodes, homophily) apply."""
+        return self.homophily is not None
 
     def as_dict(self) -> dict:
         return asdict(self)
@@ -57,13 +62,14 @@ class DatasetProfile:
                 **values,
                 "degrees": DegreeSummary(**values["degrees"]),
                 "features": FeatureSummary(**values["features"]),
-                "homophily": Homophily(**values["homophily"]),
+                "homophily": values["homophily"] and Homophily(**values["homophily"]),
             }
         )
 
 
-def profile_graph(data: Data) -> DatasetProfile:
-    """Everything `heedful describe` prints about a loaded graph."""
+def profile_graph(data: Data, node_labels: bool = True) -> DatasetProfile:
+    """Everything `heedful describe` prints about a loaded graph; without `node_labels` (a task
+    that reads none) no class or homophily facts, which would not apply."""
     nodes = data.num_nodes
     directed = not data.is_undirected()
     # in-degree: the neighbours whose messages a node receives
@@ -87,9 +93,11 @@ def profile_graph(data: Data) -> DatasetProfile:
         isolated_nodes=int(np.sum(degree(data.edge_index.flatten(), nodes).numpy() == 0)),
         self_loops_removed=int(getattr(data, "self_loops_removed", 0)),
         duplicate_edges_removed=int(getattr(data, "duplicate_edges_removed", 0)),
-        class_names=names,
-        class_counts=np.bincount(labels[labels >= 0], minlength=classes).tolist(),
-        unlabelled_nodes=int(np.sum(labels < 0)),
+        class_names=names if node_labels else [],
+        class_counts=np.bincount(labels[labels >= 0], minlength=classes).tolist()
+        if node_labels
+        else [],
+        unlabelled_nodes=int(np.sum(labels < 0)) if node_labels else 0,
         features=FeatureSummary(
             dimension=x.shape[1],
             mean=float(x.mean()),
@@ -99,5 +107,5 @@ def profile_graph(data: Data) -> DatasetProfile:
             constant_columns=int(np.sum(spread == 0)),
             zero_share=float(np.mean(x == 0)),
         ),
-        homophily=measure_homophily(data.edge_index, data.y),
+        homophily=measure_homophily(data.edge_index, data.y) if node_labels else None,
     )

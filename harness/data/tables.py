@@ -83,7 +83,7 @@ def feature_names(frame: pd.DataFrame, spec: TableData) -> list[str]:
     if spec.feature_columns is not None:
         need_columns(frame, spec.nodes, spec.feature_columns, "feature_columns")
         return list(spec.feature_columns)
-    reserved = {spec.id_column, spec.label_column, spec.split_column}
+    reserved = {spec.id_column, spec.label_column, spec.split_column}  # labels are no feature
     columns = [c for c in frame.columns if c not in reserved]
     if spec.feature_prefix is not None:
         columns = [c for c in columns if str(c).startswith(spec.feature_prefix)]
@@ -118,19 +118,30 @@ def feature_matrix(
     return matrix.astype(np.float32)
 
 
-def label_codes(frame: pd.DataFrame, spec: TableData) -> tuple[np.ndarray, list[str]]:
-    """Class index per node (-1 for an empty label) and the class names in sorted order."""
+def label_codes(frame: pd.DataFrame, spec: TableData) -> tuple[np.ndarray, list[str], str | None]:
+    """Class index per node (-1 for an empty label), the class names in sorted order, and what
+    keeps the labels from serving a task that reads them (None when nothing does). Tasks that
+    read no labels (link prediction) need no label column, nor two classes in it; one the
+    suite names must be there."""
+    if spec.label_column not in frame.columns and "label_column" not in spec.model_fields_set:
+        present = ", ".join(map(str, frame.columns[:12]))
+        problem = (
+            f"{shown(spec.nodes)}: column '{spec.label_column}' (data.label_column) not found; "
+            f"columns present: {present}"
+        )
+        return np.full(len(frame), -1, dtype=np.int64), [], problem
     values = frame[spec.label_column]
     if pd.api.types.is_float_dtype(values) and np.all(values.dropna() % 1 == 0):
         values = values.astype("Int64")  # integer labels with blanks were read as floats
     codes, names = pd.factorize(values, sort=True, use_na_sentinel=True)
+    problem = None
     if len(names) < 2:
         found = f"only {names[0]!r}" if len(names) else "none"
-        raise InputError(
+        problem = (
             f"{shown(spec.nodes)}: column '{spec.label_column}' holds fewer than two label "
             f"classes ({found}); allowed: two or more"
         )
-    return codes.astype(np.int64), [str(n) for n in names]
+    return codes.astype(np.int64), [str(n) for n in names], problem
 
 
 def split_codes(frame: pd.DataFrame, spec: TableData) -> np.ndarray:
@@ -180,17 +191,16 @@ def endpoint_positions(
 def load_tables(spec: TableData) -> Data:
     """The graph of a nodes file and an edges file; errors name the file and row or column."""
     nodes = read_table(spec.nodes, "one row per node", [spec.id_column])
-    wanted = [spec.id_column, spec.label_column] + (
-        [spec.split_column] if spec.split_column else []
-    )
-    keys = ["id_column", "label_column", "split_column"]
-    for column, key in zip(wanted, keys, strict=False):
-        need_columns(nodes, spec.nodes, [column], key)
+    need_columns(nodes, spec.nodes, [spec.id_column], "id_column")
+    if "label_column" in spec.model_fields_set:  # named: it must be there, whatever the task
+        need_columns(nodes, spec.nodes, [spec.label_column], "label_column")
+    if spec.split_column:
+        need_columns(nodes, spec.nodes, [spec.split_column], "split_column")
     index = node_index(nodes[spec.id_column], spec.nodes, spec.id_column)
     features = feature_matrix(nodes, feature_names(nodes, spec), spec.nodes)
     if spec.standardise:  # constant columns stay at 0
         features = StandardScaler().fit_transform(features).astype(np.float32)
-    labels, class_names = label_codes(nodes, spec)
+    labels, class_names, label_problem = label_codes(nodes, spec)
     split_part = split_codes(nodes, spec) if spec.split_column else None
 
     edges = read_table(spec.edges, "one row per edge", [spec.source_column, spec.target_column])
@@ -214,4 +224,5 @@ def load_tables(spec: TableData) -> Data:
         node_ids=[str(name) for name in index],
     )
     data.split_origin = f"{shown(spec.nodes)}: column '{spec.split_column}'"
+    data.label_problem = label_problem
     return data

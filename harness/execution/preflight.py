@@ -8,7 +8,7 @@ import numpy as np
 from torch_geometric.data import Data
 
 from harness.data import load_graph
-from harness.data.assemble import cleaning_notes, edge_count
+from harness.data.assemble import cleaning_notes, edge_count, require_labels
 from harness.data.edge_splits import EdgeSplit
 from harness.data.feature_starts import check_contender_graphs
 from harness.data.homophily import measure_homophily
@@ -29,20 +29,21 @@ class DataFacts:
 
     nodes: int
     edges: int
-    classes: int
+    classes: int | None  # None, as the homophily: the task reads no node labels
     features: int
-    edge_homophily: float  # Zhu et al. (2020)
-    node_homophily: float  # Pei et al. (2020)
+    edge_homophily: float | None  # Zhu et al. (2020)
+    node_homophily: float | None  # Pei et al. (2020)
     notes: tuple[str, ...] = ()  # self-loops and repeated edges removed on load
     warnings: tuple[str, ...] = ()  # settings that will cost more than they give
 
     @property
     def size(self) -> GraphSize:
-        return GraphSize(self.nodes, 2 * self.edges, self.features, self.classes)
+        return GraphSize(self.nodes, 2 * self.edges, self.features, self.classes or 0)
 
 
 def check_node_splits(suite: Suite, data: Data, source: str) -> None:
     """Two label classes, and every seed's node split (ROC-AUC needs two classes in test)."""
+    require_labels(data)
     labelled = data.y[data.y >= 0]
     if len(np.unique(labelled.numpy())) < 2:
         raise InputError(f"{source}: data: fewer than two label classes; allowed: two or more")
@@ -85,17 +86,17 @@ def check_hits_k(hits_k: int, split: EdgeSplit, seed: int, source: str) -> None:
 def preflight(suite: Suite, source: str) -> DataFacts:
     """Load the graph and draw every seed's split; errors name the suite file and key."""
     data = load_graph(suite.data)
-    classes = int(data.y.max()) + 1
+    labels = task_kind(suite.task).node_labels
     imported(task_kind(suite.task).data_check)(suite, data, source)
     check_contender_graphs(design_points(suite), data, suite.hops.memory_budget_mb, source)
-    measured = measure_homophily(data.edge_index, data.y)
+    measured = measure_homophily(data.edge_index, data.y) if labels else None
     return DataFacts(
         data.num_nodes,
         edge_count(data),
-        classes,
+        int(data.y.max()) + 1 if labels else None,
         data.num_features,
-        measured.edge,
-        measured.node,
+        measured.edge if measured else None,
+        measured.node if measured else None,
         tuple(cleaning_notes(data, f"{source}: data")) + task_notes(suite, source),
         compile_warnings(suite, data.edge_index.size(1), source),
     )

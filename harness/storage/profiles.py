@@ -9,9 +9,10 @@ from pathlib import Path
 from pydantic import BaseModel
 
 from harness.data import load_graph
-from harness.data.assemble import cleaning_notes
+from harness.data.assemble import cleaning_notes, require_labels
 from harness.data.profile import DatasetProfile, profile_graph
 from harness.digest import text_digest
+from harness.schema.tasks import task_kind
 from harness.storage.database import insert, opened, prepare, read_rows
 from harness.storage.store import Store
 from harness.storage.tables import PROFILES
@@ -44,9 +45,13 @@ def load_profiles(store: Store, suite: str) -> list[DatasetProfile]:
 
 
 def suite_profile(suite: BaseModel, source: str) -> tuple[DatasetProfile, list[str]]:
-    """The profile of a suite's data, and notes on what loading had to clean."""
+    """The profile of a suite's data, and notes on what loading had to clean; node-label facts
+    only when the suite's task reads node labels (then the labels must be usable)."""
     data = load_graph(suite.data)
-    return profile_graph(data), cleaning_notes(data, f"{source}: data")
+    labels = task_kind(suite.task).node_labels
+    if labels:
+        require_labels(data)
+    return profile_graph(data, labels), cleaning_notes(data, f"{source}: data")
 
 
 def record_profile(suite: BaseModel, path: str | Path) -> DatasetProfile:

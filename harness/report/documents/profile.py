@@ -17,7 +17,7 @@ def profile_rows(profile: DatasetProfile) -> list[list[str]]:
         for name, count in zip(profile.class_names, profile.class_counts, strict=True)
     )
     removed = (profile.self_loops_removed, profile.duplicate_edges_removed)
-    return [
+    rows = [
         ["nodes", f"{profile.nodes}"],
         ["edges", f"{profile.edges} ({kind})"],
         [
@@ -27,27 +27,36 @@ def profile_rows(profile: DatasetProfile) -> list[list[str]]:
         ],
         ["isolated nodes", f"{profile.isolated_nodes}"],
         ["removed on load", "{} self-loops, {} repeated edges".format(*removed)],
-        ["classes", f"{len(profile.class_counts)}: {balance}"],
-        ["unlabelled nodes", f"{profile.unlabelled_nodes}"],
+    ]
+    if profile.labelled:
+        rows.append(["classes", f"{len(profile.class_counts)}: {balance}"])
+        rows.append(["unlabelled nodes", f"{profile.unlabelled_nodes}"])
+    rows.append(
         [
             "features",
             f"{f.dimension} columns, mean {f.mean:.3g}, sd {f.standard_deviation:.3g}, "
             f"range {f.minimum:.3g} to {f.maximum:.3g}, {f.constant_columns} constant, "
             f"{f.zero_share:.0%} zeros",
-        ],
-        [
-            "homophily",
-            f"edge {h.edge:.3f}, node {h.node:.3f}, class-insensitive {h.class_insensitive:.3f}, "
-            f"adjusted {h.adjusted:.3f}",
-        ],
-    ]
+        ]
+    )
+    if h is not None:
+        rows.append(
+            [
+                "homophily",
+                f"edge {h.edge:.3f}, node {h.node:.3f}, class-insensitive "
+                f"{h.class_insensitive:.3f}, adjusted {h.adjusted:.3f}",
+            ]
+        )
+    return rows
 
 
 def profile_document(profile: DatasetProfile, notes: tuple[str, ...] = ()) -> Document:
     """The profile's properties, then the notes; its JSON data is the profile, with undefined
     homophily (one class) as null."""
     values = profile.as_dict()
-    values["homophily"] = {k: (None if missing(v) else v) for k, v in values["homophily"].items()}
+    if values["homophily"] is not None:
+        homophily = values["homophily"].items()
+        values["homophily"] = {k: (None if missing(v) else v) for k, v in homophily}
     part = table("profile", "", ["", ""], profile_rows(profile), right=(False, False))
     blocks = (part, *(Text(f"note: {note}") for note in notes))
     return Document(title="Dataset profile", blocks=blocks, data=values, name="profile")
