@@ -63,6 +63,7 @@ def interrupted(executed: Executed, store: object) -> None:
     )
 
 
+# one fact per line, never wrapped: paths and names stay whole for grep and copying
 def show_check(outcome: CheckOutcome) -> None:
     suite, facts = outcome.suite, outcome.facts
     classes = "" if facts.classes is None else f"{facts.classes} classes, "
@@ -70,36 +71,40 @@ def show_check(outcome: CheckOutcome) -> None:
         f"{outcome.path}: suite '{suite.name}' is valid: {facts.nodes} nodes, {facts.edges} "
         f"edges, {classes}{facts.features} features",
         markup=False,
+        soft_wrap=True,
     )
     if facts.edge_homophily is not None:  # node labels: only for tasks that read them
         console.print(
-            f"measured homophily: edge {facts.edge_homophily:.3f}, node {facts.node_homophily:.3f}"
+            f"measured homophily: edge {facts.edge_homophily:.3f}, node {facts.node_homophily:.3f}",
+            soft_wrap=True,
         )
     for note in facts.notes:
-        console.print(f"note: {note}", markup=False)
+        console.print(f"note: {note}", markup=False, soft_wrap=True)
     for warning in facts.warnings:
         console.print(warning, markup=False, soft_wrap=True)
     for contender, count in outcome.runs.items():
         ablation = suite.ablation.get(contender)
         mode = ablation.mode.replace("_", "-") if ablation else ""
         points = f" ({count // len(suite.seed_list)} {mode} points)" if ablation else ""
-        console.print(f"  {contender}: {count} runs{points}", markup=False)
+        console.print(f"  {contender}: {count} runs{points}", markup=False, soft_wrap=True)
     if outcome.map_runs:
         levels = len(suite.homophily_map.levels)
         console.print(
             f"  homophily map: {outcome.map_runs} runs ({levels} levels on matched synthetic "
-            "graphs)"
+            "graphs)",
+            soft_wrap=True,
         )
         console.print(
             f"{outcome.total + outcome.map_runs} runs in total ({outcome.total} of the suite, "
-            f"{outcome.map_runs} of the homophily map)"
+            f"{outcome.map_runs} of the homophily map)",
+            soft_wrap=True,
         )
     else:
-        console.print(f"{outcome.total} runs in total")
+        console.print(f"{outcome.total} runs in total", soft_wrap=True)
     for line in outcome.memory:
-        console.print(line, markup=False)
+        console.print(line, markup=False, soft_wrap=True)
     for line in outcome.tuning:
-        console.print(line, markup=False)
+        console.print(line, markup=False, soft_wrap=True)
 
 
 def show_documents(documents: list) -> None:
@@ -119,6 +124,7 @@ def show_run(outcome: RunOutcome) -> None:
     console.print(
         f"{executed.finished} runs trained, {executed.skipped} reused from {outcome.store}",
         markup=False,
+        soft_wrap=True,
     )
     show_documents(summary_documents(outcome.summary, outcome.ablation, (outcome.report,)))
 
@@ -182,6 +188,7 @@ def show_baseline(outcome: BaselineOutcome) -> None:
     console.print(
         f"baseline of suite '{outcome.suite.name}' ({outcome.runs} runs) saved to {outcome.saved}",
         markup=False,
+        soft_wrap=True,
     )
 
 
@@ -203,5 +210,8 @@ def show_history(outcome: HistoryOutcome) -> None:
 def show_report(outcome: ReportOutcome) -> None:
     show_documents([outcome.document])
     console.print(
-        f"{len(outcome.written)} files written to {outcome.out}", highlight=False, markup=False
+        f"{len(outcome.written)} files written to {outcome.out}",
+        highlight=False,
+        markup=False,
+        soft_wrap=True,
     )
