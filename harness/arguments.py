@@ -9,6 +9,7 @@ from pathlib import Path
 from typing import Any
 
 from harness.errors import InputError
+from harness.output_files import check_parent
 
 
 class OneLineParser(argparse.ArgumentParser):
@@ -51,16 +52,25 @@ def cluster_address(text: str) -> str:
 
 
 def output_file(text: str) -> Path:
-    """A file the command will write: not an existing folder."""
+    """A file the command will write: not an existing folder, nor in a folder that is a file
+    (checked before any run, as well as when written)."""
     if Path(text).is_dir():
         raise argparse.ArgumentTypeError(f"given {text!r}, a folder; allowed: a file path")
+    try:
+        check_parent(Path(text))
+    except InputError as error:
+        raise argparse.ArgumentTypeError(f"given {text!r}; {error}") from None
     return Path(text)
 
 
 def store_location(text: str):  # noqa: ANN201 - a storage Location
     from harness.storage.database import locate
+    from harness.storage.outages import check_reachable
 
     try:
-        return locate(text)
+        location = locate(text)
+        if location.path is None:  # a server that is away now: its address is likely wrong
+            check_reachable(location.url, "--store")
+        return location
     except InputError as error:
         raise argparse.ArgumentTypeError(str(error)) from None

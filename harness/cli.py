@@ -17,7 +17,7 @@ from harness.arguments import (
     positive_int,
     store_location,
 )
-from harness.errors import InputError
+from harness.errors import InputError, ServiceOutage
 
 
 def command_check(args: argparse.Namespace) -> int:
@@ -346,6 +346,9 @@ def main(argv: list[str] | None = None) -> int:
     except InputError as error:
         screen.errors.print(f"heedful: error: {error}", markup=False, soft_wrap=True)
         return 2
+    except ServiceOutage as error:  # a failing run, not bad input
+        screen.errors.print(f"heedful: error: {error}", markup=False, soft_wrap=True)
+        return 3
     except KeyboardInterrupt:
         screen.errors.print("interrupted")
         return 130

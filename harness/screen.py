@@ -8,12 +8,14 @@ from __future__ import annotations
 import sys
 from collections.abc import Iterator
 from contextlib import contextmanager
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 from rich.console import Console
 from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+from rich.text import Text
 
 from harness.commands.feedback import Advance, Feedback
+from harness.formatting import visible
 
 if TYPE_CHECKING:
     from harness.commands.gates import BaselineOutcome, GateRun
@@ -29,8 +31,19 @@ if TYPE_CHECKING:
     from harness.execution.executed import Executed
 
 # piped output (logs, CI) is 100 columns wide; a terminal's own width otherwise
-console = Console(width=None if sys.stdout.isatty() else 100)
-errors = Console(stderr=True, highlight=False, markup=False)  # messages hold user text
+
+
+class VisibleConsole(Console):
+    """A console that shows the control and bidirectional characters of the text it is given
+    (harness.formatting.visible): a label cannot clear the screen or reorder a line. Styles
+    are added after this, so they still reach the terminal."""
+
+    def render_str(self, text: str, **options: Any) -> Text:
+        return super().render_str(visible(text), **options)
+
+
+console = VisibleConsole(width=None if sys.stdout.isatty() else 100)
+errors = VisibleConsole(stderr=True, highlight=False, markup=False)  # messages hold user text
 
 
 def feedback(quiet: bool = False) -> Feedback:

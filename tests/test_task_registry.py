@@ -64,6 +64,9 @@ def test_every_task_declares_a_consistent_contract(name: str) -> None:
     assert kind.default_metric in kind.metric_names
     for metric in kind.metrics:
         assert metric.low < metric.high
+        # early stopping, tuning, verdicts and gates rank higher as better; a metric where
+        # lower is better needs them to read the direction first
+        assert metric.higher_is_better
         assert callable(imported(metric.scorer))
         assert "torch" not in module_imports(metric.scorer)  # scorers stay torch-free
         assert metric.every_epoch is None or callable(imported(metric.every_epoch))

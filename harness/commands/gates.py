@@ -27,6 +27,7 @@ from harness.gate.baseline import (
 )
 from harness.gate.compare import GateOutcome, evaluate
 from harness.gate.records import history_records
+from harness.output_files import write_output
 from harness.planning import RunSpec, expand, load_suite
 from harness.report.documents.gate import gate_document
 from harness.report.formats import FORMATS
@@ -131,10 +132,11 @@ def gate(
     outcome = evaluate(
         suite, labels, stored, runs, environment, differences, time.time(), unmatched
     )
-    gate_history.append(store_path, history_records(outcome))
+    # the files first: one that cannot be written stops the gate (exit 2) before its history
+    # is appended, so a rerun is not counted twice
     document = gate_document(outcome)
     for path, name in ((junit, "junit"), (markdown, "markdown")):
         if path:
-            Path(path).parent.mkdir(parents=True, exist_ok=True)
-            Path(path).write_text(FORMATS[name].render(document), encoding="utf-8")
+            write_output(path, FORMATS[name].render(document))
+    gate_history.append(store_path, history_records(outcome))
     return GateRun(store_path, executed, outcome)

@@ -252,7 +252,7 @@ def perform(
         model, started.data, split, spec.training, spec.metric, on_epoch, inductive, spec.seed
     )
     if inductive is not None and not validation_only:
-        radius = spec.options.layers * getattr(spec.options, "hop_radius", 1)
+        radius = spec.options.layers * spec.options.layer_radius()
         radius += MODEL_KINDS[spec.model].extra_hops
         arrival = measure_arrival(model, started.data, split, radius, seed=spec.seed)
         result = replace(result, extras={**result.extras, "arrival": arrival.as_dict()})

@@ -7,10 +7,12 @@ marked failed by the next worker that looks, and a copy with the same settings i
 
 from __future__ import annotations
 
-import socket
+import inspect
 import sqlite3
 import warnings
+from collections.abc import Callable
 from pathlib import Path
+from typing import Any
 
 import optuna
 import sqlalchemy
@@ -18,8 +20,8 @@ from sqlalchemy.engine import URL, make_url
 
 from harness.errors import InputError
 from harness.storage.database import Location, locate
+from harness.storage.outages import check_reachable, outlasting
 
-DEFAULT_PORTS = {"postgresql": 5432, "mysql": 3306, "mariadb": 3306}
 RETRIES = 3
 # a stale trial is queued again with the same settings (the class was renamed in Optuna 4.9)
 RETRY = getattr(
@@ -58,27 +60,6 @@ def shown(url: URL) -> str:
     return url.render_as_string(hide_password=True)
 
 
-def check_reachable(url: URL, timeout: float = 5.0) -> None:
-    """A server URL must answer on its host and port before anything is written."""
-    if not url.host:
-        return
-    backend = url.get_backend_name()
-    port = url.port or DEFAULT_PORTS.get(backend)
-    if port is None:
-        raise InputError(
-            f"--tuning-database {shown(url)}: no port given and none known for {backend}"
-        )
-    try:
-        with socket.create_connection((url.host, port), timeout=timeout):
-            pass
-    except OSError as error:
-        reason = error.strerror or error.__class__.__name__
-        raise InputError(
-            f"--tuning-database {shown(url)}: cannot reach {backend} server at {url.host}:{port} "
-            f"({reason}); allowed: a storage URL whose server is running and reachable"
-        ) from None
-
-
 def sqlite_connector(database: str):  # noqa: ANN201 - returns a connection factory
     """Connections in WAL mode with normal syncing: one commit per reported epoch stays cheap,
     and readers never block the writer (SQLite documentation, "Write-Ahead Logging")."""
@@ -112,13 +93,45 @@ def check_studies_stored(parsed: URL) -> None:
         engine.dispose()
 
 
+class PatientStorage(optuna.storages.RDBStorage):
+    """Optuna's relational storage whose calls wait out a server outage (storage/outages.py)."""
+
+
+def _server(storage: PatientStorage, *_: Any, **__: Any) -> tuple[str, str | None]:
+    url = parse_url(storage.url)
+    return f"--tuning-database {shown(url)}", url.password
+
+
+def _own_session(name: str, call: Any) -> bool:
+    """A method that opens its own database session (Optuna's cache calls private ones too);
+    those given a session work inside another's, which is retried whole."""
+    if name.startswith("__") or not inspect.isfunction(call):
+        return False
+    return "session" not in inspect.signature(call).parameters
+
+
+for _name, _call in vars(optuna.storages.RDBStorage).items():
+    if _own_session(_name, _call):
+        setattr(PatientStorage, _name, outlasting(_call, _server))
+
+
+def _opened_at(parsed: URL) -> Callable[..., tuple[str, str | None]]:
+    return lambda *_, **__: (f"--tuning-database {shown(parsed)}", parsed.password)
+
+
 def open_storage(
-    url: str, heartbeat_seconds: int, grace_seconds: int, create: bool = True
+    url: str,
+    heartbeat_seconds: int,
+    grace_seconds: int,
+    create: bool = True,
+    checked: bool = False,
 ) -> optuna.storages.RDBStorage:
     """Optuna's relational storage with heartbeats; bad or unreachable URLs are input errors.
-    Without `create` (reading commands) the storage must hold studies already."""
+    Without `create` (reading commands) the storage must hold studies already. Once `checked`
+    (by this command, earlier), a server away is an outage, waited for as in every call."""
     parsed = parse_url(url)
-    check_reachable(parsed)
+    if not checked:
+        check_reachable(parsed, "--tuning-database")
     if not create:
         check_studies_stored(parsed)
     engine: dict = {}
@@ -136,7 +149,8 @@ def open_storage(
     try:
         with warnings.catch_warnings():  # heartbeats are marked experimental in Optuna
             warnings.simplefilter("ignore", optuna.exceptions.ExperimentalWarning)
-            return optuna.storages.RDBStorage(
+            opening = outlasting(PatientStorage, _opened_at(parsed)) if checked else PatientStorage
+            return opening(
                 parsed.render_as_string(hide_password=False),
                 engine_kwargs=engine,
                 heartbeat_interval=heartbeat_seconds,

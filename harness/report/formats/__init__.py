@@ -8,6 +8,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
+from harness.output_files import write_output
 from harness.report.documents.document import Document
 from harness.report.formats import csv, html, json, junit, latex, markdown, terminal
 
@@ -28,10 +29,7 @@ class Format:
     def write(self, document: Document, folder: Path) -> list[Path]:
         if self.files is not None:
             return self.files(document, folder / self.file)
-        path = folder / self.file
-        path.parent.mkdir(parents=True, exist_ok=True)
-        path.write_text(self.render(document), encoding="utf-8")
-        return [path]
+        return [write_output(folder / self.file, self.render(document))]
 
 
 FORMATS: dict[str, Format] = {

@@ -8,12 +8,17 @@ from pathlib import Path
 
 import pandas as pd
 
+from harness.formatting import visible
+from harness.output_files import output_folder, write_output
 from harness.report.documents.document import Document
 
 
 def _cell(value: object) -> object:
-    """Dicts (ablation points) as JSON text, so a CSV cell holds one value."""
-    return json.dumps(value, sort_keys=True) if isinstance(value, dict) else value
+    """Dicts (ablation points) as JSON text, so a CSV cell holds one value; hidden characters
+    of text shown (harness.formatting.visible)."""
+    if isinstance(value, dict):
+        return json.dumps(value, sort_keys=True)
+    return visible(value) if isinstance(value, str) else value
 
 
 def _plain(frame: pd.DataFrame) -> pd.DataFrame:
@@ -27,10 +32,8 @@ def render(document: Document) -> str:
 
 def write(document: Document, folder: Path) -> list[Path]:
     """One CSV per frame in `folder`; returns the paths written."""
-    folder.mkdir(parents=True, exist_ok=True)
-    written = []
-    for name, frame in document.frames.items():
-        path = folder / f"{name}.csv"
-        _plain(frame).to_csv(path, index=False)
-        written.append(path)
-    return written
+    output_folder(folder)
+    return [
+        write_output(folder / f"{name}.csv", _plain(frame).to_csv(index=False))
+        for name, frame in document.frames.items()
+    ]

@@ -6,6 +6,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from harness.errors import InputError
+from harness.output_files import output_folder, write_output
 from harness.report.documents.document import Document
 from harness.report.formats import FORMATS
 
@@ -23,13 +24,8 @@ def prepared(out: str | Path) -> Path:
 
 
 def write_plots(document: Document, folder: Path) -> list[Path]:
-    (folder / "plots").mkdir(parents=True, exist_ok=True)
-    written = []
-    for plot in document.plots:
-        path = folder / "plots" / f"{plot.name}.png"
-        path.write_bytes(plot.png)
-        written.append(path)
-    return written
+    plots = output_folder(folder / "plots")
+    return [write_output(plots / f"{plot.name}.png", plot.png) for plot in document.plots]
 
 
 def write_report(document: Document, out: str | Path) -> list[Path]:

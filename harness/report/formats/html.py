@@ -3,8 +3,9 @@
 from __future__ import annotations
 
 import base64
-from html import escape
+import html
 
+from harness.formatting import visible
 from harness.report.documents.document import Block, Document, Items, Plot, Table, Text
 
 STYLE = """
@@ -20,6 +21,11 @@ td.number { text-align: right; font-variant-numeric: tabular-nums; white-space: 
 figure { margin: 1rem 0 2rem; }
 figure img { max-width: 100%; }
 """
+
+
+def escape(text: str) -> str:
+    """Text safe in HTML: hidden characters shown (harness.formatting.visible), then entities."""
+    return html.escape(visible(str(text)))
 
 
 def table(part: Table) -> str:

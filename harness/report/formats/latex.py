@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from harness.formatting import visible
 from harness.report.documents.document import Document, Table
 
 _SPECIAL = {
@@ -25,8 +26,9 @@ _SPECIAL = {
 
 
 def escape(text: str) -> str:
-    """Text safe in LaTeX's text mode: every special character replaced."""
-    return "".join(_SPECIAL.get(character, character) for character in str(text))
+    """Text safe in LaTeX's text mode: hidden characters shown (harness.formatting.visible),
+    then every special character replaced."""
+    return "".join(_SPECIAL.get(character, character) for character in visible(str(text)))
 
 
 def table(part: Table) -> str:

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import re
 
+from harness.formatting import visible
 from harness.report.documents.document import Block, Document, Items, Table, Text
 
 # Markdown punctuation a name could use to start emphasis, links, math or code.
@@ -12,8 +13,9 @@ _PUNCTUATION = re.compile(r"([\\`*_{}\[\]#!|$~])")
 
 
 def escape(text: object) -> str:
-    """Plain text for Markdown: entities for HTML, backslashes for Markdown punctuation."""
-    text = str(text).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+    """Plain text for Markdown: hidden characters shown (harness.formatting.visible), entities
+    for HTML, backslashes for Markdown punctuation."""
+    text = visible(str(text)).replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
     return _PUNCTUATION.sub(r"\\\1", text).replace("\n", " ")
 
 

@@ -9,11 +9,12 @@ from dataclasses import replace
 
 from rich import box
 from rich.console import Console, RenderableType
-from rich.markup import escape
+from rich.markup import escape as markup_escape
 from rich.padding import Padding
 from rich.table import Table as RichTable
 from rich.text import Text as RichText
 
+from harness.formatting import visible
 from harness.report.documents.document import Document, Items, Table, Text
 
 # piped output (logs, CI) is not cut to 80 columns, nor as wide as a log line may be
@@ -30,6 +31,16 @@ STYLES = {
     "fail": "bold red",
     "skip": "dim",
 }
+
+
+def escape(text: str) -> str:
+    """Text for a rich cell or title: hidden characters shown (harness.formatting.visible),
+    brackets not read as markup."""
+    return markup_escape(visible(text))
+
+
+def _plain(text: str) -> RichText:
+    return RichText(visible(text))
 
 
 def _shown(part: Table) -> tuple[tuple[str, ...], ...]:
@@ -146,23 +157,23 @@ def table_renderables(part: Table, width: int) -> list[RenderableType]:
     part = fitted(part, width)
     out: list[RenderableType] = [rich_table(piece, width) for piece in split(part, width)]
     below = " ".join(text for text in (part.note, part.legend) if text)
-    return out + ([RichText(below)] if below else [])
+    return out + ([_plain(below)] if below else [])
 
 
 def renderables(document: Document, console: Console) -> list[RenderableType]:
     """Notices, the headline verdict, then the body in order."""
-    out: list[RenderableType] = [RichText(notice) for notice in document.notices]
+    out: list[RenderableType] = [_plain(notice) for notice in document.notices]
     if document.headline:
-        out.append(RichText.assemble(("Verdict: ", "bold"), document.headline))
+        out.append(RichText.assemble(("Verdict: ", "bold"), visible(document.headline)))
     if document.lead:
-        out.append(RichText(document.lead))
+        out.append(_plain(document.lead))
     for part in document.blocks:
         if isinstance(part, Table):
             out += table_renderables(part, console.width)
         elif isinstance(part, Items):
-            out += [Padding(RichText(item), (0, 0, 0, 2)) for item in part.items]
+            out += [Padding(_plain(item), (0, 0, 0, 2)) for item in part.items]
         elif isinstance(part, Text):
-            out.append(RichText(part.text))
+            out.append(_plain(part.text))
     return out
 
 

@@ -26,7 +26,9 @@ class Metric:
     """One metric a task's runs store (column `test_<name>`): its label in reports, its range,
     its direction, and the function that computes it (`scorer`, a "module:function" path).
     `every_epoch`: a faster twin giving the same value, for the per-epoch validation score;
-    its arguments are the task's own (see the task's training loop)."""
+    its arguments are the task's own (see the task's training loop). The stages rank a higher
+    value as better (early stopping, tuning, verdicts, gates): `higher_is_better` is declared
+    for them to read, and tests/test_task_registry.py holds every metric to True until they do."""
 
     name: str
     label: str
@@ -63,7 +65,9 @@ class TaskKind:
         `data_check`: "module:function" check(suite, data, source) of every seed's split, run by
         `check` before any run. `objective`: the name of its entry in the training stage's objective
         registry. `output_option`: the field of its options table that sets the model's output width
-    (None: one output per class of the data).
+    (None: one output per class of the data). `run_memory`: "module:function" bytes(suite, size)
+    a run holds beyond its model's step (link prediction: the scored pairs and their negatives),
+    with the option that moves them most; None when there is nothing beyond it.
     """
 
     title: str
@@ -78,6 +82,7 @@ class TaskKind:
     options_section: str | None = None
     options: type[BaseModel] | None = None
     output_option: str | None = None
+    run_memory: str | None = None
     keyed: bool = True
     sampled_batches: bool = True
     compiles: bool = True
