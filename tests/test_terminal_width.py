@@ -8,8 +8,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from harness.analysis.suite_report import analyse_store
 from harness.analysis.verdict import BETTER, INCONCLUSIVE, NO_DIFFERENCE, WORSE
+from harness.api import analyse_store
 from harness.commands.inspect import show
 from harness.data import load_graph
 from harness.execution.runs import record_of
@@ -18,6 +18,7 @@ from harness.report.documents.suite import suite_document
 from harness.report.documents.summary import summary_documents
 from harness.report.formats import terminal
 from harness.storage import store
+from harness.storage.suite_runs import suite_runs
 from harness.training.fit import NodePredictions, RunResult
 
 DEMO = Path(__file__).parent.parent / "suites" / "demo.toml"
@@ -78,7 +79,7 @@ def assert_nothing_cut(text: str, names: list[str]) -> None:
 
 
 def test_show_fits_80_columns_without_cutting_names(demo_store: Path) -> None:
-    outcome = show(demo_store, str(DEMO), analysed=True)
+    outcome = show(suite_runs(demo_store, DEMO), analysed=True)
     documents = summary_documents(outcome.summary, outcome.ablation, outcome.reports)
     text = "".join(terminal.render(document, 80) for document in documents)
     assert text.startswith("Verdict: ")  # the headline comes first

@@ -112,12 +112,17 @@ def attention_network(model: nn.Module, x: torch.Tensor) -> tuple[AttentionNetwo
 
 
 def attention_diagnostics(
-    model: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, labels: torch.Tensor
+    model: nn.Module,
+    x: torch.Tensor,
+    edge_index: torch.Tensor,
+    labels: torch.Tensor,
+    edge_attr: torch.Tensor | None = None,
 ) -> dict[str, Any]:
-    """Diagnostics of a trained attention model (evaluation mode), in the stored format."""
+    """Diagnostics of a trained attention model (evaluation mode), in the stored format;
+    `edge_attr` for a model that reads edge attributes."""
     network, x = attention_network(model, x)
     with torch.no_grad():
-        _, edges, weights = network.run(x, edge_index, keep_attention=True)
+        _, edges, weights = network.run(x, edge_index, keep_attention=True, edge_attr=edge_attr)
     nodes = x.size(0)
     records = []
     for layer, alpha in enumerate(weights, start=1):
@@ -133,19 +138,22 @@ def chunked_attention_diagnostics(
     x: torch.Tensor,
     edge_index: torch.Tensor,
     labels: torch.Tensor,
+    edge_attr: torch.Tensor | None = None,
     chunk_nodes: int = CHUNK_NODES,
 ) -> dict[str, Any]:
     """The same diagnostics in bounded memory: each layer runs over chunks of target nodes
     (harness.training.inference), and the per-node values are summed chunk by chunk."""
     network, h = attention_network(model, x)
     nodes = h.size(0)
-    edges, _ = network.message_edges(edge_index, nodes)
-    graph = ChunkedGraph(edges, None, nodes, chunk_nodes)
+    edges, attributes = network.edges_of(edge_index, nodes, edge_attr)
+    graph = ChunkedGraph(edges, attributes, nodes, chunk_nodes)
     records = []
     for layer in range(len(network.layers)):
         parts, sums, counts = [], {}, {}
         for chunk in graph.chunks():
-            out, alpha = network.attention_step(layer, h[chunk.local], chunk.edge_index)
+            out, alpha = network.attention_step(
+                layer, h[chunk.local], chunk.edge_index, graph.chunk_weights(chunk)
+            )
             parts.append(out[chunk.target_rows])
             for head in range(alpha.size(1)):
                 measured = node_measures(
