@@ -16,7 +16,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from harness.analysis.suite_report import analyse_store, node_breakdown
+from harness.api import analyse_store
+from harness.api import breakdown as node_breakdown
 from harness.cli import main
 from harness.execution.local import execute
 from harness.planning import expand, load_suite

@@ -27,6 +27,7 @@ from harness.schema.contenders import (
     EdgeConvolutionOptions,
     MLPOptions,
     NeighbourMeanOptions,
+    TransformerOptions,
 )
 from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.training import Training
@@ -39,6 +40,7 @@ KINDS = {
     "sage": NeighbourMeanOptions(model="sage"),
     "mlp": MLPOptions(model="mlp", layers=3),
     "gine": EdgeConvolutionOptions(model="gine"),
+    "transformer": TransformerOptions(model="transformer", heads=2, hidden=16),
 }
 
 
@@ -59,6 +61,7 @@ PINNED = {
     "mlp": (509812112.0, 507619318.4, 2920000.0),
     # pinned when the kind was registered
     "gine": (541588112.0, 520498678.4, 17380000.0),
+    "transformer": (1706528864.0, 550690912.0, 617400000.0),
 }
 
 

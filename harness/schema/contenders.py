@@ -117,8 +117,9 @@ class ContenderBase(StrictModel):
 
 
 def _attention_kinds() -> tuple[str, ...]:
-    """The kinds AttentionOptions serves (its `model` literal)."""
-    return get_args(AttentionOptions.model_fields["model"].annotation)
+    """The kinds AttentionOptions and its subclasses serve (their `model` literals)."""
+    classes = (AttentionOptions, *AttentionOptions.__subclasses__())
+    return tuple(name for c in classes for name in get_args(c.model_fields["model"].annotation))
 
 
 class AttentionOptions(ContenderBase):
@@ -218,6 +219,23 @@ class AttentionOptions(ContenderBase):
         if isinstance(self.head_merge, list):
             return list(self.head_merge)
         return [self.head_merge] * (self.layers - 1) + ["average"]
+
+
+class TransformerOptions(AttentionOptions):
+    """The graph transformer layer of Shi et al. (2021): scaled dot-product attention over
+    neighbours, edge attributes (with `edge_features`) in keys and values, and a gated skip
+    connection from each node's own features, which is always on."""
+
+    model: Literal["transformer"] = Field(
+        description=(
+            "transformer: the graph transformer layer (Shi et al. 2021, PyG's TransformerConv "
+            "with its gated skip connection)."
+        ),
+    )
+    residual: Literal[True] = Field(
+        True,
+        description="The gated skip connection: always on for transformer layers.",
+    )
 
 
 class ConvolutionOptions(ContenderBase):

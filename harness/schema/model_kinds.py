@@ -19,6 +19,7 @@ from harness.schema.contenders import (
     EdgeConvolutionOptions,
     MLPOptions,
     NeighbourMeanOptions,
+    TransformerOptions,
 )
 
 
@@ -90,6 +91,16 @@ MODEL_KINDS: dict[str, ModelKind] = {
         VECTOR_SCORES,
         **ATTENDING,
         layer=f"{LAYERS}:dot_product_layer",
+    ),
+    # dot-product scores plus the skip W_r h_i and its gate per node; the sparse kernel has no
+    # gate, and compiling it was not measured, so it never compiles automatically
+    "transformer": ModelKind(
+        TransformerOptions,
+        ATTENTION,
+        SavedFloats(node_inputs=2, node_outputs=7, edge_outputs=2, edge_scalars=6),
+        self_loops=True,
+        attends=True,
+        layer=f"{LAYERS}:transformer_layer",
     ),
     # D^{-1/2} (A + I) D^{-1/2}: a neighbour's degree counts its own neighbours, one hop on;
     # one normalised weight per edge
