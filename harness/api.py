@@ -34,8 +34,8 @@ from harness.analysis.suite_report import (
     graph_homophily,
     stored_homophily_map,
 )
-from harness.report.wording import headline_sentence as headline
-from harness.report.wording import with_reasons
+from harness.report.documents.wording import headline_sentence as headline
+from harness.report.documents.wording import with_reasons
 from harness.schema.analysis import Analysis
 from harness.storage.suite_runs import analysis_settings, named_suite, suite_runs
 

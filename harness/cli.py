@@ -168,6 +168,7 @@ def checked_cluster(args: argparse.Namespace) -> str | None:
 
 
 def parser() -> argparse.ArgumentParser:
+    from harness.report.formats import DESCRIBE_FORMATS, SHOW_FORMATS, options
     from harness.storage.database import locate
     from harness.storage.store import DEFAULT_STORE
 
@@ -271,7 +272,7 @@ def parser() -> argparse.ArgumentParser:
     with_suite(describe)
     describe.add_argument(
         "--format",
-        choices=("table", "json"),
+        choices=options(DESCRIBE_FORMATS),
         default="table",
         help="table for reading, json for scripts (default: %(default)s)",
     )
@@ -291,7 +292,7 @@ def parser() -> argparse.ArgumentParser:
     )
     show.add_argument(
         "--format",
-        choices=("table", "json", "csv", "md"),
+        choices=options(SHOW_FORMATS),
         default="table",
         help="table: per-contender summaries, ablation effects and verdicts; json, csv, md: "
         "one record per stored run (default: %(default)s)",

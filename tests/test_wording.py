@@ -13,7 +13,7 @@ from harness.analysis.breakdown import Breakdown
 from harness.analysis.stats import RecordedWarning
 from harness.analysis.suite_report import Incomplete
 from harness.api import analyse
-from harness.report.wording import (
+from harness.report.documents.wording import (
     breakdown_summary,
     headline_sentence,
     incomplete_line,

@@ -115,7 +115,7 @@ def graph_homophily(store_path: str | Path, suite: str) -> pd.DataFrame:
     from harness.storage.profiles import load_profiles
 
     profiles = load_profiles(store_path, suite)
-    if not profiles:
+    if not profiles or not profiles[-1].labelled:  # no data, or a task that reads no labels
         return pd.DataFrame(columns=["measure", "value"])
     measures = asdict(profiles[-1].homophily)
     return pd.DataFrame({"measure": list(measures), "value": list(measures.values())})

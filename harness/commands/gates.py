@@ -29,8 +29,8 @@ from harness.gate.compare import GateOutcome, evaluate
 from harness.gate.records import history_records
 from harness.output_files import write_output
 from harness.planning import RunSpec, expand
-from harness.report.gate_markdown import gate_markdown
-from harness.report.junit import write_junit
+from harness.report.documents.gate import gate_document
+from harness.report.formats import FORMATS
 from harness.schema.suite import Suite
 from harness.storage import gate_history
 from harness.storage.selection import spec_runs
@@ -133,9 +133,9 @@ def gate(
     )
     # the files first: one that cannot be written stops the gate (exit 2) before its history
     # is appended, so a rerun is not counted twice
-    if junit:
-        write_junit(junit, outcome)
-    if markdown:
-        write_output(markdown, gate_markdown(outcome))
+    document = gate_document(outcome)
+    for path, name in ((junit, "junit"), (markdown, "markdown")):
+        if path:
+            write_output(path, FORMATS[name].render(document))
     gate_history.append(store_path, history_records(outcome))
     return GateRun(store_path, executed, outcome)

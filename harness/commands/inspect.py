@@ -19,6 +19,7 @@ if TYPE_CHECKING:
     from harness.commands.tuned import TuningFrames
     from harness.data.profile import DatasetProfile
     from harness.execution.preflight import DataFacts
+    from harness.report.documents.document import Document
     from harness.storage.predictions import NodePredictions
 
 
@@ -141,16 +142,19 @@ class ReportOutcome:
     report: SuiteReport
     out: Path
     written: tuple[Path, ...]
+    document: Document | None = None  # what the files say, for the screen
     status: int = 0
 
 
 def report(chosen: SuiteRuns, out: Path) -> ReportOutcome:
     from harness.analysis.suite_report import analyse_store
-    from harness.report.files import write_report
-    from harness.report.trend import trend_png
+    from harness.report.documents.suite import suite_document
+    from harness.report.documents.trend import trend_png
+    from harness.report.formats.folder import prepared, write_report
     from harness.storage.gate_history import stored_history
 
     analysed = analyse_store(chosen)
+    out = prepared(out)  # before drawing: a bad folder fails fast
     trend = trend_png(stored_history(chosen.store, analysed.suite))
-    written = write_report(analysed, out, trend)
-    return ReportOutcome(analysed, out, tuple(written))
+    document = suite_document(analysed, drawn=True, trend=trend)
+    return ReportOutcome(analysed, out, tuple(write_report(document, out)), document)

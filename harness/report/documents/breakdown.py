@@ -1,4 +1,4 @@
-"""The per-node breakdown as report tables, and the report's tables and CSV frames with it.
+"""The per-node breakdown as report tables and CSV frames.
 
 Formatting only: every figure comes from the SuiteReport's Breakdown
 (harness.analysis.breakdown).
@@ -10,9 +10,9 @@ import pandas as pd
 
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, interval, p_text, percent, signed, signed_interval
-from harness.report.tables import all_tables, frames
-from harness.report.text_table import TextTable, _table, report_metric
-from harness.report.wording import breakdown_summary, with_reasons
+from harness.report.documents.document import Table, table
+from harness.report.documents.suite_facts import report_metric
+from harness.report.documents.wording import breakdown_summary, with_reasons
 
 TERMINAL_ROWS = 12
 
@@ -32,11 +32,9 @@ def _difference(row: object) -> list[str]:
     return [signed(row.difference, 2), interval_text, p_text(row.p_t_holm), row.verdict]
 
 
-def headline_table(
-    report: SuiteReport, rows: int | None = None, summary: bool = True
-) -> TextTable | None:
-    """The headline comparison per node group (the first `rows` rows, all when None); its
-    note starts with the breakdown's summary sentence unless `summary` is False."""
+def headline_table(report: SuiteReport) -> Table | None:
+    """The headline comparison per node group; its note starts with the breakdown's summary
+    sentence. A screen shows the first TERMINAL_ROWS rows."""
     nodes = report.breakdown
     if nodes is None or nodes.attention is None:
         return None
@@ -50,22 +48,30 @@ def headline_table(
         + _difference(r)
         for r in chosen.itertuples()
     ]
-    shown = lines if rows is None else lines[:rows]
     header = ["grouping", "group", "nodes", nodes.attention, nodes.baseline]
     header += ["difference (points)", f"{level} t-interval", "Holm p", "verdict"]
-    more = len(lines) - len(shown)
     note = (
-        (f"{breakdown_summary(nodes)} " if summary else "")
-        + "nodes: test nodes of the group per seed (mean). Columns 4 and 5: "
-        f"test {report_metric(report)} of each side on the group's nodes; difference: attention "
-        "minus baseline on shared seeds; Holm's adjustment runs over every group and comparison."
-        + (f" {more} more rows in csv/breakdown.csv." if more else "")
+        f"{breakdown_summary(nodes)} nodes: test nodes of the group per seed (mean). Columns 4 "
+        f"and 5: test {report_metric(report)} of each side on the group's nodes; difference: "
+        "attention minus baseline on shared seeds; Holm's adjustment runs over every group and "
+        "comparison."
     )
     title = f"Per-node breakdown: {nodes.attention} against {nodes.baseline}"
-    return _table("breakdown_headline", title, header, shown, note)
+    marks = [line[-1] for line in lines]
+    optional = ("nodes", nodes.attention, nodes.baseline)
+    return table(
+        "breakdown_headline",
+        title,
+        header,
+        lines,
+        note,
+        optional=optional,
+        marks=marks,
+        brief_rows=TERMINAL_ROWS,
+    )
 
 
-def comparison_rows_table(report: SuiteReport) -> TextTable:
+def comparison_rows_table(report: SuiteReport) -> Table:
     """Every comparison in every node group."""
     level = percent(report.settings.confidence)
     lines = [
@@ -74,10 +80,13 @@ def comparison_rows_table(report: SuiteReport) -> TextTable:
     ]
     header = ["attention", "baseline", "grouping", "group", "nodes", "difference (points)"]
     header += [f"{level} t-interval", "Holm p", "verdict"]
-    return _table("breakdown", "Per-node breakdown, every comparison", header, lines)
+    marks = [line[-1] for line in lines]
+    title = "Per-node breakdown, every comparison"
+    optional = ("nodes", "difference (points)", "Holm p")
+    return table("breakdown", title, header, lines, optional=optional, marks=marks)
 
 
-def group_table(report: SuiteReport) -> TextTable:
+def group_table(report: SuiteReport) -> Table:
     """Each variant's metric per node group with its t-interval."""
     groups = report.breakdown.groups
     variants = list(dict.fromkeys(groups["variant"]))
@@ -93,24 +102,25 @@ def group_table(report: SuiteReport) -> TextTable:
         lines.append([_grouping(grouping), group, f"{chosen['nodes'].mean():.0f}", *cells])
     note = f"Mean test {report_metric(report)} over seeds on the group's test nodes (t-interval)."
     header = ["grouping", "group", "nodes", *variants]
-    return _table("breakdown_groups", "Contenders by node group", header, lines, note)
+    return table("breakdown_groups", "Contenders by node group", header, lines, note)
 
 
-def report_tables(report: SuiteReport) -> list[TextTable]:
-    """The report's tables in reading order, the per-node breakdown last when present."""
-    tables = all_tables(report)
+def breakdown_tables(report: SuiteReport) -> list[Table]:
+    """The per-node breakdown's tables, when the suite has one: headline, groups, every
+    comparison."""
     headline = headline_table(report)
     if headline is None:
-        return tables
-    return [*tables, headline, group_table(report), comparison_rows_table(report)]
+        return []
+    return [headline, group_table(report), comparison_rows_table(report)]
 
 
-def report_frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
-    """The analysis DataFrames by CSV file stem; breakdown.csv holds every group comparison
-    (without the seeds that would settle each, which its reason says)."""
-    out = frames(report)
-    if report.breakdown is not None and not report.breakdown.comparisons.empty:
-        rows = with_reasons(report.breakdown.comparisons, report.settings, ("low", "high"))
-        out["breakdown"] = rows.drop(columns=["seeds_needed"])
-        out["breakdown_groups"] = report.breakdown.groups.drop(columns=["order"])
-    return out
+def breakdown_frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
+    """breakdown.csv holds every group comparison (without the seeds that would settle each,
+    which its reason says) and breakdown_groups.csv each variant per group."""
+    if report.breakdown is None or report.breakdown.comparisons.empty:
+        return {}
+    rows = with_reasons(report.breakdown.comparisons, report.settings, ("low", "high"))
+    return {
+        "breakdown": rows.drop(columns=["seeds_needed"]),
+        "breakdown_groups": report.breakdown.groups.drop(columns=["order"]),
+    }

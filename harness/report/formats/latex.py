@@ -1,12 +1,9 @@
-"""The report's tables as a LaTeX document with booktabs rules."""
+"""A Document's tables as a LaTeX document with booktabs rules, ready to copy into a paper."""
 
 from __future__ import annotations
 
-from harness.analysis.suite_report import SuiteReport
 from harness.formatting import visible
-from harness.report.breakdown import report_tables
-from harness.report.text_table import TextTable
-from harness.report.wording import headline_sentence, notices
+from harness.report.documents.document import Document, Table
 
 _SPECIAL = {
     "\\": r"\textbackslash{}",
@@ -34,12 +31,12 @@ def escape(text: str) -> str:
     return "".join(_SPECIAL.get(character, character) for character in visible(str(text)))
 
 
-def table(part: TextTable) -> str:
+def table(part: Table) -> str:
     columns = "".join("r" if right else "l" for right in part.right)
     lines = [
         r"\begin{table}[htbp]",
         r"\centering",
-        rf"\caption{{{escape(part.title)}}}",
+        *([rf"\caption{{{escape(part.title)}}}"] if part.title else []),
         r"\resizebox{\linewidth}{!}{%",
         rf"\begin{{tabular}}{{{columns}}}",
         r"\toprule",
@@ -48,15 +45,15 @@ def table(part: TextTable) -> str:
     ]
     lines += [" & ".join(escape(c) for c in row) + r" \\" for row in part.rows]
     lines += [r"\bottomrule", r"\end{tabular}}"]
-    if part.note:
-        lines.append(rf"\par\smallskip\footnotesize {escape(part.note)}")
+    lines += [rf"\par\smallskip\footnotesize {escape(t)}" for t in (part.note, part.legend) if t]
     lines.append(r"\end{table}")
     return "\n".join(lines)
 
 
-def render(report: SuiteReport) -> str:
-    """A standalone document; copy the table environments into a paper as they are."""
-    body = "\n\n".join(table(part) for part in report_tables(report))
+def render(document: Document) -> str:
+    """A standalone document: title, notices, headline and every table; copy the table
+    environments into a paper as they are."""
+    body = "\n\n".join(table(part) for part in document.tables)
     return "\n".join(
         [
             r"\documentclass{article}",
@@ -66,9 +63,9 @@ def render(report: SuiteReport) -> str:
             r"\usepackage{graphicx}",
             r"\usepackage[margin=2cm]{geometry}",
             r"\begin{document}",
-            rf"\section*{{Heedful report: {escape(report.suite)}}}",
-            *[rf"\textbf{{{escape(notice)}}}\par" for notice in notices(report)],
-            escape(headline_sentence(report)),
+            rf"\section*{{{escape(document.title)}}}",
+            *[rf"\textbf{{{escape(notice)}}}\par" for notice in document.notices],
+            escape(document.headline),
             "",
             body,
             r"\end{document}",

@@ -1,15 +1,14 @@
-"""Stored runs as JSON records, CSV or Markdown for `heedful show`."""
+"""Stored runs as a Document for `heedful show --format json|csv|md`: one record per run."""
 
 from __future__ import annotations
 
 import json
-import math
 from collections.abc import Mapping
 
 import pandas as pd
 
-from harness.formatting import visible
-from harness.report.markdown_text import escape
+from harness.formatting import missing
+from harness.report.documents.document import Document, table
 from harness.storage.store import TEST_COLUMNS
 from harness.training.fit import NodePredictions
 
@@ -55,18 +54,26 @@ def records(runs: pd.DataFrame) -> list[dict]:
 
 def _plain(value: object) -> object:
     """NaN becomes None so that the JSON output stays valid JSON."""
-    return None if isinstance(value, float) and math.isnan(value) else value
+    return None if missing(value) else value
 
 
-def as_json(runs: pd.DataFrame, predictions: Mapping[str, NodePredictions] | None = None) -> str:
-    """A JSON array with one object per run; with `predictions` (by run key), each record
-    also holds its test nodes and their class probabilities (null when none are stored)."""
+def records_document(
+    runs: pd.DataFrame, predictions: Mapping[str, NodePredictions] | None = None
+) -> Document:
+    """The runs as JSON-ready records (with `predictions` by run key, each record also holds
+    its test nodes and their class probabilities, null when none are stored), as one flat
+    frame (dicts as JSON text) and as a table without the long options and extras."""
     out = records(runs)
     if predictions is not None:
         for record in out:
             stored = predictions.get(record["key"])
             record["predictions"] = None if stored is None else stored.as_dict()
-    return json.dumps(out, indent=1, default=float)
+    frame = flat(runs)
+    shown = frame.drop(columns=["options", "extras"])  # too long for a table cell
+    rows = [[str(value) for value in row] for row in shown.itertuples(index=False)]
+    header = [str(column) for column in shown.columns]
+    part = table("runs", "", header, rows, right=(False,) * len(header))
+    return Document(title="", blocks=(part,), frames={"runs": frame}, data=out, name="runs")
 
 
 def flat(runs: pd.DataFrame) -> pd.DataFrame:
@@ -74,18 +81,3 @@ def flat(runs: pd.DataFrame) -> pd.DataFrame:
     for column in ("options", "point", "extras"):
         frame[column] = frame[column].map(lambda v: json.dumps(v, sort_keys=True))
     return frame
-
-
-def as_csv(runs: pd.DataFrame) -> str:
-    """The runs as CSV, hidden characters of text shown (harness.formatting.visible)."""
-    return flat(runs).map(lambda v: visible(v) if isinstance(v, str) else v).to_csv(index=False)
-
-
-def as_markdown(runs: pd.DataFrame) -> str:
-    frame = flat(runs).drop(columns=["options", "extras"])  # too long for a table cell
-    header = "| " + " | ".join(escape(c) for c in frame.columns) + " |"
-    rule = "| " + " | ".join("---" for _ in frame.columns) + " |"
-    body = [
-        "| " + " | ".join(escape(v) for v in row) + " |" for row in frame.itertuples(index=False)
-    ]
-    return "\n".join([header, rule, *body])

@@ -4,18 +4,13 @@ diagnostics, homophily, the homophily map and new-node arrival; each absent with
 from __future__ import annotations
 
 from harness.analysis.arrival import DIFFERENCE_LIMIT
+from harness.analysis.homophily_map import HomophilyMapSummary
 from harness.analysis.suite_report import SuiteReport
-from harness.formatting import fixed, interval, percent
-from harness.report.text_table import (
-    TextTable,
-    _table,
-    as_text,
-    column_table,
-    report_metric,
-)
+from harness.formatting import fixed, interval, metric_label, percent
+from harness.report.documents.document import Table, as_text, column_table, table
 
 
-def attention_table(report: SuiteReport) -> TextTable | None:
+def attention_table(report: SuiteReport) -> Table | None:
     if report.attention.empty:
         return None
 
@@ -38,25 +33,29 @@ def attention_table(report: SuiteReport) -> TextTable | None:
         "Means over layers, heads and seeds (harness.training.diagnostics). Entropy 1 is uniform "
         "attention; in brackets what uniform attention over the same neighbours would give."
     )
-    return _table("attention", "Attention diagnostics", header, rows, note)
+    return table("attention", "Attention diagnostics", header, rows, note)
 
 
-def homophily_table(report: SuiteReport) -> TextTable | None:
+def homophily_table(report: SuiteReport) -> Table | None:
     if report.homophily.empty:
         return None
     rows = [[r.measure.replace("_", " "), fixed(r.value)] for r in report.homophily.itertuples()]
     note = "Of the suite's graph, from its stored dataset profile."
-    return _table("homophily", "Graph homophily", ["measure", "value"], rows, note)
+    return table("homophily", "Graph homophily", ["measure", "value"], rows, note)
 
 
-def homophily_map_table(report: SuiteReport) -> TextTable | None:
-    summary = report.homophily_map
+def homophily_map_table(summary: HomophilyMapSummary | None) -> Table | None:
+    """Each contender's mean test metric per edge homophily level of the matched synthetic
+    graphs, and where the suite's data lies."""
     if summary is None:
         return None
     frame = summary.table
     contenders = list(dict.fromkeys(frame["contender"]))
     rows = []
+    data = summary.data_edge_homophily
     for level, group in frame.groupby("level", sort=True):
+        if data < level and not any(row[0].startswith("your data") for row in rows):
+            rows.append([f"your data {data:.3f}"] + [""] * len(contenders))
         by_name = {r.contender: r for r in group.itertuples()}
         rows.append(
             [f"{level:g}"]
@@ -67,17 +66,19 @@ def homophily_map_table(report: SuiteReport) -> TextTable | None:
                 for c in contenders
             ]
         )
+    if not any(row[0].startswith("your data") for row in rows):
+        rows.append([f"your data {data:.3f}"] + [""] * len(contenders))
     note = (
-        f"Mean test {report_metric(report)} (t-interval) on synthetic graphs matched to the "
+        f"Mean test {metric_label(summary.metric)} (t-interval) on synthetic graphs matched to the "
         f"suite's data; the data's edge homophily is {summary.data_edge_homophily:.3f}, "
         f"nearest level {summary.nearest_level:g}, where the best contender is "
         f"{summary.best_at_nearest}."
     )
     header = ["edge homophily", *contenders]
-    return _table("homophily_map", "Homophily map", header, rows, note)
+    return table("homophily_map", "Homophily map", header, rows, note)
 
 
-def arrival_table(report: SuiteReport) -> TextTable | None:
+def arrival_table(report: SuiteReport) -> Table | None:
     """New-node arrival of an inductive suite: update against full recompute, per variant."""
     if report.arrival.empty:
         return None

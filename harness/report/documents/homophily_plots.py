@@ -7,7 +7,7 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from harness.analysis.suite_report import SuiteReport
-from harness.report.text_table import report_metric
+from harness.report.documents.suite_facts import report_metric
 
 
 def _map_panel(axes, report: SuiteReport) -> None:

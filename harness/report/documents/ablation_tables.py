@@ -4,16 +4,11 @@ from __future__ import annotations
 
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, interval, percent, signed, signed_interval
-from harness.report.text_table import (
-    TextTable,
-    _table,
-    as_text,
-    column_table,
-    report_metric,
-)
+from harness.report.documents.document import Table, as_text, column_table, table
+from harness.report.documents.suite_facts import report_metric
 
 
-def axis_table(report: SuiteReport) -> TextTable:
+def axis_table(report: SuiteReport) -> Table:
     columns = [as_text("contender"), as_text("rank"), as_text("axis"), as_text("levels")]
     columns += [
         as_text("best level", "best_level"),
@@ -25,7 +20,7 @@ def axis_table(report: SuiteReport) -> TextTable:
     return column_table("ablation_axes", title, report.ablation.axes, columns)
 
 
-def level_table(report: SuiteReport) -> TextTable:
+def level_table(report: SuiteReport) -> Table:
     level = percent(report.settings.confidence)
     columns = [as_text("contender"), as_text("axis"), as_text("level"), as_text("seeds")]
     columns += [
@@ -41,7 +36,7 @@ def effect_interval(row: object) -> str:
     return signed_interval(row.effect_low, row.effect_high)
 
 
-def interaction_tables(report: SuiteReport) -> list[TextTable]:
+def interaction_tables(report: SuiteReport) -> list[Table]:
     """One grid per contender: cell mean and interaction residual (points)."""
     frame = report.ablation.interactions
     tables = []
@@ -59,5 +54,5 @@ def interaction_tables(report: SuiteReport) -> list[TextTable]:
         header = [f"{first} (rows) by {second}", *columns]
         note = "Cell: mean test metric (interaction residual in points)."
         title = f"Interaction of {first} and {second} for {contender}"
-        tables.append(_table(f"interaction_{len(tables) + 1}", title, header, rows, note))
+        tables.append(table(f"interaction_{len(tables) + 1}", title, header, rows, note))
     return tables

@@ -15,9 +15,9 @@ from matplotlib.figure import Figure
 
 from harness.analysis.suite_report import SuiteReport
 from harness.analysis.verdict import BETTER, INCONCLUSIVE, NO_DIFFERENCE, WORSE
-from harness.formatting import percent
-from harness.report.homophily_plots import homophily_plot
-from harness.report.text_table import report_metric
+from harness.formatting import missing, percent
+from harness.report.documents.homophily_plots import homophily_plot
+from harness.report.documents.suite_facts import report_metric
 
 SIDE_COLOURS = {"attention": "#c2571a", "baseline": "#2f6f9f"}
 VERDICT_COLOURS = {
@@ -54,7 +54,7 @@ def contender_plot(report: SuiteReport) -> Figure:
         seeds = report.runs.loc[report.runs["variant"] == row.variant, "test_metric"]
         colour = SIDE_COLOURS[row.side]
         axes.scatter(seeds, np.full(len(seeds), position), s=14, alpha=0.45, color=colour)
-        if np.isfinite(row.t_low):
+        if not missing(row.t_low):
             axes.plot([row.t_low, row.t_high], [position, position], color=colour, lw=2.5)
         axes.plot(row.mean, position, marker="D", color=colour, markersize=7)
     axes.set_yticks(range(len(table)), list(table["variant"]))
@@ -75,7 +75,7 @@ def difference_plot(report: SuiteReport) -> Figure:
     axes.axvline(0, color="#455a64", lw=0.8)
     for position, row in enumerate(table.itertuples()):
         colour = VERDICT_COLOURS[row.verdict]
-        if np.isfinite(row.t_low):
+        if not missing(row.t_low):
             axes.plot([row.t_low, row.t_high], [position, position], color=colour, lw=2.5)
         axes.plot(row.mean_difference, position, "o", color=colour, label=row.verdict)
     labels = [f"{r.attention} − {r.baseline}" for r in table.itertuples()]
@@ -192,7 +192,7 @@ def breakdown_plot(report: SuiteReport) -> Figure:
         axes.axhline(0, color="#455a64", lw=0.8)
         for position, row in enumerate(group.itertuples()):
             colour = VERDICT_COLOURS[row.verdict]
-            if np.isfinite(row.low):
+            if not missing(row.low):
                 axes.plot([position, position], [row.low, row.high], color=colour, lw=2.5)
             axes.plot(position, row.difference, "o", color=colour, label=row.verdict)
         axes.set_xticks(range(len(group)), list(group["group"]), rotation=30, ha="right")

@@ -1,33 +1,29 @@
-"""The report's tables as rows of text, shared by the Markdown, LaTeX, HTML and terminal
-renderers: contenders, comparisons and cost here, the rest in ablation_tables and
-diagnostic_tables, the sentences in wording. Formatting only: every figure comes from a
-SuiteReport (harness.analysis.suite_report)."""
+"""The suite report's tables as rows of text: contenders, comparisons and cost here, the rest
+in ablation_tables, diagnostic_tables and breakdown, the sentences in wording. Formatting
+only: every figure comes from a SuiteReport (harness.analysis.suite_report)."""
 
 from __future__ import annotations
+
+from dataclasses import replace
 
 import pandas as pd
 
 from harness.analysis.suite_report import SuiteReport
 from harness.formatting import fixed, interval, p_text, percent, signed, signed_interval
-from harness.report.ablation_tables import axis_table, interaction_tables, level_table
-from harness.report.diagnostic_tables import (
+from harness.report.documents.ablation_tables import axis_table, interaction_tables, level_table
+from harness.report.documents.breakdown import breakdown_frames, breakdown_tables
+from harness.report.documents.diagnostic_tables import (
     arrival_table,
     attention_table,
     homophily_map_table,
     homophily_table,
 )
-from harness.report.text_table import (
-    TextTable,
-    _table,
-    as_text,
-    column_table,
-    points,
-    report_metric,
-)
-from harness.report.wording import with_reasons
+from harness.report.documents.document import Table, as_text, column_table, table
+from harness.report.documents.suite_facts import points, report_metric
+from harness.report.documents.wording import with_reasons
 
 
-def contender_table(report: SuiteReport) -> TextTable:
+def contender_table(report: SuiteReport) -> Table:
     level = percent(report.settings.confidence)
     columns = [as_text("contender", "variant"), as_text("model"), as_text("side"), as_text("seeds")]
     columns += [
@@ -37,10 +33,12 @@ def contender_table(report: SuiteReport) -> TextTable:
         (f"{level} t-interval", lambda r: interval(r.t_low, r.t_high)),
         (f"{level} bootstrap", lambda r: interval(r.bootstrap_low, r.bootstrap_high)),
     ]
-    return column_table("contenders", "Contenders over seeds", report.contenders, columns)
+    optional = ("median", "min to max", f"{level} bootstrap")
+    title = "Contenders over seeds"
+    return column_table("contenders", title, report.contenders, columns, optional=optional)
 
 
-def comparison_table(report: SuiteReport) -> TextTable:
+def comparison_table(report: SuiteReport) -> Table:
     level = percent(report.settings.confidence)
     columns = [as_text("attention"), as_text("baseline"), as_text("seeds")]
     columns += [
@@ -59,10 +57,14 @@ def comparison_table(report: SuiteReport) -> TextTable:
         f"seeds; minimum gain that matters: {points(report.settings.minimum_gain)}; Holm's "
         "adjustment runs over all comparisons of the suite."
     )
-    return column_table("comparisons", "Paired comparisons", report.comparisons, columns, note)
+    optional = ("seeds", f"{level} bootstrap", "t (df)", "p", "Wilcoxon p", "d_z")
+    part = column_table(
+        "comparisons", "Paired comparisons", report.comparisons, columns, note, optional
+    )
+    return replace(part, marks=tuple(row[-1] for row in part.rows))
 
 
-def cost_table(report: SuiteReport) -> TextTable:
+def cost_table(report: SuiteReport) -> Table:
     def mark(flag: bool) -> str:
         return "yes" if flag else ""
 
@@ -84,18 +86,20 @@ def cost_table(report: SuiteReport) -> TextTable:
     header = ["contender", "model", f"mean {report_metric(report)}", "s/epoch", "params"]
     header += ["peak MB", "Pareto (all)", "Pareto (time)", "Pareto (params)", "Pareto (memory)"]
     note = "Pareto: no other contender is at least as good and at least as cheap."
-    return _table("cost", "Cost trade-off", header, rows, note)
+    optional = ("Pareto (time)", "Pareto (params)", "Pareto (memory)")
+    return table("cost", "Cost trade-off", header, rows, note, optional=optional)
 
 
-def all_tables(report: SuiteReport) -> list[TextTable]:
-    """The report's tables in reading order; absent analyses are left out."""
+def all_tables(report: SuiteReport) -> list[Table]:
+    """Every table of the report in reading order, the per-node breakdown last; absent
+    analyses are left out."""
     tables = [contender_table(report), comparison_table(report)]
     if not report.ablation.axes.empty:
         tables += [axis_table(report), level_table(report), *interaction_tables(report)]
     tables.append(cost_table(report))
     extra = [attention_table(report), arrival_table(report), homophily_table(report)]
-    extra.append(homophily_map_table(report))
-    return tables + [part for part in extra if part is not None]
+    extra.append(homophily_map_table(report.homophily_map))
+    return tables + [part for part in extra if part is not None] + breakdown_tables(report)
 
 
 def frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
@@ -114,4 +118,6 @@ def frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
             report.homophily_map.table if report.homophily_map is not None else pd.DataFrame()
         ),
     }
-    return {name: frame for name, frame in out.items() if not frame.empty}
+    return {name: frame for name, frame in out.items() if not frame.empty} | breakdown_frames(
+        report
+    )
