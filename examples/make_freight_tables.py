@@ -74,8 +74,8 @@ def main() -> None:
     nodes, supplier = members(rng)
     edges = shipments(rng, list(nodes["member_id"]), supplier)
     FOLDER.mkdir(exist_ok=True)
-    nodes.to_csv(FOLDER / "members.csv", index=False)
-    edges.to_csv(FOLDER / "shipments.csv", index=False)
+    for name, table in (("members", nodes), ("shipments", edges)):
+        table.to_csv(FOLDER / f"{name}.csv", index=False)
     print(f"wrote {len(nodes)} members and {len(edges)} shipments to {FOLDER}")
 
 
