@@ -18,11 +18,12 @@ from harness.data.synthetic import contextual_sbm
 from harness.data.tables import load_tables
 from harness.errors import InputError
 from harness.models import build_model
-from harness.planning import parse_suite
+from harness.planning import expand, parse_suite
 from harness.report.documents.profile import profile_rows
 from harness.schema.base import key_dump
 from harness.schema.contenders import AttentionOptions, EdgeConvolutionOptions
 from harness.schema.data import SyntheticData
+from harness.training.fit import perform
 from harness.training.inference import chunked_logits
 
 NODES = """\
@@ -212,3 +213,33 @@ def test_stored_edge_type_shares_become_a_report_table() -> None:
     assert rail["attention_share"] == pytest.approx(0.7)  # mean over the two seeds
     assert rail["ratio"] == pytest.approx(0.7 / 0.25)
     assert len(frame) == 2
+
+
+@pytest.mark.parametrize(
+    ("model", "training", "setting"),
+    [
+        (
+            {"model": "gat", "edge_features": True, "heads": 2},
+            {"batching": "sampled", "fanout": "all"},
+            None,
+        ),
+        ({"model": "gine"}, {"batching": "sampled", "fanout": [3, 3]}, None),
+        ({"model": "transformer", "edge_features": True, "heads": 2}, {}, "inductive"),
+    ],
+)
+def test_runs_over_typed_edges_train_sampled_and_inductive(
+    tmp_path: Path, model: dict, training: dict, setting: str | None
+) -> None:
+    """Edge attributes travel with sampled batches (drawn edges keep their rows) and into the
+    training subgraph of inductive runs; the attention runs store the edge-type diagnostic."""
+    data = {"source": "synthetic", "nodes": 120, "classes": 3, "edge_types": 3}
+    raw = suite_raw(data, {"contender": model}, training={"epochs": 3, **training})
+    if setting:
+        raw["setting"] = setting
+    spec = expand(parse_suite(raw, str(tmp_path / "suite.toml")))[0]
+    result = perform(spec)
+    assert 0.0 <= result.test_metric <= 1.0
+    if "heads" in model:
+        shares = result.extras["attention"]["edge_types"]["heads"]
+        assert len(shares) == 2 * 2  # two layers, two heads
+        assert all(sum(record["edge_share"]) == pytest.approx(1.0) for record in shares)
