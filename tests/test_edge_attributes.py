@@ -243,3 +243,10 @@ def test_runs_over_typed_edges_train_sampled_and_inductive(
         shares = result.extras["attention"]["edge_types"]["heads"]
         assert len(shares) == 2 * 2  # two layers, two heads
         assert all(sum(record["edge_share"]) == pytest.approx(1.0) for record in shares)
+
+
+def test_link_prediction_refuses_contenders_that_read_edge_attributes(tmp_path: Path) -> None:
+    data = {"source": "synthetic", "nodes": 60, "edge_types": 2}
+    raw = suite_raw(data, {"convolution": {"model": "gine"}}, task="link_prediction")
+    with pytest.raises(InputError, match="link prediction does not pass to models yet"):
+        parse_suite(raw, str(tmp_path / "suite.toml"))
