@@ -25,6 +25,7 @@ from harness.schema.contenders import (
     AttentionOptions,
     ConvolutionOptions,
     EdgeConvolutionOptions,
+    GlobalAttentionOptions,
     MLPOptions,
     NeighbourMeanOptions,
     TransformerOptions,
@@ -41,6 +42,7 @@ KINDS = {
     "mlp": MLPOptions(model="mlp", layers=3),
     "gine": EdgeConvolutionOptions(model="gine"),
     "transformer": TransformerOptions(model="transformer", heads=2, hidden=16),
+    "global_attention": GlobalAttentionOptions(model="global_attention", hidden=32, heads=2),
 }
 
 
@@ -62,6 +64,7 @@ PINNED = {
     # pinned when the kind was registered
     "gine": (541588112.0, 520498678.4, 17380000.0),
     "transformer": (1706528864.0, 550690912.0, 617400000.0),
+    "global_attention": (573556112.0, 551597148.8, 37360000.0),
 }
 
 

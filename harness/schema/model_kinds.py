@@ -17,6 +17,7 @@ from harness.schema.contenders import (
     ContenderBase,
     ConvolutionOptions,
     EdgeConvolutionOptions,
+    GlobalAttentionOptions,
     MLPOptions,
     NeighbourMeanOptions,
     TransformerOptions,
@@ -50,7 +51,7 @@ class ModelKind:
     layer(options, in_width, out_width_per_head, heads, concatenate, edge_width) -> torch
     module (edge_width 0: no edge attributes).
     `sparse_kernel`: its layers can run on harness.models.sparse_layers (`kernel` in
-    [training])."""
+    [training]). `global_reach`: its layers read every node of the graph, not hops."""
 
     options: type[ContenderBase]  # pydantic class with `model: Literal[<kind name>, ...]`
     builder: str  # "module:function", build(options, in_dim, out_dim) -> torch module
@@ -62,6 +63,7 @@ class ModelKind:
     compile_payback: float | None = None
     layer: str | None = None
     sparse_kernel: bool = False
+    global_reach: bool = False
 
 
 ATTENTION = "harness.models.attention:build"
@@ -124,6 +126,15 @@ MODEL_KINDS: dict[str, ModelKind] = {
         "harness.models.edge_convolution:build",
         SavedFloats(node_inputs=2, node_outputs=5, edge_outputs=1),
         compile_payback=None,
+    ),
+    # the GINE part per edge and node and the attention's per node: torch's fused attention
+    # keeps no score per node pair (measured); its time grows with nodes squared
+    # (harness.schema.batching refuses large graphs). Compiling was not measured: never auto
+    "global_attention": ModelKind(
+        GlobalAttentionOptions,
+        "harness.models.global_attention:build",
+        SavedFloats(node_inputs=2, node_outputs=32, edge_outputs=1),
+        global_reach=True,
     ),
     "mlp": ModelKind(
         MLPOptions,
