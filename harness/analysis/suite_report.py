@@ -3,7 +3,7 @@ and loading a suite's current runs from the store."""
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -14,6 +14,7 @@ from harness.analysis.ablation_effects import AblationEffects, ablation_effects
 from harness.analysis.arrival import arrival_summary
 from harness.analysis.breakdown import Breakdown, breakdown
 from harness.analysis.cost import cost_tradeoff
+from harness.analysis.edge_type_attention import edge_type_attention
 from harness.analysis.stats import (
     RecordedWarning,
     describe,
@@ -69,6 +70,8 @@ class SuiteReport:
     # said before everything else: runs of the suite not stored yet, warnings recorded in runs
     incomplete: Incomplete | None = None
     warnings: tuple[RecordedWarning, ...] = ()
+    # attention share per edge type against edge share (edge_type_attention); may be empty
+    edge_types: pd.DataFrame = field(default_factory=pd.DataFrame)
 
 
 def stored_runs(chosen: SuiteRuns) -> pd.DataFrame:
@@ -178,6 +181,7 @@ def analyse(
         breakdown=nodes,
         incomplete=missing,
         warnings=recorded_warnings(runs),
+        edge_types=edge_type_attention(runs),
     )
 
 

@@ -36,6 +36,30 @@ def attention_table(report: SuiteReport) -> Table | None:
     return table("attention", "Attention diagnostics", header, rows, note)
 
 
+def edge_type_table(report: SuiteReport) -> Table | None:
+    """Share of attention per edge type against its share of edges, per layer and head."""
+    frame = report.edge_types
+    if frame.empty:
+        return None
+    rows = [
+        [
+            r.variant,
+            f"{r.layer}/{r.head}",
+            str(r.edge_type),
+            f"{fixed(r.attention_share)} ({fixed(r.edge_share)})",
+            "-" if r.ratio != r.ratio else f"{fixed(r.ratio, 2)}x",
+        ]
+        for r in frame.itertuples()
+    ]
+    header = ["contender", "layer/head", "edge type", "attention share (edge share)", "ratio"]
+    note = (
+        "Mean over nodes and seeds of the share of each node's attention on its edges of each "
+        "type; in brackets the type's share of the node's edges, what uniform attention gives. "
+        "Ratio above 1: attention favours that type (harness.training.edge_type_shares)."
+    )
+    return table("edge_types", "Attention per edge type", header, rows, note)
+
+
 def homophily_table(report: SuiteReport) -> Table | None:
     if report.homophily.empty:
         return None

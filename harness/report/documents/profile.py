@@ -47,6 +47,11 @@ def profile_rows(profile: DatasetProfile) -> list[list[str]]:
                 f"{h.class_insensitive:.3f}, adjusted {h.adjusted:.3f}",
             ]
         )
+    if profile.edge_attributes:
+        rows.append(["edge attributes", ", ".join(profile.edge_attributes)])
+    for name, (count, share) in profile.edge_type_homophily.items():
+        measured = "no labelled edges" if share is None else f"edge homophily {share:.3f}"
+        rows.append([f"edge type {name}", f"{count} edges, {measured}"])
     return rows
 
 

@@ -15,6 +15,7 @@ from harness.report.documents.breakdown import breakdown_frames, breakdown_table
 from harness.report.documents.diagnostic_tables import (
     arrival_table,
     attention_table,
+    edge_type_table,
     homophily_map_table,
     homophily_table,
 )
@@ -98,7 +99,8 @@ def all_tables(report: SuiteReport) -> list[Table]:
     if not report.ablation.axes.empty:
         tables += [axis_table(report), level_table(report), *interaction_tables(report)]
     tables.append(cost_table(report))
-    extra = [attention_table(report), arrival_table(report), homophily_table(report)]
+    extra = [attention_table(report), edge_type_table(report), arrival_table(report)]
+    extra.append(homophily_table(report))
     extra.append(homophily_map_table(report.homophily_map))
     return tables + [part for part in extra if part is not None] + breakdown_tables(report)
 
@@ -113,6 +115,7 @@ def frames(report: SuiteReport) -> dict[str, pd.DataFrame]:
         "ablation_interactions": report.ablation.interactions,
         "cost": report.cost,
         "attention": report.attention,
+        "edge_types": report.edge_types,
         "arrival": report.arrival,
         "homophily": report.homophily,
         "homophily_map": (

@@ -18,7 +18,7 @@ from harness.formatting import (
     signed_interval,
 )
 from harness.report.documents.breakdown import headline_table
-from harness.report.documents.diagnostic_tables import arrival_table
+from harness.report.documents.diagnostic_tables import arrival_table, edge_type_table
 from harness.report.documents.document import Block, Document, Items, Table, table
 from harness.report.documents.suite_tables import comparison_table
 from harness.report.documents.wording import headline_sentence, notices, reasons, warning_line
@@ -150,8 +150,8 @@ def suite_view(
     ]
     if report is None:
         return Document(title=f"Suite: {suite}", notices=tuple(warnings), blocks=tuple(blocks))
-    arrival = arrival_table(report)
-    blocks += ([arrival] if arrival is not None else []) + verdict_blocks(report)
+    shown = [part for part in (edge_type_table(report), arrival_table(report)) if part is not None]
+    blocks += shown + verdict_blocks(report)
     return Document(
         title=f"Suite: {suite}",
         headline=headline_sentence(report),
