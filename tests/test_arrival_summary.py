@@ -84,7 +84,8 @@ def test_run_of_an_inductive_suite_prints_the_arrival_table(write_suite, tmp_pat
     store = tmp_path / "runs.db"
     assert main(["run", str(suite), "--store", str(store), "--quiet"]) == 0
     out = " ".join(capsys.readouterr().out.split())
-    assert "New-node arrival" in out and "update ms/node (95% t)" in out
+    assert "New-node arrival" in out and "update ms/node" in out
+    assert "Milliseconds per node: mean with its 95% t-interval in brackets" in out
     assert "neighbours 2 2 " in out  # two seeds, radius 2 (two layers, one hop)
     report_folder = tmp_path / "report"
     assert main(["report", str(suite), "--out", str(report_folder), "--store", str(store)]) == 0

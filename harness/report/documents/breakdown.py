@@ -94,13 +94,17 @@ def group_table(report: SuiteReport) -> Table:
     for (grouping, _, group), chosen in groups.groupby(["grouping", "order", "group"]):
         by_variant = {r.variant: r for r in chosen.itertuples()}
         cells = [
-            f"{fixed(by_variant[v].mean)} ({interval(by_variant[v].low, by_variant[v].high)})"
+            f"{fixed(by_variant[v].mean)} ({interval(by_variant[v].low, by_variant[v].high)}"
+            + (" clipped)" if by_variant[v].clipped else ")")
             if v in by_variant
             else "-"
             for v in variants
         ]
         lines.append([_grouping(grouping), group, f"{chosen['nodes'].mean():.0f}", *cells])
-    note = f"Mean test {report_metric(report)} over seeds on the group's test nodes (t-interval)."
+    note = (
+        f"Mean test {report_metric(report)} over seeds on the group's test nodes (t-interval; "
+        "clipped: it passed the metric's possible range 0 to 1 and is shown cut there)."
+    )
     header = ["grouping", "group", "nodes", *variants]
     return table("breakdown_groups", "Contenders by node group", header, lines, note)
 

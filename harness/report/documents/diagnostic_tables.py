@@ -30,8 +30,8 @@ def attention_table(report: SuiteReport) -> Table | None:
     header = ["contender", "runs", "entropy / uniform", "self share (uniform)"]
     header.append("same label share (chance)")
     note = (
-        "Means over layers, heads and seeds (harness.training.diagnostics). Entropy 1 is uniform "
-        "attention; in brackets what uniform attention over the same neighbours would give."
+        "Means over layers, heads and seeds. Entropy 1 is uniform attention; in brackets what "
+        "uniform attention over the same neighbours would give."
     )
     return table("attention", "Attention diagnostics", header, rows, note)
 
@@ -110,11 +110,11 @@ def arrival_table(report: SuiteReport) -> Table | None:
     columns = [as_text("contender", "variant"), as_text("seeds"), as_text("radius")]
     columns += [
         (
-            f"update ms/node ({level} t)",
+            "update ms/node",
             lambda r: f"{fixed(r.update_ms)} ({interval(r.update_low, r.update_high)})",
         ),
         (
-            f"full recompute ms/node ({level} t)",
+            "full recompute ms/node",
             lambda r: f"{fixed(r.full_ms)} ({interval(r.full_low, r.full_high)})",
         ),
         ("speed-up", lambda r: f"{fixed(r.speed_up, 2)}x"),
@@ -124,6 +124,7 @@ def arrival_table(report: SuiteReport) -> Table | None:
         ),
     ]
     note = (
+        f"Milliseconds per node: mean with its {level} t-interval in brackets. "
         "Held-out nodes join the training graph in batches; after each, only outputs within the "
         "radius are recomputed (update) and checked against a full recompute. Speed-up: mean "
         f"full time over mean update time. A largest difference above {DIFFERENCE_LIMIT:g} "

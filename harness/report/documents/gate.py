@@ -133,7 +133,7 @@ def history_document(history: pd.DataFrame, suite: str, last: int = 20) -> Docum
             ]
         )
         marks.append(str(latest["contender_status"]))
-    header = ["contender", "gates", f"test {metric}", "s/epoch", "peak MB", "verdicts"]
+    header = ["contender", "gates", f"test {metric}", "s/epoch", "tensor MiB", "verdicts"]
     runs = f"{gates} gate run{'s' if gates != 1 else ''}"
     title = f"Gate history: {suite}, {runs}, {first} to {final} UTC"
     note = "Latest value, then one mark per gate run, oldest first."

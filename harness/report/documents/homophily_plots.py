@@ -7,6 +7,7 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from harness.analysis.suite_report import SuiteReport
+from harness.report.documents.palette import AXIS, GUIDE, SIDES
 from harness.report.documents.suite_facts import report_metric
 
 
@@ -19,7 +20,7 @@ def _map_panel(axes, report: SuiteReport) -> None:
         axes.fill_between(
             group["level"], group["low"], group["high"], alpha=0.15, color=line.get_color()
         )
-    axes.axvline(summary.data_edge_homophily, color="#455a64", ls="--", lw=1)
+    axes.axvline(summary.data_edge_homophily, color=AXIS, ls="--", lw=1)
     axes.annotate(
         "your data",
         (summary.data_edge_homophily, 1.0),
@@ -36,30 +37,58 @@ def _map_panel(axes, report: SuiteReport) -> None:
 
 def _graph_panel(axes, report: SuiteReport) -> None:
     measures = report.homophily
-    axes.barh(range(len(measures)), measures["value"], color="#2f6f9f")
+    axes.barh(range(len(measures)), measures["value"], color=SIDES["baseline"])
     axes.set_yticks(range(len(measures)), [m.replace("_", " ") for m in measures["measure"]])
     axes.invert_yaxis()
-    axes.axvline(0, color="#455a64", lw=0.8)
+    axes.axvline(0, color=AXIS, lw=0.8)
     axes.set_title("graph homophily (stored profile)", fontsize=9)
 
 
 def _attention_panel(axes, report: SuiteReport) -> None:
     table = report.attention
-    axes.plot([0, 1], [0, 1], color="#9e9e9e", lw=1, ls="--")
-    axes.scatter(table["neighbour_homophily"], table["same_label_share"], color="#c2571a")
-    for row in table.itertuples():
-        axes.annotate(
-            row.variant,
-            (row.neighbour_homophily, row.same_label_share),
-            fontsize=7,
-            xytext=(4, 3),
-            textcoords="offset points",
-        )
+    axes.plot([0, 1], [0, 1], color=GUIDE, lw=1, ls="--")
+    axes.scatter(table["neighbour_homophily"], table["same_label_share"], color=SIDES["attention"])
     axes.set_xlim(0, 1)
     axes.set_ylim(0, 1)
+    points = zip(table["neighbour_homophily"], table["same_label_share"], strict=True)
+    place_labels(axes, list(points), list(table["variant"]))
     axes.set_xlabel("same-label share of neighbours (uniform attention)")
     axes.set_ylabel("same-label share of attention")
     axes.set_title("attention against the graph", fontsize=9)
+
+
+def homophily_title(report: SuiteReport) -> str:
+    """What the homophily plot shows, named by its panels: the homophily map only when the
+    suite ran one."""
+    shown = ["homophily map"] if report.homophily_map is not None else []
+    shown += ["graph homophily"] if not report.homophily.empty else []
+    shown += ["attention against the graph"] if not report.attention.empty else []
+    text = ", ".join(shown[:-1]) + (" and " if len(shown) > 1 else "") + shown[-1]
+    return text[0].upper() + text[1:]
+
+
+def place_labels(axes, points: list[tuple[float, float]], names: list[str]) -> None:
+    """Each point's name beside it; a name that would overlap one already placed moves down a
+    line (measured in points, from where the axes draw each point)."""
+    size, placed = 7.0, []
+    scale = 72.0 / axes.figure.dpi  # display pixels to typographic points
+    order = sorted(range(len(names)), key=lambda i: (-points[i][1], points[i][0]))
+    for i in order:
+        x, y = (value * scale for value in axes.transData.transform(points[i]))
+        width, offset = 0.6 * size * len(str(names[i])), 3.0
+        while any(
+            abs(x - other_x) < max(width, other_width) and abs(y + offset - other_y) < size + 1
+            for other_x, other_y, other_width in placed
+        ):
+            offset -= size + 1
+        placed.append((x, y + offset, width))
+        axes.annotate(
+            names[i],
+            points[i],
+            fontsize=size,
+            xytext=(4, offset),
+            textcoords="offset points",
+        )
 
 
 def homophily_plot(report: SuiteReport) -> Figure:
@@ -79,7 +108,6 @@ def homophily_plot(report: SuiteReport) -> Figure:
     figure = Figure(figsize=(4.8 * len(panels), 3.9))
     for axes, draw in zip(np.atleast_1d(figure.subplots(1, len(panels))), panels, strict=True):
         draw(axes, report)
-    mapped = report.homophily_map is not None
-    figure.suptitle("Homophily map" if mapped else "Homophily of the graph and of attention")
+    figure.suptitle(homophily_title(report))
     figure.tight_layout()
     return figure

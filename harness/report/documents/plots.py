@@ -14,24 +14,29 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from harness.analysis.suite_report import SuiteReport
-from harness.analysis.verdict import BETTER, INCONCLUSIVE, NO_DIFFERENCE, WORSE
 from harness.formatting import missing, percent
-from harness.report.documents.homophily_plots import homophily_plot
+from harness.report.documents.homophily_plots import homophily_plot, homophily_title, place_labels
+from harness.report.documents.palette import (
+    AXIS,
+    BAND,
+    CYCLE,
+    GUIDE,
+    INK,
+    SERIES,
+    SIDES,
+    VERDICTS,
+)
 from harness.report.documents.suite_facts import report_metric
 
-SIDE_COLOURS = {"attention": "#c2571a", "baseline": "#2f6f9f"}
-VERDICT_COLOURS = {
-    BETTER: "#2e7d32",
-    WORSE: "#b71c1c",
-    NO_DIFFERENCE: "#607d8b",
-    INCONCLUSIVE: "#f9a825",
-}
+SIDE_COLOURS = SIDES
+VERDICT_COLOURS = VERDICTS
 MAX_PANELS = 12
 STYLE = {
     "text.parse_math": False,
     "font.size": 9,
     "axes.spines.top": False,
     "axes.spines.right": False,
+    **CYCLE,
 }
 
 
@@ -71,8 +76,8 @@ def difference_plot(report: SuiteReport) -> Figure:
     figure = Figure(figsize=(7.5, _height(len(table))))
     axes = figure.subplots()
     gain = report.settings.minimum_gain
-    axes.axvspan(-gain, gain, color="#eceff1", zorder=0, label=f"± minimum gain ({gain:g})")
-    axes.axvline(0, color="#455a64", lw=0.8)
+    axes.axvspan(-gain, gain, color=BAND, zorder=0, label=f"± minimum gain ({gain:g})")
+    axes.axvline(0, color=AXIS, lw=0.8)
     for position, row in enumerate(table.itertuples()):
         colour = VERDICT_COLOURS[row.verdict]
         if not missing(row.t_low):
@@ -101,7 +106,7 @@ def ablation_plot(report: SuiteReport) -> Figure:
         x = np.arange(len(group))
         low = (group["mean"] - group["t_low"]).to_numpy()
         high = (group["t_high"] - group["mean"]).to_numpy()
-        axes.errorbar(x, group["mean"], yerr=[low, high], fmt="o-", color="#6a1b9a", capsize=3)
+        axes.errorbar(x, group["mean"], yerr=[low, high], fmt="o-", color=SERIES[0], capsize=3)
         axes.set_xticks(x, list(group["level"]))
         axes.set_xlabel(axis)
         axes.set_title(str(contender), fontsize=9)
@@ -121,7 +126,7 @@ def cost_plot(report: SuiteReport) -> Figure:
     costs = (
         ("seconds_per_epoch", "pareto_seconds", "seconds per epoch"),
         ("params", "pareto_params", "parameters"),
-        ("peak_mb", "pareto_memory", "peak memory (MB)"),
+        ("peak_mb", "pareto_memory", "peak tensor memory of a training step (MiB)"),
     )
     for axes, (column, mark, name) in zip(panels, costs, strict=True):
         for row in table.itertuples():
@@ -135,17 +140,13 @@ def cost_plot(report: SuiteReport) -> Figure:
                 edgecolors=colour,
                 zorder=3,
             )
-            axes.annotate(
-                row.variant,
-                (getattr(row, column), row.mean),
-                fontsize=7,
-                xytext=(4, 3),
-                textcoords="offset points",
-            )
         front = table[table[mark]].sort_values(column)
-        axes.step(front[column], front["mean"], where="post", color="#9e9e9e", lw=1, zorder=1)
+        axes.step(front[column], front["mean"], where="post", color=GUIDE, lw=1, zorder=1)
         axes.set_xlabel(name)
         axes.set_ylabel(f"mean test {report_metric(report)}")
+        axes.autoscale_view()
+        points = list(zip(table[column], table["mean"], strict=True))
+        place_labels(axes, points, list(table["variant"]))
     figure.suptitle("Cost trade-off (filled: Pareto-optimal)")
     figure.tight_layout()
     return figure
@@ -164,11 +165,11 @@ def attention_plot(report: SuiteReport) -> Figure:
         ("same_label_share", "neighbour_homophily", "same-label share"),
     )
     for axes, (measure, chance, title) in zip(panels, pairs, strict=True):
-        axes.barh(y, table[measure].fillna(0), color="#c2571a", label="attention")
+        axes.barh(y, table[measure].fillna(0), color=SIDES["attention"], label="attention")
         if chance is None:
-            axes.axvline(1.0, color="#455a64", lw=1, ls="--", label="uniform")
+            axes.axvline(1.0, color=AXIS, lw=1, ls="--", label="uniform")
         else:
-            axes.scatter(table[chance], y, marker="|", s=300, color="#263238", label="uniform")
+            axes.scatter(table[chance], y, marker="|", s=300, color=INK, label="uniform")
         axes.set_title(title, fontsize=9)
         axes.set_xlim(0, 1.05)
     panels[0].set_yticks(y, list(table["variant"]))
@@ -188,8 +189,8 @@ def breakdown_plot(report: SuiteReport) -> Figure:
     grid = np.atleast_1d(figure.subplots(1, len(panels), squeeze=False)).ravel()
     gain = report.settings.minimum_gain
     for axes, (grouping, group) in zip(grid, panels, strict=True):
-        axes.axhspan(-gain, gain, color="#eceff1", zorder=0)
-        axes.axhline(0, color="#455a64", lw=0.8)
+        axes.axhspan(-gain, gain, color=BAND, zorder=0)
+        axes.axhline(0, color=AXIS, lw=0.8)
         for position, row in enumerate(group.itertuples()):
             colour = VERDICT_COLOURS[row.verdict]
             if not missing(row.low):
@@ -228,9 +229,14 @@ PLOT_TITLES = {
     "ablation": "Ablation axes",
     "cost": "Cost trade-off",
     "attention": "Attention diagnostics",
-    "homophily": "Homophily map",
+    "homophily": "Homophily of the graph and of attention",
     "breakdown": "Headline comparison by node group",
 }
+
+
+def plot_title(name: str, report: SuiteReport) -> str:
+    """A plot's caption, named for what it shows in this report."""
+    return homophily_title(report) if name == "homophily" else PLOT_TITLES[name]
 
 
 def figures(report: SuiteReport) -> dict[str, bytes]:

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from harness.analysis.suite_report import SuiteReport
 from harness.report.documents.document import Block, Document, Items, Plot
-from harness.report.documents.plots import PLOT_TITLES, figures
+from harness.report.documents.plots import figures, plot_title
 from harness.report.documents.suite_facts import facts
 from harness.report.documents.suite_tables import all_tables, frames
 from harness.report.documents.trend import TREND_TITLE
@@ -28,7 +28,7 @@ def suite_document(
     """The report of one suite; with `drawn`, its plots too (drawing takes a few seconds), and
     `trend`, the gate-history plot (PNG), last."""
     plots = (
-        [Plot(name, PLOT_TITLES[name], png) for name, png in figures(report).items()]
+        [Plot(name, plot_title(name, report), png) for name, png in figures(report).items()]
         if drawn
         else []
     )

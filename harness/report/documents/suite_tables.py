@@ -85,8 +85,9 @@ def cost_table(report: SuiteReport) -> Table:
         for r in report.cost.itertuples()
     ]
     header = ["contender", "model", f"mean {report_metric(report)}", "s/epoch", "params"]
-    header += ["peak MB", "Pareto (all)", "Pareto (time)", "Pareto (params)", "Pareto (memory)"]
-    note = "Pareto: no other contender is at least as good and at least as cheap."
+    header += ["tensor MiB", "Pareto (all)", "Pareto (time)", "Pareto (params)"]
+    header.append("Pareto (memory)")
+    note = ""
     optional = ("Pareto (time)", "Pareto (params)", "Pareto (memory)")
     return table("cost", "Cost trade-off", header, rows, note, optional=optional)
 

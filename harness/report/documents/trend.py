@@ -4,14 +4,18 @@ from __future__ import annotations
 
 import io
 
+import matplotlib
 import pandas as pd
 from matplotlib.figure import Figure
 
+from harness.analysis.verdict import WORSE
 from harness.formatting import metric_label
+from harness.report.documents.palette import CYCLE, VERDICTS
 
 
 def trend_figure(history: pd.DataFrame) -> Figure:
-    """Two panels sharing the time axis; a failed gate run is marked with a red cross.
+    """Two panels sharing the time axis; a failed gate run is marked with a cross in the
+    colour of a worse verdict.
 
     Drawn on a bare Figure (Agg canvas when saved): no pyplot, so importing this module leaves
     everyone else's matplotlib backend alone and keeps no figure open."""
@@ -24,7 +28,12 @@ def trend_figure(history: pd.DataFrame) -> Figure:
         bottom.plot(when, rows["seconds_per_epoch"], marker="o", color=line.get_color())
         failed = rows["contender_status"] == "fail"
         top.scatter(
-            when[failed], rows["metric_mean"][failed], marker="x", color="red", s=60, zorder=3
+            when[failed],
+            rows["metric_mean"][failed],
+            marker="x",
+            color=VERDICTS[WORSE],
+            s=60,
+            zorder=3,
         )
     top.set_ylabel(f"test {metric} (mean over seeds)")
     bottom.set_ylabel("seconds per epoch")
@@ -44,5 +53,6 @@ def trend_png(history: pd.DataFrame) -> bytes | None:
     if history.empty:
         return None
     buffer = io.BytesIO()
-    trend_figure(history).savefig(buffer, format="png", dpi=110)
+    with matplotlib.rc_context(CYCLE):
+        trend_figure(history).savefig(buffer, format="png", dpi=110)
     return buffer.getvalue()

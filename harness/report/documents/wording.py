@@ -54,7 +54,7 @@ def reason(
     the columns of its t-interval."""
     m, alpha = settings.minimum_gain, 1 - settings.confidence
     low, high = figures[interval[0]], figures[interval[1]]
-    span = f"{percent(settings.confidence)} interval {signed(low)} to {signed(high)} points"
+    span = f"{percent(settings.confidence)} t-interval {signed(low)} to {signed(high)} points"
     rule, p = figures["decided_by"], figures["p_t_holm"]
     if rule == FEW_SEEDS:
         return f"only {figures['seeds']} shared seed(s); need at least 2"
@@ -154,7 +154,7 @@ def headline_sentence(report: SuiteReport) -> str:
             "seed(s); a paired comparison needs at least 2."
         )
     facts = (
-        f"{percent(settings.confidence)} CI {signed(line.low)} to {signed(line.high)}, "
+        f"{percent(settings.confidence)} t-interval {signed(line.low)} to {signed(line.high)}, "
         f"Holm-adjusted {p_phrase(line.p_holm)}, {line.seeds} seeds"
     )
     return _sentence(line, a, b, facts, settings) + _range_warning(line)

@@ -7,19 +7,20 @@ import html
 
 from harness.formatting import visible
 from harness.report.documents.document import Block, Document, Items, Plot, Table, Text
+from harness.report.documents.palette import INK, MUTED, RULE, SIDES, TINT
 
-STYLE = """
-body { font-family: system-ui, sans-serif; margin: 2rem auto; max-width: 1200px;
-       color: #212121; line-height: 1.45; padding: 0 1rem; }
-blockquote { font-size: 1.15rem; border-left: 4px solid #c2571a; margin: 1rem 0;
-             padding: 0.5rem 1rem; background: #fff8f3; }
-table { border-collapse: collapse; margin: 0.5rem 0 1rem; font-size: 0.85rem; }
-th, td { padding: 0.25rem 0.6rem; border-bottom: 1px solid #e0e0e0; text-align: left; }
-th { border-bottom: 2px solid #616161; }
-td.number { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
-.note { color: #616161; font-size: 0.85rem; }
-figure { margin: 1rem 0 2rem; }
-figure img { max-width: 100%; }
+STYLE = f"""
+body {{ font-family: system-ui, sans-serif; margin: 2rem auto; max-width: 1200px;
+       color: {INK}; line-height: 1.45; padding: 0 1rem; }}
+blockquote {{ font-size: 1.15rem; border-left: 4px solid {SIDES["attention"]}; margin: 1rem 0;
+             padding: 0.5rem 1rem; background: {TINT}; }}
+table {{ border-collapse: collapse; margin: 0.5rem 0 1rem; font-size: 0.85rem; }}
+th, td {{ padding: 0.25rem 0.6rem; border-bottom: 1px solid {RULE}; text-align: left; }}
+th {{ border-bottom: 2px solid {MUTED}; }}
+td.number {{ text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }}
+.note {{ color: {MUTED}; font-size: 0.85rem; }}
+figure {{ margin: 1rem 0 2rem; }}
+figure img {{ max-width: 100%; }}
 """
 
 
