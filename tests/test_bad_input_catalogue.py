@@ -254,7 +254,7 @@ CASES: list[Bad] = [
     ),
     suite("contender_epochs_zero", "hidden = 4", "hidden = 4\ntraining = {epochs = 0}", "epochs"),
     suite("contender_training_key", "hidden = 4", "hidden = 4\ntraining = {epoch = 3}", "epoch"),
-    suite("unknown_model", 'model = "mlp"', 'model = "transformer"', "features_only: Input tag"),
+    suite("unknown_model", 'model = "mlp"', 'model = "recurrent"', "features_only: Input tag"),
     suite("model_missing", 'model = "mlp"\n', "", "contenders.features_only: required key"),
     suite("model_number", 'model = "mlp"', "model = 3", "contenders.features_only"),
     suite("unknown_metric", 'metric = "accuracy"', 'metric = "f1"', "metric: given 'f1'"),

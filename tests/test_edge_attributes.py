@@ -6,19 +6,24 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import pandas as pd
 import pytest
 import torch
 from torch_geometric.utils import add_self_loops
 
+from harness.analysis.edge_type_attention import edge_type_attention
 from harness.data.edge_attributes import edge_types
+from harness.data.profile import profile_graph
 from harness.data.synthetic import contextual_sbm
 from harness.data.tables import load_tables
 from harness.errors import InputError
 from harness.models import build_model
-from harness.planning import parse_suite
+from harness.planning import expand, parse_suite
+from harness.report.documents.profile import profile_rows
 from harness.schema.base import key_dump
 from harness.schema.contenders import AttentionOptions, EdgeConvolutionOptions
 from harness.schema.data import SyntheticData
+from harness.training.fit import perform
 from harness.training.inference import chunked_logits
 
 NODES = """\
@@ -175,3 +180,73 @@ def test_edge_features_stay_out_of_run_keys_unless_set() -> None:
     plain = key_dump(AttentionOptions(model="gat"))
     assert "edge_features" not in plain
     assert key_dump(AttentionOptions(model="gat", edge_features=True))["edge_features"] is True
+
+
+def test_profile_lists_attributes_and_homophily_per_edge_type() -> None:
+    spec = SyntheticData(source="synthetic", nodes=600, classes=3, edge_types=2, edge_homophily=0.9)
+    profile = profile_graph(contextual_sbm(spec))
+    assert profile.edge_attributes == ["edge_type=0", "edge_type=1"]
+    informative, random = profile.edge_type_homophily["0"], profile.edge_type_homophily["1"]
+    assert informative[1] > 0.8 > 0.5 > random[1]  # random targets: about 1/3 of the same class
+    assert informative[0] + random[0] == profile.edges * 2  # undirected: both directions
+    rows = dict(profile_rows(profile))
+    assert rows["edge type 0"].endswith(f"edge homophily {informative[1]:.3f}")
+    assert profile_graph(contextual_sbm(SyntheticData(source="synthetic"))).edge_attributes == []
+
+
+def test_stored_edge_type_shares_become_a_report_table() -> None:
+    def run(seed_share: float) -> dict:
+        heads = [{"layer": 1, "head": 1, "attention_share": [seed_share, 1 - seed_share]}]
+        heads[0]["edge_share"] = [0.25, 0.75]
+        return {"attention": {"edge_types": {"names": ["rail", "road"], "heads": heads}}}
+
+    runs = pd.DataFrame(
+        {
+            "suite": ["s", "s", "s"],
+            "contender": ["attention", "attention", "mlp"],
+            "point": [{}, {}, {}],
+            "extras": [run(0.6), run(0.8), {}],
+        }
+    )
+    frame = edge_type_attention(runs)
+    rail = frame[frame["edge_type"] == "rail"].iloc[0]
+    assert rail["attention_share"] == pytest.approx(0.7)  # mean over the two seeds
+    assert rail["ratio"] == pytest.approx(0.7 / 0.25)
+    assert len(frame) == 2
+
+
+@pytest.mark.parametrize(
+    ("model", "training", "setting"),
+    [
+        (
+            {"model": "gat", "edge_features": True, "heads": 2},
+            {"batching": "sampled", "fanout": "all"},
+            None,
+        ),
+        ({"model": "gine"}, {"batching": "sampled", "fanout": [3, 3]}, None),
+        ({"model": "transformer", "edge_features": True, "heads": 2}, {}, "inductive"),
+    ],
+)
+def test_runs_over_typed_edges_train_sampled_and_inductive(
+    tmp_path: Path, model: dict, training: dict, setting: str | None
+) -> None:
+    """Edge attributes travel with sampled batches (drawn edges keep their rows) and into the
+    training subgraph of inductive runs; the attention runs store the edge-type diagnostic."""
+    data = {"source": "synthetic", "nodes": 120, "classes": 3, "edge_types": 3}
+    raw = suite_raw(data, {"contender": model}, training={"epochs": 3, **training})
+    if setting:
+        raw["setting"] = setting
+    spec = expand(parse_suite(raw, str(tmp_path / "suite.toml")))[0]
+    result = perform(spec)
+    assert 0.0 <= result.test_metric <= 1.0
+    if "heads" in model:
+        shares = result.extras["attention"]["edge_types"]["heads"]
+        assert len(shares) == 2 * 2  # two layers, two heads
+        assert all(sum(record["edge_share"]) == pytest.approx(1.0) for record in shares)
+
+
+def test_link_prediction_refuses_contenders_that_read_edge_attributes(tmp_path: Path) -> None:
+    data = {"source": "synthetic", "nodes": 60, "edge_types": 2}
+    raw = suite_raw(data, {"convolution": {"model": "gine"}}, task="link_prediction")
+    with pytest.raises(InputError, match="link prediction does not pass to models yet"):
+        parse_suite(raw, str(tmp_path / "suite.toml"))

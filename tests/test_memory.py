@@ -25,8 +25,10 @@ from harness.schema.contenders import (
     AttentionOptions,
     ConvolutionOptions,
     EdgeConvolutionOptions,
+    GlobalAttentionOptions,
     MLPOptions,
     NeighbourMeanOptions,
+    TransformerOptions,
 )
 from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.training import Training
@@ -39,6 +41,8 @@ KINDS = {
     "sage": NeighbourMeanOptions(model="sage"),
     "mlp": MLPOptions(model="mlp", layers=3),
     "gine": EdgeConvolutionOptions(model="gine"),
+    "transformer": TransformerOptions(model="transformer", heads=2, hidden=16),
+    "global_attention": GlobalAttentionOptions(model="global_attention", hidden=32, heads=2),
 }
 
 
@@ -59,6 +63,8 @@ PINNED = {
     "mlp": (509812112.0, 507619318.4, 2920000.0),
     # pinned when the kind was registered
     "gine": (541588112.0, 520498678.4, 17380000.0),
+    "transformer": (1706528864.0, 550690912.0, 617400000.0),
+    "global_attention": (573556112.0, 551597148.8, 37360000.0),
 }
 
 

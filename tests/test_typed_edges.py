@@ -18,6 +18,7 @@ from harness.data.splits import Split
 from harness.models import build_model
 from harness.schema.contenders import AttentionOptions, ConvolutionOptions
 from harness.schema.training import Training
+from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
 from harness.training.fit import RunResult, fit
 
 CLASSES, TYPES = 4, 3
@@ -40,14 +41,14 @@ def typed_graph(nodes: int = 400, others: int = 4, seed: int = 0) -> Data:
     return data
 
 
-def trained(options: object, data: Data, edge_width: int = 0) -> RunResult:
+def trained(options: object, data: Data, edge_width: int = 0) -> tuple[RunResult, torch.nn.Module]:
     nodes = data.num_nodes
     order = torch.randperm(nodes, generator=torch.Generator().manual_seed(0))
     split = Split(order[: nodes // 2], order[nodes // 2 : 3 * nodes // 4], order[3 * nodes // 4 :])
     torch.manual_seed(0)
     model = build_model(options, CLASSES, CLASSES, edge_width=edge_width)
     training = Training(epochs=120, patience=40, learning_rate=0.01)
-    return fit(model, data, split, training, "accuracy")
+    return fit(model, data, split, training, "accuracy"), model
 
 
 @pytest.fixture(scope="module")
@@ -56,15 +57,35 @@ def graph() -> Data:
 
 
 @pytest.fixture(scope="module")
-def with_attributes(graph: Data) -> RunResult:
+def with_attributes(graph: Data) -> tuple[RunResult, torch.nn.Module]:
     return trained(AttentionOptions(model="gat", layers=1, edge_features=True), graph, TYPES)
 
 
 def test_attention_over_edge_types_finds_the_informative_neighbour(
-    graph: Data, with_attributes: RunResult
+    graph: Data, with_attributes: tuple[RunResult, torch.nn.Module]
 ) -> None:
-    assert with_attributes.test_metric >= 0.7
-    without = trained(AttentionOptions(model="gat", layers=1), graph)
-    convolution = trained(ConvolutionOptions(model="gcn"), graph)
-    assert without.test_metric <= with_attributes.test_metric - 0.2
-    assert convolution.test_metric <= with_attributes.test_metric - 0.2
+    result = with_attributes[0]
+    assert result.test_metric >= 0.7
+    without, _ = trained(AttentionOptions(model="gat", layers=1), graph)
+    convolution, _ = trained(ConvolutionOptions(model="gcn"), graph)
+    assert without.test_metric <= result.test_metric - 0.2
+    assert convolution.test_metric <= result.test_metric - 0.2
+
+
+def test_the_diagnostic_shows_which_edge_type_attention_listens_to(
+    graph: Data, with_attributes: tuple[RunResult, torch.nn.Module]
+) -> None:
+    """Type 0 is one edge in five; attention should give it at least twice that share.
+    The whole-graph and the chunked diagnostics agree."""
+    model = with_attributes[1]
+    args = (graph.x, graph.edge_index, graph.y, graph.edge_attr, graph)
+    whole = attention_diagnostics(model, *args)
+    chunked = chunked_attention_diagnostics(model, *args, chunk_nodes=64)
+    assert whole["edge_types"]["names"] == ["0", "1", "2"]
+    for record in whole["edge_types"]["heads"]:
+        assert record["edge_share"][0] == pytest.approx(0.2, abs=0.02)
+        assert record["attention_share"][0] >= 2 * record["edge_share"][0]
+    for mine, theirs in zip(
+        whole["edge_types"]["heads"], chunked["edge_types"]["heads"], strict=True
+    ):
+        assert mine["attention_share"] == pytest.approx(theirs["attention_share"], abs=1e-5)

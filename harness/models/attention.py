@@ -6,6 +6,10 @@ Dynamic attention (Brody et al., 2022), model "gatv2":
     e_ij = a^T LeakyReLU(W_s h_j + W_t h_i)
 Scaled dot-product attention (Shi et al., 2021), model "dot_product":
     e_ij = (W_q h_i)^T (W_k h_j) / sqrt(d),  messages W_v h_j
+The graph transformer layer (Shi et al., 2021, eq. 3-5 and 7), model "transformer": the same
+scores and messages m_i = sum_j alpha_ij W_v h_j, then a gated skip from the node itself:
+    beta_i = sigmoid(w_b^T [m_i || W_r h_i || m_i - W_r h_i])
+    h_i' = beta_i W_r h_i + (1 - beta_i) m_i
 Each head k computes h_i^k = sum_j alpha_ij^k W^k h_j. A layer merges its K heads by
 concatenation (||_k h_i^k) or by the mean (1/K sum_k h_i^k); defaults as Velickovic et al.:
 concatenate in hidden layers, average in the output layer. An output layer that concatenates
@@ -61,6 +65,20 @@ def dot_product_layer(
         width,
         out,
         root_weight=options.residual,
+        **shared_settings(options, heads, concat, edge_width),
+    )
+
+
+def transformer_layer(
+    options: AttentionOptions, width: int, out: int, heads: int, concat: bool, edge_width: int = 0
+) -> nn.Module:
+    """The graph transformer layer (Shi et al., 2021): dot-product attention and the gated
+    skip (the module docstring's beta_i)."""
+    return ScaledDotProductConv(
+        width,
+        out,
+        root_weight=True,
+        beta=True,
         **shared_settings(options, heads, concat, edge_width),
     )
 

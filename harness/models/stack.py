@@ -39,6 +39,7 @@ class LayerStack(nn.Module):
         self.edge_cache = EdgeCache()
         self.row_cache = EdgeCache()
         self.edge_width = 0
+        self.whole_graph = False  # layers that read every node (inference never chunks them)
 
     def reset_parameters(self) -> None:
         for layer in self.layers:

@@ -30,6 +30,7 @@ from harness.schema.base import format_validation_error, key_dump
 from harness.schema.batching import (
     check_batching,
     check_edge_attributes,
+    check_global_attention,
     check_kernel,
     check_options_apply,
 )
@@ -136,6 +137,7 @@ def parse_suite(raw: dict, source: str) -> Suite:
     check_options_apply(suite, source)  # no fanout or compile that no run would use
     check_kernel(suite, source)  # the sparse kernel only for kinds that have one
     check_edge_attributes(suite, source)  # edge attributes only where tasks and data have them
+    check_global_attention(suite, source)  # no full attention over a large graph at once
     return suite
 
 

@@ -104,6 +104,10 @@ class ContenderBase(StrictModel):
         them), or "optional" (a constant column of ones stands in when the data has none)."""
         return "none"
 
+    def attended_pairs(self, nodes: float) -> float:
+        """Node pairs (times heads) one layer scores with full attention over all nodes."""
+        return 0.0
+
     def layer_radius(self) -> int:
         """Hops one layer reaches: 1, but for kinds that attend over a wider hop set."""
         return 1
@@ -117,8 +121,9 @@ class ContenderBase(StrictModel):
 
 
 def _attention_kinds() -> tuple[str, ...]:
-    """The kinds AttentionOptions serves (its `model` literal)."""
-    return get_args(AttentionOptions.model_fields["model"].annotation)
+    """The kinds AttentionOptions and its subclasses serve (their `model` literals)."""
+    classes = (AttentionOptions, *AttentionOptions.__subclasses__())
+    return tuple(name for c in classes for name in get_args(c.model_fields["model"].annotation))
 
 
 class AttentionOptions(ContenderBase):
@@ -220,6 +225,23 @@ class AttentionOptions(ContenderBase):
         return [self.head_merge] * (self.layers - 1) + ["average"]
 
 
+class TransformerOptions(AttentionOptions):
+    """The graph transformer layer of Shi et al. (2021): scaled dot-product attention over
+    neighbours, edge attributes (with `edge_features`) in keys and values, and a gated skip
+    connection from each node's own features, which is always on."""
+
+    model: Literal["transformer"] = Field(
+        description=(
+            "transformer: the graph transformer layer (Shi et al. 2021, PyG's TransformerConv "
+            "with its gated skip connection)."
+        ),
+    )
+    residual: Literal[True] = Field(
+        True,
+        description="The gated skip connection: always on for transformer layers.",
+    )
+
+
 class ConvolutionOptions(ContenderBase):
     """Graph convolution with symmetric normalisation (Kipf and Welling, 2017)."""
 
@@ -264,3 +286,42 @@ class EdgeConvolutionOptions(ContenderBase):
 
     def edge_attribute_use(self) -> str:
         return "optional"
+
+
+class GlobalAttentionOptions(ContenderBase):
+    """A local message-passing layer plus attention over all nodes of the graph (Rampasek et
+    al., 2022): `hidden` is the width of every layer, split over `heads`."""
+
+    model: Literal["global_attention"] = Field(
+        description=(
+            "global_attention: GINE message passing plus multi-head attention over all nodes, "
+            "summed (Rampasek et al. 2022, PyG's GPSConv); pair it with feature_start "
+            "laplacian or random_walk for positional starts."
+        ),
+    )
+    heads: HeadCount = Field(4, description="Heads of the attention over all nodes.")
+    attention_kind: Literal["multihead", "performer"] = Field(
+        "multihead",
+        description=(
+            "multihead: full softmax attention, memory growing with nodes squared; performer:"
+            " linear attention through random features (Choromanski et al., 2021)."
+        ),
+    )
+    attention_dropout: float = Field(
+        0.0, ge=0, lt=1, description="Dropout on each layer's local and global outputs."
+    )
+
+    @model_validator(mode="after")
+    def _width_splits_over_heads(self) -> GlobalAttentionOptions:
+        if self.hidden % self.heads:
+            raise ValueError(
+                f"hidden = {self.hidden} does not split over heads = {self.heads}; allowed: "
+                "a hidden width divisible by heads"
+            )
+        return self
+
+    def edge_attribute_use(self) -> str:
+        return "optional"
+
+    def attended_pairs(self, nodes: float) -> float:
+        return self.heads * nodes * nodes if self.attention_kind == "multihead" else 0.0

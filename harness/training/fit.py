@@ -265,10 +265,10 @@ def perform(
     result = fit(
         model, started.data, split, spec.training, spec.metric, on_epoch, inductive, spec.seed
     )
-    # arrival updates run the model on grown graphs without their edge attributes: not for
-    # kinds that read them
-    reads = spec.options.edge_attribute_use() != "none"
-    if inductive is not None and not validation_only and not reads:
+    # arrival updates run the model on grown graphs without their edge attributes, and within
+    # a hop radius: not for kinds that read attributes or every node
+    local = spec.options.edge_attribute_use() == "none" and not MODEL_KINDS[spec.model].global_reach
+    if inductive is not None and not validation_only and local:
         radius = spec.options.layers * spec.options.layer_radius()
         radius += MODEL_KINDS[spec.model].extra_hops
         arrival = measure_arrival(model, started.data, split, radius, seed=spec.seed)
@@ -277,7 +277,7 @@ def perform(
         graph = started.data
         diagnose = chunked_attention_diagnostics if spec.training.sampled else attention_diagnostics
         attributes = read_attributes(model, graph)
-        diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y, attributes)
+        diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y, attributes, data)
         result = replace(result, extras={**result.extras, "attention": diagnostics})
     resident = peak_resident_mb() if measured else None
     extras = {**result.extras, "threads": threads, "peak_resident_mb": resident}
