@@ -47,7 +47,7 @@ class ModelKind:
     `layer`: for kinds sharing the attention builder, "module:function" of one layer,
     layer(options, in_width, out_width_per_head, heads, concatenate) -> torch module.
     `sparse_kernel`: its layers can run on harness.models.sparse_layers (`kernel` in
-    [training])."""
+    [training]); `sparse_compile_payback`: `compile_payback` for runs on that kernel."""
 
     options: type[ContenderBase]  # pydantic class with `model: Literal[<kind name>, ...]`
     builder: str  # "module:function", build(options, in_dim, out_dim) -> torch module
@@ -59,6 +59,7 @@ class ModelKind:
     compile_payback: float | None = None
     layer: str | None = None
     sparse_kernel: bool = False
+    sparse_compile_payback: float | None = None
 
 
 ATTENTION = "harness.models.attention:build"
