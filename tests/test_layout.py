@@ -28,7 +28,8 @@ STAGES = (
     ("harness.tuning",),
     ("harness.analysis",),
     ("harness.gate",),
-    ("harness.report",),
+    ("harness.report",),  # report documents
+    ("harness.report.formats",),  # render any document
     ("harness.commands", "harness.api"),
     ("harness.screen",),
     ("harness.arguments", "harness.cli"),

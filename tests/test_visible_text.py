@@ -14,7 +14,8 @@ import pytest
 from harness import screen
 from harness.cli import main
 from harness.formatting import HIDDEN, visible
-from harness.report import csv, html, latex, markdown_text, records
+from harness.report.documents.records import records_document
+from harness.report.formats import FORMATS, csv, html, latex, markdown
 from harness.storage import store
 
 HOSTILE = "\x1b[2J\x1b]0;pwned"
@@ -37,7 +38,7 @@ def test_every_control_format_and_separator_character_is_hidden():
 
 @pytest.mark.parametrize(
     "escape",
-    [markdown_text.escape, html.escape, latex.escape],
+    [markdown.escape, html.escape, latex.escape],
     ids=["markdown", "html", "latex"],
 )
 def test_each_text_format_escapes_through_visible(escape):
@@ -57,7 +58,7 @@ def test_csv_cells_and_run_records_show_hidden_characters(finished_store):
     assert csv._cell({"a": 1}) == '{"a": 1}' and csv._cell(0.5) == 0.5
     runs = store.load_runs(finished_store[1])
     runs["contender"] = REORDERED  # as a hand-edited store could hold it
-    written = records.as_csv(runs)
+    written = FORMATS["csv"].render(records_document(runs))
     assert hidden_in(written) == [] and visible(REORDERED) in written
 
 

@@ -15,8 +15,16 @@ from dataclasses import dataclass
 import pandas as pd
 from torch_geometric.data import Data
 
+from harness.analysis.bounds import within_range
 from harness.analysis.node_groups import NodeGroups, node_groups
-from harness.analysis.stats import POINTS, attention_side, holm, paired_test, t_interval
+from harness.analysis.stats import (
+    METRIC_RANGE,
+    POINTS,
+    attention_side,
+    holm,
+    paired_test,
+    t_interval,
+)
 from harness.analysis.verdict import judge_all
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 from harness.training.fit import NodePredictions
@@ -82,12 +90,16 @@ def group_scores(
 
 
 def per_group(scores: pd.DataFrame, confidence: float) -> pd.DataFrame:
-    """Per grouping, group and variant: the metric over seeds with its t-interval."""
+    """Per grouping, group and variant: the metric over seeds with its t-interval, clipped to
+    the metric's range like every other interval (analysis.bounds; `clipped` says so)."""
     rows = []
     keys = ["grouping", "order", "group", "variant"]
     for (grouping, order, group, variant), chosen in scores.groupby(keys, sort=True):
         values = chosen["value"].dropna().to_numpy(dtype=float)
-        low, high = t_interval(values, confidence)
+        mean = float(values.mean()) if len(values) else float("nan")
+        spread = float(values.std(ddof=1)) if len(values) > 1 else float("nan")
+        interval = t_interval(values, confidence)
+        bounded = within_range(mean, spread, interval, METRIC_RANGE, confidence)
         rows.append(
             {
                 "grouping": grouping,
@@ -96,9 +108,10 @@ def per_group(scores: pd.DataFrame, confidence: float) -> pd.DataFrame:
                 "variant": variant,
                 "nodes": float(chosen["nodes"].mean()),
                 "seeds": len(values),
-                "mean": float(values.mean()) if len(values) else float("nan"),
-                "low": low,
-                "high": high,
+                "mean": mean,
+                "low": bounded.low,
+                "high": bounded.high,
+                "clipped": bounded.clipped,
             }
         )
     return pd.DataFrame(rows)

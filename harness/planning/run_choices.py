@@ -72,7 +72,8 @@ def resolve_kernel(training: Training, options: BaseModel, data: DataSource) -> 
     """Training with `kernel = "auto"` decided: "sparse" for kinds with a sparse kernel when a
     training step has at least SPARSE_MIN_EDGES message edges, else "scatter"."""
     kind = MODEL_KINDS.get(options.model)
-    if kind is None or not kind.sparse_kernel:
+    # the sparse kernel computes no edge-attribute terms
+    if kind is None or not kind.sparse_kernel or options.edge_attribute_use() != "none":
         return training.model_copy(update={"kernel": "scatter"})
     if training.kernel != "auto":
         return training

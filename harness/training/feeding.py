@@ -13,6 +13,7 @@ from torch_geometric.data import Data
 from harness.models import unwrap
 from harness.planning.run_choices import sampler_in_use
 from harness.schema.training import Training
+from harness.training.edge_inputs import read_attributes
 from harness.training.sampling import batch_loader, fanout_counts
 
 
@@ -25,17 +26,20 @@ class Step:
     edge_weight: torch.Tensor | None
     rows: torch.Tensor
     labels: torch.Tensor
+    edge_attr: torch.Tensor | None = None  # for models that read edge attributes
 
     def tensors(self) -> tuple[torch.Tensor, ...]:
-        extra = () if self.edge_weight is None else (self.edge_weight,)
+        extra = tuple(t for t in (self.edge_weight, self.edge_attr) if t is not None)
         return (self.x, self.edge_index, self.labels, *extra)
 
 
 class FullFeed:
     """Every step sees the whole training graph; the loss is taken at the training rows."""
 
-    def __init__(self, graph: Data, rows: torch.Tensor, labels: torch.Tensor):
-        self.step = Step(graph.x, graph.edge_index, None, rows, labels)
+    def __init__(
+        self, graph: Data, rows: torch.Tensor, labels: torch.Tensor, attributes: torch.Tensor | None
+    ):
+        self.step = Step(graph.x, graph.edge_index, None, rows, labels, attributes)
 
     def steps(self) -> Iterator[Step]:
         yield self.step
@@ -57,6 +61,7 @@ class SampledFeed:
         self.stack, _ = unwrap(model, graph.x[:0])
         layers = len(self.stack.layers)
         hops = fanout_counts(training.fanout, layers) if self.stack.uses_edges else []
+        self.reads_attributes = read_attributes(model, graph) is not None
         self.loader = batch_loader(graph, rows, hops, training.batch_size, seed)
         self.degree = torch.bincount(graph.edge_index[1], minlength=graph.num_nodes)
         self.nodes: list[int] = []
@@ -68,7 +73,8 @@ class SampledFeed:
             self.nodes.append(batch.num_nodes)
             self.edges.append(batch.edge_index.size(1))
             targets = torch.arange(batch.batch_size)
-            yield Step(batch.x, edges, weights, targets, batch.y[: batch.batch_size])
+            attributes = batch.edge_attr if self.reads_attributes else None
+            yield Step(batch.x, edges, weights, targets, batch.y[: batch.batch_size], attributes)
 
     def extras(self) -> dict:
         """The sampler used and the mean batch size in nodes and edges over all steps."""
@@ -91,4 +97,4 @@ def make_feed(
 ) -> FullFeed | SampledFeed:
     if training.sampled:
         return SampledFeed(model, graph, rows, training, seed)
-    return FullFeed(graph, rows, labels)
+    return FullFeed(graph, rows, labels, read_attributes(model, graph))

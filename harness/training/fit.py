@@ -29,6 +29,12 @@ from harness.training.compiled import (
     use_compile_cache,
 )
 from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
+from harness.training.edge_inputs import (
+    check_edge_inputs,
+    edge_width,
+    named_attributes,
+    read_attributes,
+)
 from harness.training.feeding import Step, make_feed
 from harness.training.inference import chunked_logits
 from harness.training.metrics import fast_score, score, scores_of_test_nodes
@@ -84,7 +90,7 @@ def snapshot(model: nn.Module) -> dict[str, torch.Tensor]:
 
 def step_loss(model: nn.Module, step: Step) -> torch.Tensor:
     extra = () if step.edge_weight is None else (step.edge_weight,)  # only GCN batches have it
-    logits = model(step.x, step.edge_index, *extra)
+    logits = model(step.x, step.edge_index, *extra, **named_attributes(step.edge_attr))
     return nn.functional.cross_entropy(logits[step.rows], step.labels)
 
 
@@ -121,6 +127,8 @@ def fit(
     )
     forward = Forward(model, training.compile is True and not training.sampled)
     x, edge_index, y = data.x, data.edge_index, data.y
+    attributes = read_attributes(model, data)
+    named = named_attributes(attributes)
     train_y, val_y = y[split.train], y[split.validation]
     seen = data if training_graph is None else training_graph
     seen_rows = split.train if training_graph is None else training_graph.train_rows
@@ -133,23 +141,23 @@ def fit(
 
     def validate(network: nn.Module) -> float:
         if training.sampled:
-            logits = chunked_logits(model, x, edge_index)[split.validation]
+            logits = chunked_logits(model, x, edge_index, edge_attr=attributes)[split.validation]
         else:
             with torch.no_grad():
-                logits = network(x, edge_index, None, split.validation)
+                logits = network(x, edge_index, None, split.validation, **named)
         return fast_score(metric, logits, val_y, classes)
 
     def logits_of_all() -> torch.Tensor:
         if training.sampled:
-            return chunked_logits(model, x, edge_index)
+            return chunked_logits(model, x, edge_index, edge_attr=attributes)
         with torch.no_grad():
-            return forward.guarded(lambda network: network(x, edge_index))
+            return forward.guarded(lambda network: network(x, edge_index, **named))
 
     best_score, best_epoch, best_state = -float("inf"), 0, snapshot(model)
     curve: list[float] = []
     epoch_seconds: list[float] = []
     meter = ActivationMeter()
-    inputs = tensor_bytes(x, edge_index, y)
+    inputs = tensor_bytes(x, edge_index, y, *(() if attributes is None else (attributes,)))
     started = time.perf_counter()
     epoch = 0
     for epoch in range(1, training.epochs + 1):
@@ -239,10 +247,16 @@ def perform(
         split = Split(split.train, split.validation, split.train[:0])
     torch.manual_seed(spec.seed)
     classes = int(data.y.max()) + 1
+    check_edge_inputs(data, spec.options, spec.contender)
     started = contender_graph(data, spec.options, spec.seed, spec.hop_cache)
     with generated_modules_in(spec.hop_cache):
         model = build_model(
-            spec.options, started.width, classes, started.embedding_rows, spec.training.kernel
+            spec.options,
+            started.width,
+            classes,
+            started.embedding_rows,
+            spec.training.kernel,
+            edge_width(data),
         )
     inductive = None
     if spec.setting == "inductive":  # held-out nodes and their edges never reach training
@@ -251,7 +265,10 @@ def perform(
     result = fit(
         model, started.data, split, spec.training, spec.metric, on_epoch, inductive, spec.seed
     )
-    if inductive is not None and not validation_only:
+    # arrival updates run the model on grown graphs without their edge attributes, and within
+    # a hop radius: not for kinds that read attributes or every node
+    local = spec.options.edge_attribute_use() == "none" and not MODEL_KINDS[spec.model].global_reach
+    if inductive is not None and not validation_only and local:
         radius = spec.options.layers * spec.options.layer_radius()
         radius += MODEL_KINDS[spec.model].extra_hops
         arrival = measure_arrival(model, started.data, split, radius, seed=spec.seed)
@@ -259,7 +276,8 @@ def perform(
     if attends(spec.model):
         graph = started.data
         diagnose = chunked_attention_diagnostics if spec.training.sampled else attention_diagnostics
-        diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y)
+        attributes = read_attributes(model, graph)
+        diagnostics = diagnose(model, graph.x, graph.edge_index, graph.y, attributes, data)
         result = replace(result, extras={**result.extras, "attention": diagnostics})
     resident = peak_resident_mb() if measured else None
     extras = {**result.extras, "threads": threads, "peak_resident_mb": resident}

@@ -62,6 +62,7 @@ class TaskKind:
         `compiles` and `breakdown` (the per-node breakdown of scored test nodes) say what applies;
         `no_compile_reason` is what a run records when compiling does not apply. `node_labels`:
         whether its runs read node labels (`check` warns about a label column otherwise).
+    `edge_attributes`: whether its training passes edge attributes to the models that read them.
         `data_check`: "module:function" check(suite, data, source) of every seed's split, run by
         `check` before any run. `objective`: the name of its entry in the training stage's objective
         registry. `output_option`: the field of its options table that sets the model's output width
@@ -79,6 +80,7 @@ class TaskKind:
     split_methods: tuple[str, ...] | None = None
     refused: Mapping[str, str] = field(default_factory=dict)
     section_checks: Mapping[str, SectionCheck] = field(default_factory=dict)
+    edge_attributes: bool = False
     options_section: str | None = None
     options: type[BaseModel] | None = None
     output_option: str | None = None
