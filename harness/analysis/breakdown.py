@@ -26,6 +26,7 @@ from harness.analysis.stats import (
     t_interval,
 )
 from harness.analysis.verdict import judge_all
+from harness.data.collection import GraphCollection
 from harness.results import NodePredictions
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 from harness.training.metrics import score_probabilities
@@ -43,6 +44,7 @@ class Breakdown:
     comparisons: pd.DataFrame
     attention: str | None = None
     baseline: str | None = None
+    unit: str = "node"  # what the groups hold: test nodes, or test graphs of a collection
 
     def headline_rows(self) -> pd.DataFrame:
         """The rows of the headline comparison, lowest group first within each grouping."""
@@ -160,12 +162,13 @@ def breakdown(
     (default: the first attention variant against the first baseline)."""
     runs = runs.assign(attention_side=attention_side(runs, settings).to_numpy())
     scores = group_scores(runs, predictions, data, node_groups(data, settings))
+    unit = "graph" if isinstance(data, GraphCollection) else "node"
     if scores.empty:
         empty = pd.DataFrame(columns=COLUMNS)
-        return Breakdown(empty, empty)
+        return Breakdown(empty, empty, unit=unit)
     judged = per_group_comparisons(scores, settings)
     groups = per_group(scores, settings.confidence)
     if judged.empty:
-        return Breakdown(groups, judged)
+        return Breakdown(groups, judged, unit=unit)
     attention, baseline = headline or (judged["attention"].iloc[0], judged["baseline"].iloc[0])
-    return Breakdown(groups, judged, attention, baseline)
+    return Breakdown(groups, judged, attention, baseline, unit)

@@ -48,17 +48,18 @@ def headline_table(report: SuiteReport) -> Table | None:
         + _difference(r)
         for r in chosen.itertuples()
     ]
-    header = ["grouping", "group", "nodes", nodes.attention, nodes.baseline]
+    items = f"{nodes.unit}s"
+    header = ["grouping", "group", items, nodes.attention, nodes.baseline]
     header += ["difference (points)", f"{level} t-interval", "Holm p", "verdict"]
     note = (
-        f"{breakdown_summary(nodes)} nodes: test nodes of the group per seed (mean). Columns 4 "
-        f"and 5: test {report_metric(report)} of each side on the group's nodes; difference: "
+        f"{breakdown_summary(nodes)} {items}: test {items} of the group per seed (mean). Columns "
+        f"4 and 5: test {report_metric(report)} of each side on the group's {items}; difference: "
         "attention minus baseline on shared seeds; Holm's adjustment runs over every group and "
         "comparison."
     )
-    title = f"Per-node breakdown: {nodes.attention} against {nodes.baseline}"
+    title = f"Per-{nodes.unit} breakdown: {nodes.attention} against {nodes.baseline}"
     marks = [line[-1] for line in lines]
-    optional = ("nodes", nodes.attention, nodes.baseline)
+    optional = (items, nodes.attention, nodes.baseline)
     return table(
         "breakdown_headline",
         title,
@@ -78,11 +79,12 @@ def comparison_rows_table(report: SuiteReport) -> Table:
         [r.attention, r.baseline, *_where(r), *_difference(r)]
         for r in report.breakdown.comparisons.itertuples()
     ]
-    header = ["attention", "baseline", "grouping", "group", "nodes", "difference (points)"]
+    items = f"{report.breakdown.unit}s"
+    header = ["attention", "baseline", "grouping", "group", items, "difference (points)"]
     header += [f"{level} t-interval", "Holm p", "verdict"]
     marks = [line[-1] for line in lines]
-    title = "Per-node breakdown, every comparison"
-    optional = ("nodes", "difference (points)", "Holm p")
+    title = f"Per-{report.breakdown.unit} breakdown, every comparison"
+    optional = (items, "difference (points)", "Holm p")
     return table("breakdown", title, header, lines, optional=optional, marks=marks)
 
 
@@ -101,12 +103,13 @@ def group_table(report: SuiteReport) -> Table:
             for v in variants
         ]
         lines.append([_grouping(grouping), group, f"{chosen['nodes'].mean():.0f}", *cells])
+    unit = report.breakdown.unit
     note = (
-        f"Mean test {report_metric(report)} over seeds on the group's test nodes (t-interval; "
+        f"Mean test {report_metric(report)} over seeds on the group's test {unit}s (t-interval; "
         "clipped: it passed the metric's possible range 0 to 1 and is shown cut there)."
     )
-    header = ["grouping", "group", "nodes", *variants]
-    return table("breakdown_groups", "Contenders by node group", header, lines, note)
+    header = ["grouping", "group", f"{unit}s", *variants]
+    return table("breakdown_groups", f"Contenders by {unit} group", header, lines, note)
 
 
 def breakdown_tables(report: SuiteReport) -> list[Table]:

@@ -202,7 +202,7 @@ def breakdown_plot(report: SuiteReport) -> Figure:
         handles, names = axes.get_legend_handles_labels()
         unique = dict(zip(names, handles, strict=True))
         axes.legend(unique.values(), unique.keys(), loc="best", fontsize=7, frameon=False)
-    figure.suptitle(f"{nodes.attention} minus {nodes.baseline} by node group (t-intervals)")
+    figure.suptitle(f"{nodes.attention} minus {nodes.baseline} by {nodes.unit} group (t-intervals)")
     figure.tight_layout()
     return figure
 
@@ -230,12 +230,13 @@ PLOT_TITLES = {
     "cost": "Cost trade-off",
     "attention": "Attention diagnostics",
     "homophily": "Homophily of the graph and of attention",
-    "breakdown": "Headline comparison by node group",
 }
 
 
 def plot_title(name: str, report: SuiteReport) -> str:
     """A plot's caption, named for what it shows in this report."""
+    if name == "breakdown":
+        return f"Headline comparison by {report.breakdown.unit} group"
     return homophily_title(report) if name == "homophily" else PLOT_TITLES[name]
 
 

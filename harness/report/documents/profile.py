@@ -28,6 +28,20 @@ def profile_rows(profile: DatasetProfile) -> list[list[str]]:
         ["isolated nodes", f"{profile.isolated_nodes}"],
         ["removed on load", "{} self-loops, {} repeated edges".format(*removed)],
     ]
+    graphs = profile.collection
+    if graphs is not None:  # graph classification: the classes are those of the graphs
+        rows[:0] = [
+            [
+                "graphs",
+                f"{graphs.graphs}, of {graphs.nodes_minimum} to {graphs.nodes_maximum} nodes "
+                f"(median {graphs.nodes_median:g})",
+            ],
+            ["graph classes", f"{len(profile.class_counts)}: {balance}"],
+        ]
+        if graphs.distinct_scaffolds is not None:
+            rows.insert(2, ["scaffolds", f"{graphs.distinct_scaffolds} distinct (Bemis-Murcko)"])
+        if graphs.skipped_rows:
+            rows.insert(2, ["rows skipped", f"{graphs.skipped_rows} (invalid_rows = skip)"])
     if profile.labelled:
         rows.append(["classes", f"{len(profile.class_counts)}: {balance}"])
         rows.append(["unlabelled nodes", f"{profile.unlabelled_nodes}"])

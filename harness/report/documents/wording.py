@@ -192,7 +192,7 @@ def breakdown_summary(nodes: Breakdown) -> str:
     """Where the headline comparison's gain concentrates over the node groups, in one
     sentence."""
     if nodes.groups.empty:
-        return "No per-node predictions are stored for these runs."
+        return f"No per-{nodes.unit} predictions are stored for these runs."
     if nodes.attention is None:
         return "No comparison: the suite lacks one of the two sides."
     rows = nodes.headline_rows()
@@ -206,7 +206,7 @@ def breakdown_summary(nodes: Breakdown) -> str:
         )
 
     gains, losses = rows[rows["verdict"] == BETTER], rows[rows["verdict"] == WORSE]
-    lead = f"{nodes.attention} against {nodes.baseline} by node group: "
+    lead = f"{nodes.attention} against {nodes.baseline} by {nodes.unit} group: "
     if gains.empty and losses.empty:
         return lead + "no group differs (each is inconclusive or within the minimum gain)."
     parts = []
