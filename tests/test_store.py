@@ -18,6 +18,7 @@ import harness.storage.outages
 from harness.errors import InputError, ServiceOutage
 from harness.storage import store
 from harness.storage.database import has_table, insert, locate, opened, prepare, read_rows
+from harness.storage.tables import PREDICTIONS
 
 
 def record(key: str, seed: int = 0, contender: str = "convolution", **changes) -> dict:
@@ -112,6 +113,7 @@ GROWN = Table(
 
 def test_tables_gain_new_columns_only_when_written(any_store):
     with opened(any_store, write=True) as connection:
+        prepare(connection, PREDICTIONS)  # a Heedful store, not only another program's table
         prepare(connection, SMALL)
         insert(connection, SMALL, {"name": "old"}, replace=False)
     with opened(any_store, write=False) as connection:  # reading: the missing column is None

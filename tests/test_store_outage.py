@@ -6,11 +6,9 @@ stored. The server is a private one (tests/private_postgres.py), stopped with `p
 
 from __future__ import annotations
 
-import os
 import subprocess
 import sys
 import time
-from collections.abc import Iterator
 from pathlib import Path
 
 import psutil
@@ -23,12 +21,6 @@ from harness.planning import expand, load_suite
 from harness.storage import store
 from harness.storage.database import locate
 from tests.pausing import resume, stopped_in, wait_for
-from tests.private_postgres import (
-    PrivateServer,
-    remove_private_server,
-    server_programs,
-    start_private_server,
-)
 
 pytestmark = pytest.mark.slow
 ROOT = Path(__file__).resolve().parents[1]
@@ -36,18 +28,9 @@ OUTAGE = 6  # seconds the server stays down: several runs try to store meanwhile
 
 
 @pytest.fixture
-def server() -> Iterator[PrivateServer]:
-    programs = server_programs()
-    if programs is None:
-        message = "PostgreSQL's server programs are not installed; run .ci/services"
-        if os.environ.get("CI") == "true":
-            pytest.fail(message)
-        pytest.skip(message)  # a developer machine without them; CI always has them
-    private = start_private_server(programs)
-    try:
-        yield private
-    finally:
-        remove_private_server(private)
+def server(private_server):
+    """A PostgreSQL server of this test's own, which it may stop and start."""
+    return private_server
 
 
 def stored_keys(url: str) -> list[str]:

@@ -80,7 +80,7 @@ def run_suite(
     if storage is not None:
         raise InputError(
             f"--tuning-database: suite '{suite.name}' has no [tuning] table, so nothing would use "
-            f"{storage!r}; allowed: --tuning-database with a suite that tunes"
+            "that database; allowed: --tuning-database with a suite that tunes"
         )
     check_suite_memory(suite, suite_path, jobs, memory_limit)  # synthetic: before data
     # spawned workers start before the heavy imports below, so that theirs overlap this

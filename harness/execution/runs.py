@@ -101,6 +101,6 @@ def failure_line(spec: RunSpec, error: BaseException) -> str:
     message = " ".join(str(error).split()) or "no message"
     if isinstance(error, ServiceOutage):
         raise error  # the store's server, not this run: it stops every run as it is
-    if isinstance(error, InputError):
+    if isinstance(error, InputError) and not out_of_space(error):  # a full disk: see no_space_line
         raise InputError(f"{describe(spec)}: {message}") from None
     return f"{describe(spec)} failed: {type(error).__name__}: {message}"

@@ -17,6 +17,7 @@ import sqlalchemy
 from sqlalchemy.engine import URL
 
 from harness.errors import InputError, ServiceOutage
+from harness.storage.urls import masked
 
 OUTAGE_SECONDS = 60.0  # README, "Stores and servers": how long a command waits for a server
 FIRST_PAUSE, LONGEST_PAUSE = 0.5, 4.0
@@ -70,10 +71,10 @@ def first_line(error: BaseException) -> str:
     return text.splitlines()[0] if text else type(seen).__name__
 
 
-def outage_line(shown: str, error: BaseException, password: str | None) -> str:
+def outage_line(shown: str, error: BaseException, hidden: list[str]) -> str:
     reason = first_line(error)
-    if password:
-        reason = reason.replace(password, "***")
+    for secret in hidden:
+        reason = reason.replace(secret, "***")
     return (
         f"{shown}: the database server stopped answering and was still away after "
         f"{OUTAGE_SECONDS:g} s ({reason}); everything stored before is kept: run the same "
@@ -82,10 +83,10 @@ def outage_line(shown: str, error: BaseException, password: str | None) -> str:
 
 
 def outlasting(
-    call: Callable[Arguments, Result], where: Callable[..., tuple[str, str | None]]
+    call: Callable[Arguments, Result], where: Callable[..., tuple[str, list[str]]]
 ) -> Callable[Arguments, Result]:
     """`call`, tried again whole while its server is away, for up to OUTAGE_SECONDS; then
-    ServiceOutage. `where(*arguments)` gives the server as shown and its password (masked)."""
+    ServiceOutage. `where(*arguments)` gives the server as shown and its secrets (masked)."""
 
     @functools.wraps(call)
     def patient(*arguments: Arguments.args, **keywords: Arguments.kwargs) -> Result:
@@ -98,8 +99,8 @@ def outlasting(
                 if not unanswered(error):
                     raise
                 if time.monotonic() + pause > deadline:
-                    shown, password = where(*arguments)
-                    raise ServiceOutage(outage_line(shown, error, password)) from None
+                    shown, hidden = where(*arguments)
+                    raise ServiceOutage(outage_line(shown, error, hidden)) from None
             time.sleep(pause)
             pause = min(2 * pause, LONGEST_PAUSE)
 
@@ -112,7 +113,7 @@ def check_reachable(url: URL, option: str, timeout: float = 5.0) -> None:
         return
     backend = url.get_backend_name()
     port = url.port or DEFAULT_PORTS.get(backend)
-    shown = url.render_as_string(hide_password=True)
+    shown = masked(url)
     if port is None:
         raise InputError(f"{option} {shown}: no port given and none known for {backend}")
     try:
