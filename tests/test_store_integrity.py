@@ -89,6 +89,7 @@ def test_a_store_cut_short_is_named_as_damaged(command, finished_store, tmp_path
     assert digest(damaged) == before
 
 
+@pytest.mark.slow
 def test_a_store_path_that_is_a_pipe_is_refused_at_once(tmp_path):
     """A FIFO would block in open() until a writer appears, deaf to Ctrl-C."""
     pipe = tmp_path / "runs.db"
@@ -130,6 +131,7 @@ def test_a_full_disk_while_the_store_is_written_is_one_line(
     assert f"{store}: cannot write the result store: the disk is full" in line
 
 
+@pytest.mark.slow
 def test_a_store_that_cannot_grow_gives_one_line(tiny_suite, tmp_path):
     """RLIMIT_FSIZE stops the store file and its journal from growing (SQLite's I/O error)."""
     store = tmp_path / "runs.db"

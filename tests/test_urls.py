@@ -82,6 +82,7 @@ def test_error_lines_never_hold_the_password(url, option, tiny_suite, capsys):
     assert "hunter2" not in error
 
 
+@pytest.mark.slow
 def test_a_store_url_with_a_query_password_is_never_printed(private_server, tiny_suite, capsys):
     """A working store (a private server that trusts any password) named with a query-string
     password: the notes of a first and a second run (`reused from ...`) mask it."""
