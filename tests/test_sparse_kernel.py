@@ -106,3 +106,22 @@ def test_static_attention_falls_back_to_exact_maxima_far_below_the_bound():
     expected = aggregate(segment_softmax(scores, graph), values, graph)
     assert torch.isfinite(out).all()
     torch.testing.assert_close(out, expected)
+
+
+def test_dynamic_scores_by_blocks_match_finite_differences(monkeypatch):
+    """Several blocks of edges (4 per block), with and without edge parts."""
+    from harness.models import sparse_dynamic
+
+    monkeypatch.setattr(sparse_dynamic, "EDGES_PER_BLOCK", 4)
+    graph = target_graph(EDGES, NODES)
+    double = {"dtype": torch.float64, "requires_grad": True}
+    source, target = torch.randn(NODES, 3, 2, **double), torch.randn(NODES, 3, 2, **double)
+    att, edge_part = torch.randn(1, 3, 2, **double), torch.randn(graph.edges, 3, 2, **double)
+    for part in (None, edge_part):
+        assert gradcheck(
+            lambda s, t, a, part=part: sparse_dynamic.dynamic_scores(s, t, a, part, graph, 0.2),
+            (source, target, att),
+        )
+    assert gradcheck(
+        lambda e: sparse_dynamic.dynamic_scores(source, target, att, e, graph, 0.2), (edge_part,)
+    )

@@ -25,6 +25,7 @@ from torch import Tensor, nn
 from torch.nn import functional
 from torch_geometric.nn import GATConv, GATv2Conv, TransformerConv
 
+from harness.models.sparse_dynamic import dynamic_scores
 from harness.models.sparse_kernel import (
     TargetGraph,
     aggregate,
@@ -102,8 +103,12 @@ def dynamic_attention(
 ) -> Tensor:
     source = by_head(layer, layer.lin_l, x)
     target = source if layer.share_weights else by_head(layer, layer.lin_r, x)
-    hidden = pair_sum(source, target, graph, edge_features(layer, edge_attr, graph))
-    scores = (functional.leaky_relu(hidden, layer.negative_slope) * layer.att).sum(-1).t()
+    edges = edge_features(layer, edge_attr, graph)
+    if torch.compiler.is_compiling():  # the compiler fuses the plain form into one loop
+        hidden = pair_sum(source, target, graph, edges)
+        scores = (functional.leaky_relu(hidden, layer.negative_slope) * layer.att).sum(-1).t()
+    else:
+        scores = dynamic_scores(source, target, layer.att, edges, graph, layer.negative_slope)
     return finish(layer, aggregate(weigh(layer, scores, graph), source, graph), x)
 
 

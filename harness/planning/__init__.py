@@ -188,13 +188,14 @@ def run_spec(
         suite=suite_name or suite.name,
         contender=design.contender,
         options=design.options,
-        training=resolve_kernel(
-            resolve_compile(
+        # the kernel first: whether compiling pays depends on it
+        training=resolve_compile(
+            resolve_kernel(
                 design.options.training.apply(suite.training),
-                design.options.model,
+                design.options,
                 suite.data if data is None else data,
             ),
-            design.options,
+            design.options.model,
             suite.data if data is None else data,
         ),
         data=suite.data if data is None else data,

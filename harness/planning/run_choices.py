@@ -28,15 +28,18 @@ def resolve_compile(training: Training, model: str, data: DataSource) -> Trainin
     if training.compile != "auto":
         return training
     edges = data.declared_edges()
-    wanted = edges is not None and compile_pays_back(model, edges, training.epochs)
+    wanted = edges is not None and compile_pays_back(model, edges, training.epochs, training.kernel)
     return training.model_copy(update={"compile": wanted})
 
 
-def compile_pays_back(model: str, edges: int, epochs: int) -> bool:
+def compile_pays_back(model: str, edges: int, epochs: int, kernel: str = "scatter") -> bool:
     """Whether compiling a full-batch run of `model` on `edges` directed edges for `epochs`
-    epochs saves more than the compile costs (the kind's measured `compile_payback`)."""
+    epochs saves more than the compile costs (the kind's measured `compile_payback`, or its
+    `sparse_compile_payback` on the sparse kernel)."""
     kind = MODEL_KINDS.get(model)
     payback = None if kind is None else kind.compile_payback
+    if kind is not None and kernel == "sparse":
+        payback = kind.sparse_compile_payback
     return payback is not None and edges >= COMPILE_MIN_EDGES and edges * epochs >= payback
 
 
