@@ -73,6 +73,7 @@ def saved_bytes(options: ContenderBase, size: GraphSize, nodes: float, edges: fl
     saved = 0.0
     for width, out, heads in layer_shapes(options, size):
         per_node = FLOAT * (floats.node_inputs * width + floats.node_outputs * heads * out)
+        per_node += FLOAT * options.extra_floats_per_node()
         per_edge = FLOAT * heads * (floats.edge_outputs * out + floats.edge_scalars)
         saved += nodes * per_node + edges * (per_edge + 2 * INDEX)
     return saved
