@@ -176,7 +176,7 @@ def textbook_epochs(spec, epochs: int, compile_model: bool) -> list[float]:
 
 def heedful_epochs(spec, on_epoch_seconds: list[float]) -> dict:
     """Heedful's whole run; the seconds of each epoch from its per-epoch callback."""
-    from harness.training.fit import perform
+    from harness.training.runs import perform
 
     last = [time.perf_counter()]
 

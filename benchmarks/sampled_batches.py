@@ -70,7 +70,7 @@ def one(contender: str, batching: str, epochs: int, nodes: int) -> dict:
     import tomllib
 
     suite = parse_suite(tomllib.loads(suite_text(contender, batching, epochs, nodes)), "bench")
-    from harness.training.fit import perform
+    from harness.training.runs import perform
 
     started = time.perf_counter()
     result = perform(expand(suite)[0])

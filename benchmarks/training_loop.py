@@ -1,4 +1,4 @@
-"""Seconds per epoch of Heedful's fit() against a plain hand-written PyG training loop.
+"""Seconds per epoch of Heedful's one training loop (fit_nodes) against a plain PyG loop.
 
 Both loops train the same contender (same initial weights) on the same graph and split with
 the same Adam settings for the same number of epochs, and both score validation accuracy after
@@ -33,7 +33,7 @@ from harness.execution.pool import available_cores
 from harness.gate.baseline import cpu_model
 from harness.models import build_model
 from harness.planning import load_suite
-from harness.training.fit import fit
+from harness.training.node_loss import fit_nodes
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -99,7 +99,7 @@ def main() -> None:
         for _ in range(args.repeats):
             torch.manual_seed(0)
             model = build_model(options, data.num_features, classes)
-            result = fit(model, data, split, training, "accuracy")
+            result = fit_nodes(model, data, split, training, "accuracy")
             heedful_times.append(result.seconds_per_epoch)
             torch.manual_seed(0)
             model = build_model(options, data.num_features, classes)

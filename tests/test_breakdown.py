@@ -24,8 +24,8 @@ from harness.planning import expand, load_suite
 from harness.report.documents.suite import suite_document
 from harness.report.documents.wording import breakdown_summary
 from harness.report.formats.folder import write_report
+from harness.results import NodePredictions
 from harness.storage.predictions import decode, encode, levels, load_predictions
-from harness.training.fit import NodePredictions
 
 CLASSES, PER_DISTRICT, NEIGHBOURS, SIGNAL = 6, 120, 6, 2.0
 

@@ -18,7 +18,8 @@ from harness.schema.data import SyntheticData
 from harness.schema.training import Training
 from harness.storage import store
 from harness.training import compiled
-from harness.training.fit import fit, perform
+from harness.training.node_loss import fit_nodes
+from harness.training.runs import perform
 
 GRAPH = SyntheticData(source="synthetic", nodes=80, classes=3, average_degree=5, graph_seed=2)
 
@@ -40,7 +41,7 @@ def trained(spec, compile_model: bool):
     split = make_split(data, spec.split, spec.seed)
     torch.manual_seed(spec.seed)
     model = build_model(spec.options, data.num_features, int(data.y.max()) + 1)
-    return model, fit(model, data, split, training, spec.metric), data
+    return model, fit_nodes(model, data, split, training, spec.metric), data
 
 
 def test_compiled_training_matches_eager(tiny):

@@ -21,7 +21,7 @@ from harness.training.diagnostics import (
     chunked_attention_diagnostics,
     head_measures,
 )
-from harness.training.fit import fit
+from harness.training.node_loss import fit_nodes
 
 
 def test_head_measures_by_hand() -> None:
@@ -69,7 +69,7 @@ def trained_attention(model: str, data, split, attend_to_self: bool) -> dict:
     )
     network = build_model(options, data.num_features, int(data.y.max()) + 1)
     training = Training(epochs=150, patience=150, learning_rate=0.02, weight_decay=0)
-    fit(network, data, split, training, "accuracy")
+    fit_nodes(network, data, split, training, "accuracy")
     return attention_diagnostics(network, data.x, data.edge_index, data.y)
 
 

@@ -23,8 +23,8 @@ from harness.report.documents.profile import profile_rows
 from harness.schema.base import key_dump
 from harness.schema.contenders import AttentionOptions, EdgeConvolutionOptions
 from harness.schema.data import SyntheticData
-from harness.training.fit import perform
 from harness.training.inference import chunked_logits
+from harness.training.runs import perform
 
 NODES = """\
 id,label,f_size

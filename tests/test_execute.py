@@ -24,7 +24,7 @@ from harness.execution.pool import check_threads
 from harness.execution.runs import pending
 from harness.planning import expand, load_suite
 from harness.storage import store
-from harness.training.fit import perform
+from harness.training.runs import perform
 from tests.pausing import resume, stopped_in, wait_for
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -6,7 +6,8 @@ from __future__ import annotations
 import pytest
 import torch
 
-import harness.training.fit
+import harness.training.node_loss
+import harness.training.runs
 from harness.data import load_graph
 from harness.data.inductive import measure_arrival, training_subgraph
 from harness.data.splits import make_split
@@ -53,12 +54,12 @@ def test_no_held_out_node_or_edge_reaches_the_training_forward_pass(monkeypatch,
         )
         return network
 
-    monkeypatch.setattr(harness.training.fit, "build_model", recording_build)
+    monkeypatch.setattr(harness.training.node_loss, "build_model", recording_build)
     suite = karate_suite(model)
     spec = expand(suite)[0]
     data = load_graph(suite.data)
     split = make_split(data, suite.split, spec.seed)
-    harness.training.fit.perform(spec)
+    harness.training.runs.perform(spec)
     train = set(split.train.tolist())
     held_out = set(split.validation.tolist()) | set(split.test.tolist())
     training_calls = [(x, edges) for training, x, edges in seen if training]
@@ -118,7 +119,7 @@ def test_too_small_a_radius_is_caught_by_the_comparison() -> None:
 
 def test_inductive_runs_store_the_arrival_figures() -> None:
     suite = karate_suite({"model": "sage", "hidden": 8}, epochs=3)
-    result = harness.training.fit.perform(expand(suite)[0])
+    result = harness.training.runs.perform(expand(suite)[0])
     arrival = result.extras["arrival"]
     assert arrival["new_nodes"] == 34 - 12
     assert arrival["radius"] == 2
@@ -127,4 +128,4 @@ def test_inductive_runs_store_the_arrival_figures() -> None:
 
 def test_transductive_runs_have_no_arrival() -> None:
     suite = karate_suite({"model": "mlp", "hidden": 8}, setting="transductive", epochs=2)
-    assert "arrival" not in harness.training.fit.perform(expand(suite)[0]).extras
+    assert "arrival" not in harness.training.runs.perform(expand(suite)[0]).extras

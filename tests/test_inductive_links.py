@@ -15,7 +15,7 @@ from harness.data.inductive_edges import inductive_edge_split
 from harness.errors import InputError
 from harness.models.decoders import LinkModel
 from harness.planning import expand, parse_suite
-from harness.training.tasks import perform
+from harness.training.runs import perform
 
 # fictional Fernhill Bicycle Co-operative: new docking stations join an existing network
 INDUCTIVE_SUITE = """\

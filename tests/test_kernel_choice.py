@@ -17,8 +17,8 @@ from harness.planning.run_choices import SPARSE_MIN_EDGES, resolve_kernel, step_
 from harness.schema.contenders import AttentionOptions, ConvolutionOptions
 from harness.schema.data import SyntheticData
 from harness.schema.training import Training
-from harness.training.fit import perform
 from harness.training.inference import chunked_logits
+from harness.training.runs import perform
 
 GRAPH = SyntheticData(source="synthetic", nodes=90, classes=3, average_degree=5, graph_seed=4)
 LARGE = GRAPH.model_copy(update={"nodes": 100_000, "average_degree": 20})

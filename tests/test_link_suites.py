@@ -16,7 +16,7 @@ from harness.data.edge_splits import edge_split
 from harness.errors import InputError
 from harness.planning import expand, load_suite, parse_suite
 from harness.storage import store
-from harness.training.tasks import perform
+from harness.training.runs import perform
 
 # fictional Fernhill Bicycle Co-operative: docking stations and regular trips between them
 LINK_SUITE = """\

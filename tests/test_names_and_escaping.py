@@ -14,8 +14,8 @@ import pytest
 from harness.cli import main
 from harness.execution.runs import record_of
 from harness.planning import expand, load_suite
+from harness.results import RunResult
 from harness.storage import store
-from harness.training.fit import RunResult
 
 SUITE_NAME = "closing[/x]tag"
 LABELS_CONTENDER = '[contenders.plain]\nmodel = "mlp"\n'

@@ -6,10 +6,10 @@ from __future__ import annotations
 import numpy as np
 from sklearn.metrics import roc_auc_score
 
+from harness.results import NodePredictions
 from harness.storage import store
 from harness.storage.database import has_table
 from harness.storage.predictions import decode, encode, levels, load_predictions, to_text
-from harness.training.fit import NodePredictions
 
 SCORES = ("val_metric", "test_metric", "test_accuracy", "test_macro_f1", "test_roc_auc")
 COSTS = ("seconds", "seconds_per_epoch", "peak_mb")

@@ -20,8 +20,8 @@ from harness.report.documents.suite import suite_document
 from harness.report.documents.suite_tables import frames
 from harness.report.formats import html, latex, markdown
 from harness.report.formats.folder import write_plots, write_report
+from harness.results import RunResult
 from harness.storage import store
-from harness.training.fit import RunResult
 
 HOSTILE_SUITE = """\
 # Fictional parcel lockers of an invented courier network; names chosen to break renderers

@@ -26,7 +26,7 @@ def step_tensor_bytes(nodes: int) -> float:
     for _, step in zip(range(5), feed.steps(), strict=False):
         meter = ActivationMeter()
         with torch.autograd.graph.saved_tensors_hooks(meter.pack, meter.unpack):
-            logits = model(step.x, step.edge_index, step.edge_weight)[step.rows]
+            logits = model(*step.inputs)[step.rows]
             nn.functional.cross_entropy(logits, step.labels)
         sizes.append(meter.bytes + tensor_bytes(*step.tensors()))
     return sum(sizes) / len(sizes)

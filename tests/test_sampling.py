@@ -67,6 +67,6 @@ def test_a_model_without_edges_gets_plain_node_batches():
     steps = list(feed.steps())
     assert [step.x.size(0) for step in steps] == [50, 50]
     assert all(step.edge_index.size(1) == 0 for step in steps)
-    extras = feed.extras()
+    extras = feed.extras()["batching"]
     assert extras["sampled_nodes_per_step"] == 50 and extras["sampled_edges_per_step"] == 0
     assert extras["sampler"] == "heedful_uniform" and extras["steps_per_epoch"] == 2

@@ -17,9 +17,9 @@ from harness.planning import expand, load_suite
 from harness.report.documents.suite import suite_document
 from harness.report.documents.summary import summary_documents
 from harness.report.formats import terminal
+from harness.results import NodePredictions, RunResult
 from harness.storage import store
 from harness.storage.suite_runs import suite_runs
-from harness.training.fit import NodePredictions, RunResult
 
 DEMO = Path(__file__).parent.parent / "suites" / "demo.toml"
 # each model kind's share of correct test nodes: close enough for inconclusive verdicts

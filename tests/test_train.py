@@ -16,9 +16,10 @@ from harness.schema.contenders import ConvolutionOptions, MLPOptions
 from harness.schema.data import SyntheticData
 from harness.schema.splits import FractionSplit
 from harness.schema.training import Training
-from harness.training.fit import fit, perform
 from harness.training.metrics import score
+from harness.training.node_loss import fit_nodes
 from harness.training.resources import MEBIBYTE
+from harness.training.runs import perform
 
 
 @pytest.fixture(scope="module")
@@ -82,7 +83,7 @@ def test_early_stopping_restores_the_best_weights():
     data, split = small_problem()
     model = build_model(ConvolutionOptions(model="gcn", hidden=8), 8, 3)
     training = Training(epochs=300, patience=5, learning_rate=0.05)
-    result = fit(model, data, split, training, "accuracy")
+    result = fit_nodes(model, data, split, training, "accuracy")
     assert result.epochs < 300  # stopped early
     assert result.epochs - result.best_epoch == 5
     assert len(result.curve) == result.epochs
@@ -104,7 +105,7 @@ def test_costs_are_measured():
     data, split = small_problem()
     model = build_model(ConvolutionOptions(model="gcn", hidden=8), 8, 3)
     assert all(isinstance(layer, GCNConv) for layer in model.layers)
-    result = fit(model, data, split, Training(epochs=10, patience=10), "macro_f1")
+    result = fit_nodes(model, data, split, Training(epochs=10, patience=10), "macro_f1")
     assert result.params == 99
     inputs = sum(t.numel() * t.element_size() for t in (data.x, data.edge_index, data.y))
     assert result.peak_mb * MEBIBYTE > 99 * 4 * 4 + inputs
@@ -131,5 +132,5 @@ def test_epoch_callback_can_stop_a_run():
 
     model = build_model(MLPOptions(model="mlp", hidden=8), 8, 3)
     with pytest.raises(Enough):
-        fit(model, data, split, Training(epochs=50, patience=50), "accuracy", on_epoch)
+        fit_nodes(model, data, split, Training(epochs=50, patience=50), "accuracy", on_epoch)
     assert [epoch for epoch, _ in seen] == [1, 2, 3]

@@ -7,13 +7,13 @@ import math
 import optuna
 import pytest
 
-import harness.training.fit
+import harness.training.node_loss
 from harness import api
 from harness.cli import main
 from harness.data.splits import Split
 from harness.planning import load_suite
 from harness.storage import store
-from harness.training.fit import perform
+from harness.training.runs import perform
 from harness.tuning.results import curve_frame, settings_frame, summary_frame, tuning_summary
 from harness.tuning.sizing import parameter_count, size_hidden, target_count
 from harness.tuning.storage import open_storage
@@ -76,13 +76,13 @@ class Poison:
 
 
 def test_the_test_split_is_never_read_during_tuning(tmp_path, monkeypatch):
-    real_split = harness.training.fit.make_split
+    real_split = harness.training.node_loss.make_split
 
     def poisoned(data, spec, seed):
         split = real_split(data, spec, seed)
         return Split(split.train, split.validation, Poison())
 
-    monkeypatch.setattr(harness.training.fit, "make_split", poisoned)
+    monkeypatch.setattr(harness.training.node_loss, "make_split", poisoned)
     suite = load_suite(write_suite(tmp_path))
     plan = tuning_plan(suite)[0]
     # the poison trips when the test nodes are used, as an ordinary run does

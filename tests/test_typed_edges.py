@@ -16,10 +16,11 @@ from torch_geometric.data import Data
 from harness.data.assemble import assemble
 from harness.data.splits import Split
 from harness.models import build_model
+from harness.results import RunResult
 from harness.schema.contenders import AttentionOptions, ConvolutionOptions
 from harness.schema.training import Training
 from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
-from harness.training.fit import RunResult, fit
+from harness.training.node_loss import fit_nodes
 
 CLASSES, TYPES = 4, 3
 
@@ -48,7 +49,7 @@ def trained(options: object, data: Data, edge_width: int = 0) -> tuple[RunResult
     torch.manual_seed(0)
     model = build_model(options, CLASSES, CLASSES, edge_width=edge_width)
     training = Training(epochs=120, patience=40, learning_rate=0.01)
-    return fit(model, data, split, training, "accuracy"), model
+    return fit_nodes(model, data, split, training, "accuracy"), model
 
 
 @pytest.fixture(scope="module")

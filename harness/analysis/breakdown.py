@@ -26,8 +26,8 @@ from harness.analysis.stats import (
     t_interval,
 )
 from harness.analysis.verdict import judge_all
+from harness.results import NodePredictions
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
-from harness.training.fit import NodePredictions
 from harness.training.metrics import score_probabilities
 
 COLUMNS = ["grouping", "group", "nodes", "attention", "baseline", "difference", "low", "high"]

@@ -25,6 +25,7 @@ from harness.analysis.stats import (
 from harness.analysis.verdict import Headline, best_pair, headline, judge_all
 from harness.data import load_graph
 from harness.errors import InputError
+from harness.results import NodePredictions
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 from harness.schema.suite import Suite
 from harness.schema.tasks import TASKS, task_kind
@@ -32,7 +33,6 @@ from harness.storage import store
 from harness.storage.predictions import load_predictions
 from harness.storage.selection import spec_runs
 from harness.storage.suite_runs import SuiteRuns
-from harness.training.fit import NodePredictions
 
 if TYPE_CHECKING:
     from harness.analysis.homophily_map import HomophilyMapSummary

@@ -37,7 +37,7 @@ from harness.execution.runs import (
 )
 from harness.planning import RunSpec
 from harness.storage import store
-from harness.training.tasks import perform
+from harness.training.runs import perform
 
 RESUBMISSIONS = 3  # Dask's own default for allowed-failures, stated for local clusters too
 CONNECT_SECONDS = 5

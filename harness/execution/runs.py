@@ -8,10 +8,10 @@ from typing import Any
 
 from harness.errors import InputError, ServiceOutage
 from harness.planning import RunSpec
+from harness.results import RunResult
 from harness.storage import store
 from harness.storage.predictions import encode, to_text
-from harness.training.fit import RunResult, as_trained
-from harness.training.tasks import perform
+from harness.training.runs import as_trained, perform
 
 
 def record_of(spec: RunSpec, result: RunResult) -> dict[str, Any]:

@@ -21,8 +21,8 @@ from pathlib import Path
 
 import numpy as np
 
+from harness.results import NodePredictions
 from harness.storage.store import load_encoded_predictions
-from harness.training.fit import NodePredictions
 
 HEADER = struct.Struct("<IHIB")  # nodes in the graph, classes, test nodes, bits per value
 FLOAT16_HEADER = struct.Struct("<IHI")  # the first encoding: float16 values, no bits field

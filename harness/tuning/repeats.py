@@ -19,7 +19,7 @@ from harness.execution.runs import record_of
 from harness.planning import expand, with_settings
 from harness.schema.suite import Suite
 from harness.storage import store
-from harness.training.tasks import perform
+from harness.training.runs import perform
 from harness.tuning.storage import fail_stale_trials
 from harness.tuning.study import WORKER
 from harness.tuning.trial_loop import run_trials

@@ -32,7 +32,7 @@ from harness.schema.tuning import (
     is_integer_option,
     spaces,
 )
-from harness.training.tasks import perform
+from harness.training.runs import perform
 
 Settings = dict[str, Any]
 WORKER = f"{socket.gethostname()}:{os.getpid()}"  # which process ran a trial, for diagnosis

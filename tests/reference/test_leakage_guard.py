@@ -34,7 +34,7 @@ from harness.schema.contenders import (
 )
 from harness.schema.splits import FractionSplit
 from harness.schema.training import Training
-from harness.training.fit import fit
+from harness.training.node_loss import fit_nodes
 
 DISTANCE = 1.5
 NODES = 600
@@ -75,7 +75,7 @@ def mean_test_accuracy(data: Data, options) -> float:
         split = make_split(data, SPLIT, seed)
         torch.manual_seed(seed)
         model = build_model(options, data.num_features, 2)
-        scores.append(fit(model, data, split, TRAINING, "accuracy").test_scores["accuracy"])
+        scores.append(fit_nodes(model, data, split, TRAINING, "accuracy").test_scores["accuracy"])
     return float(np.mean(scores))
 
 

@@ -24,9 +24,9 @@ from harness.data import load_graph
 from harness.data.edge_splits import edge_split
 from harness.models.decoders import LinkModel, build_link_model
 from harness.planning import expand, parse_suite
-from harness.training.link_fit import fit_links, graph_view
+from harness.training.link_loss import fit_links, graph_view
 from harness.training.link_metrics import fast_link_score, hits_at_k, link_score
-from harness.training.tasks import perform
+from harness.training.runs import perform
 
 GRAPH_KINDS = ("gat", "gatv2", "dot_product", "gcn", "sage")
 

@@ -103,7 +103,7 @@ def test_all_neighbours_in_one_batch_give_full_batch_gradients(name):
     steps = list(SampledFeed(model, data, rows, training, seed=3).steps())
     assert len(steps) == 1
     step = steps[0]
-    logits = model(step.x, step.edge_index, step.edge_weight)[step.rows]
+    logits = model(*step.inputs)[step.rows]
     nn.functional.cross_entropy(logits, step.labels).backward()
     for expected, sampled in zip(full, gradients(model), strict=True):
         torch.testing.assert_close(sampled, expected, atol=1e-5, rtol=0)

@@ -9,8 +9,8 @@ import pandas as pd
 
 from harness.formatting import missing
 from harness.report.documents.document import Document, table
+from harness.results import NodePredictions
 from harness.storage.store import TEST_COLUMNS
-from harness.training.fit import NodePredictions
 
 RECORD_FIELDS = (
     "suite",
