@@ -13,6 +13,8 @@ from harness.data import load_graph
 from harness.planning import expand, load_suite
 from harness.storage import store
 from harness.storage.predictions import load_predictions
+from harness.training.runs import OBJECTIVES
+from tests.graph_files import write_molecules
 
 # fictional Brackenridge Circuits: inspected boards as graphs of components and traces; the
 # flaw class is which defect pattern a board holds (a loop, a fan-out, a bridge, a short)
@@ -167,3 +169,51 @@ def test_graph_run_keys_follow_the_graphs_table_and_an_explicit_default_readout(
     before = {spec.key for spec in expand(load_suite(boards))}
     boards.write_text(plain.replace('model = "mlp"', 'model = "mlp"\nreadout = "mean"'))
     assert {spec.key for spec in expand(load_suite(boards))} == before
+
+
+MOLECULE_SUITE = """\
+name = "tiny_dyes"
+seeds = 1
+task = "graph_classification"
+
+[data]
+source = "molecules"
+file = "dyes.csv"
+
+[split]
+train = 0.5
+validation = 0.25
+test = 0.25
+
+[training]
+epochs = 3
+
+[contenders.attention_bonds]
+model = "gat"
+heads = 2
+hidden = 4
+edge_features = true
+
+[contenders.edge_convolution]
+model = "gine"
+hidden = 8
+"""
+
+
+def test_molecule_bonds_reach_the_models_that_read_edge_attributes(
+    write_suite, tmp_path, monkeypatch
+):
+    """The bond attributes (one-hot bond type, stereo, conjugation) go to GAT's `edge_dim` and
+    GINE's edge term; both runs finish and store their figures."""
+    monkeypatch.setenv("HEEDFUL_CACHE", str(tmp_path / "cache"))
+    write_molecules(tmp_path)
+    suite = write_suite(MOLECULE_SUITE, "dyes.toml")
+    spec = expand(load_suite(suite))[0]
+    prepared = OBJECTIVES["graph_loss"](spec, load_graph(spec.data), False)
+    bonds = load_graph(spec.data).storage.edge_attr.size(1)
+    assert prepared.model.encoder.edge_width == bonds > 0
+    step = next(iter(prepared.feed.steps()))
+    assert step.edge_attr is not None and step.edge_attr.size(1) == bonds
+    runs_db = tmp_path / "runs.db"
+    assert main(["run", str(suite), "--store", str(runs_db), "--quiet"]) == 0
+    assert len(store.load_runs(runs_db, ["tiny_dyes"])) == 2

@@ -33,6 +33,9 @@ class GraphsSource(DataSource):
 
     many_graphs: ClassVar[bool] = True
 
+    def declares_edge_attributes(self) -> bool | None:
+        return False  # molecules say otherwise: their bonds
+
 
 class MoleculeData(GraphsSource):
     """A table with one molecule per row: a SMILES column, a label column, an optional split
@@ -61,6 +64,9 @@ class MoleculeData(GraphsSource):
     @property
     def content_digest(self) -> str:
         return file_digest(self.file)
+
+    def declares_edge_attributes(self) -> bool | None:
+        return True  # bond type, stereo and conjugation, one-hot
 
 
 class GraphTablesData(GraphsSource):

@@ -114,4 +114,5 @@ GRAPH_CLASSIFICATION = TaskKind(
     "another shape",
     node_labels=False,
     many_graphs=True,
+    edge_attributes=True,
 )
