@@ -5,7 +5,7 @@ Random graphs with `edges` directed edges on edges / 20 nodes plus one self-loop
 64 input features, 8 heads x 8. `build` is the one-off sort of the edges into target order
 (once per graph for full-batch runs, once per batch for sampled ones). Each figure is the best
 of `--repeats` runs, after one warm-up. `[training] kernel = "auto"` uses the sparse kernel from
-harness.planning.run_choices.SPARSE_MIN_EDGES message edges per step on (README Performance).
+harness.planning.run_choices.SPARSE_MIN_EDGES message edges per step on (docs/performance.md).
 
     .venv/bin/python benchmarks/kernel_threshold.py --edges 10000,30000,100000
 """

@@ -3,7 +3,9 @@
 Graphs: the synthetic contextual block model with 100,000 nodes and 1,000,000 undirected edges
 (`--size 100k`) or 1,000,000 nodes and 5,000,000 undirected edges (`--size 1m`), 64 features,
 5 classes. Contenders: GAT 8 heads x 8, GATv2 8 heads x 8, GCN 64, SAGE 64 (two layers, dropout
-0.5, ELU; the attention output layer averages its 8 heads, as Heedful's default).
+0.5, ELU; the attention output layer averages its 8 heads, as Heedful's default); transformer
+8 heads x 8 (Shi et al.'s layer with its gated skip); global_attention 64 wide, 4 heads,
+performer attention (GPS layers over GINE, each edge's attribute the constant 1).
 
 Loops, each in its own process (so that its peak resident memory is its own), alternating:
 - `heedful` and `heedful_compiled`: Heedful's `perform()` of the run, compile = false / true,
@@ -50,6 +52,13 @@ CONTENDERS = {
     "gatv2": {"model": "gatv2", "heads": 8, "hidden": 8},
     "gcn": {"model": "gcn", "hidden": 64},
     "sage": {"model": "sage", "hidden": 64},
+    "transformer": {"model": "transformer", "heads": 8, "hidden": 8},
+    "global_attention": {
+        "model": "global_attention",
+        "hidden": 64,
+        "heads": 4,
+        "attention_kind": "performer",
+    },
 }
 LOOPS = (
     "heedful",
@@ -90,7 +99,10 @@ def suite_for(size: str, contender: str, epochs: int, compile_model: bool, kerne
 
 def textbook_model(contender: str, classes: int) -> nn.Module:
     """Two PyG layers with their defaults, as a tutorial would write them."""
-    from torch_geometric.nn import GATConv, GATv2Conv, GCNConv, SAGEConv
+    from torch_geometric.nn import GATConv, GATv2Conv, GCNConv, SAGEConv, TransformerConv
+
+    if contender == "global_attention":
+        return textbook_global(classes)
 
     class TwoLayers(nn.Module):
         def __init__(self) -> None:
@@ -99,6 +111,9 @@ def textbook_model(contender: str, classes: int) -> nn.Module:
                 layer = GATConv if contender == "gat" else GATv2Conv
                 self.first = layer(64, 8, heads=8)
                 self.second = layer(64, classes, heads=8, concat=False)
+            elif contender == "transformer":
+                self.first = TransformerConv(64, 8, heads=8, beta=True)
+                self.second = TransformerConv(64, classes, heads=8, concat=False, beta=True)
             elif contender == "gcn":
                 self.first, self.second = GCNConv(64, 64), GCNConv(64, classes)
             else:
@@ -111,6 +126,31 @@ def textbook_model(contender: str, classes: int) -> nn.Module:
             return self.second(x, edge_index)
 
     return TwoLayers()
+
+
+def textbook_global(classes: int) -> nn.Module:
+    """Two GPS layers over GINE with performer attention, as PyG's example builds them."""
+    from torch_geometric.nn import GINEConv, GPSConv
+
+    class GlobalLayers(nn.Module):
+        def __init__(self) -> None:
+            super().__init__()
+            self.entry, self.exit = nn.Linear(64, 64), nn.Linear(64, classes)
+            self.layers = nn.ModuleList()
+            for _ in range(2):
+                mlp = nn.Sequential(nn.Linear(64, 64), nn.ReLU(), nn.Linear(64, 64))
+                local = GINEConv(mlp, edge_dim=1)
+                self.layers.append(GPSConv(64, local, heads=4, attn_type="performer"))
+
+        def forward(self, x, edge_index):
+            ones = torch.ones(edge_index.size(1), 1)
+            x = self.entry(nn.functional.dropout(x, 0.5, self.training))
+            for index, layer in enumerate(self.layers):
+                x = layer(x, edge_index, edge_attr=ones)
+                x = nn.functional.elu(x) if index == 0 else x
+            return self.exit(x)
+
+    return GlobalLayers()
 
 
 def textbook_epochs(spec, epochs: int, compile_model: bool) -> list[float]:

@@ -12,26 +12,56 @@
     api.breakdown("runs/heedful.db", "suites/demo.toml")  # per node group and comparison
 
 Every function takes an optional `settings` (the suite's `[analysis]` table) and otherwise
-uses the defaults.
+uses the defaults. A suite is given as a suite file or a stored suite name, resolved here once
+(harness.storage.suite_runs) before any analysis sees it.
 """
 
+from __future__ import annotations
+
+from pathlib import Path
+
+import pandas as pd
+
+from harness.analysis import suite_report
 from harness.analysis.suite_report import (
     SuiteReport,
     ablation,
     analyse,
     analyse_each,
-    analyse_store,
     comparisons,
     contenders,
     cost,
     graph_homophily,
-    runs,
-    settings_of,
     stored_homophily_map,
 )
-from harness.analysis.suite_report import node_breakdown as breakdown
-from harness.report.wording import headline_sentence as headline
-from harness.report.wording import with_reasons
+from harness.report.documents.wording import headline_sentence as headline
+from harness.report.documents.wording import with_reasons
+from harness.schema.analysis import Analysis
+from harness.storage.suite_runs import analysis_settings, named_suite, suite_runs
+
+
+def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFrame:
+    """Stored runs of a suite file (the runs it still expands to) or a stored suite name, or
+    every stored run."""
+    return suite_report.stored_runs(suite_runs(store_path, suite))
+
+
+def settings_of(suite: str | Path | None) -> Analysis:
+    """The `[analysis]` table of a suite file; the defaults for a stored suite name."""
+    return analysis_settings(None if suite is None else named_suite(suite))
+
+
+def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
+    """Every analysis of a suite's stored runs, with the suite's settings (a suite file adds its
+    homophily map and per-node breakdown when stored)."""
+    return suite_report.analyse_store(suite_runs(store_path, suite))
+
+
+def breakdown(store_path: str | Path, suite: str | Path) -> pd.DataFrame:
+    """Per node group and comparison of a suite file's stored runs (csv/breakdown.csv's
+    columns, then seeds, p-values and verdicts)."""
+    return suite_report.node_breakdown(suite_runs(store_path, suite))
+
 
 __all__ = [
     "SuiteReport",

@@ -6,9 +6,14 @@ from __future__ import annotations
 import argparse
 from collections.abc import Callable
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, TypeVar
 
 from harness.errors import InputError
+from harness.output_files import check_parent
+
+if TYPE_CHECKING:
+    from harness.storage.database import Location
+    from harness.storage.suite_runs import SuiteFile
 
 
 class OneLineParser(argparse.ArgumentParser):
@@ -18,7 +23,12 @@ class OneLineParser(argparse.ArgumentParser):
         self.exit(2, f"heedful: error: {self.prog}: {' '.join(message.split())}\n")
 
 
-def _number(text: str, kind: Callable[[str], Any], allowed: str, fits: Callable[[Any], bool]):  # noqa: ANN202
+Number = TypeVar("Number", int, float)
+
+
+def _number(
+    text: str, kind: Callable[[str], Number], allowed: str, fits: Callable[[Number], bool]
+) -> Number:
     try:
         value = kind(text)
     except ValueError:
@@ -51,16 +61,42 @@ def cluster_address(text: str) -> str:
 
 
 def output_file(text: str) -> Path:
-    """A file the command will write: not an existing folder."""
+    """A file the command will write: not an existing folder, nor in a folder that is a file
+    (checked before any run, as well as when written)."""
     if Path(text).is_dir():
         raise argparse.ArgumentTypeError(f"given {text!r}, a folder; allowed: a file path")
+    try:
+        check_parent(Path(text))
+    except InputError as error:
+        raise argparse.ArgumentTypeError(f"given {text!r}; {error}") from None
     return Path(text)
 
 
-def store_location(text: str):  # noqa: ANN201 - a storage Location
+def store_location(text: str) -> Location:
     from harness.storage.database import locate
+    from harness.storage.outages import check_reachable
 
     try:
-        return locate(text)
+        location = locate(text)
+        if location.path is None:  # a server that is away now: its address is likely wrong
+            check_reachable(location.url, "--store")
+        return location
     except InputError as error:
         raise argparse.ArgumentTypeError(str(error)) from None
+
+
+# A suite is resolved here, once: the commands take the parsed file (or the stored name) and
+# never look at the file system again. Errors in the file raise InputError, which passes through
+# argparse untouched and is printed as every other bad input is.
+def suite_file(text: str) -> SuiteFile:
+    """A suite file (TOML), read and validated."""
+    from harness.storage.suite_runs import read_suite
+
+    return read_suite(text)
+
+
+def suite_file_or_name(text: str) -> SuiteFile | str:
+    """A suite file, read and validated, or else the name of a suite in the store."""
+    from harness.storage.suite_runs import named_suite
+
+    return named_suite(text)

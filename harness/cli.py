@@ -7,6 +7,7 @@ import argparse
 import gc
 import sys
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from harness import __version__, screen
 from harness.arguments import (
@@ -16,8 +17,22 @@ from harness.arguments import (
     positive_float,
     positive_int,
     store_location,
+    suite_file,
+    suite_file_or_name,
 )
-from harness.errors import InputError
+from harness.errors import InputError, ServiceOutage
+
+if TYPE_CHECKING:
+    from collections.abc import Callable
+
+    from harness.storage.suite_runs import SuiteRuns
+
+
+def chosen(args: argparse.Namespace) -> SuiteRuns:
+    """The suite the arguments name (read by their type), with the store of its runs."""
+    from harness.storage.suite_runs import SuiteRuns
+
+    return SuiteRuns.of(args.store, args.suite)
 
 
 def command_check(args: argparse.Namespace) -> int:
@@ -38,11 +53,10 @@ def command_run(args: argparse.Namespace) -> int:
     )
 
     feedback = screen.feedback(args.quiet)
-    check_cluster_use(args.suite, args.store, args.tuning_database, checked_cluster(args))
+    check_cluster_use(chosen(args), args.tuning_database, checked_cluster(args))
     with connected_cluster(args.cluster) as cluster:
         outcome = run_suite(
-            args.suite,
-            args.store,
+            chosen(args),
             args.jobs,
             args.threads,
             args.tuning_database,
@@ -64,7 +78,7 @@ def command_run(args: argparse.Namespace) -> int:
 def command_tuning(args: argparse.Namespace) -> int:
     from harness.commands.inspect import tuning
 
-    screen.show_tuning(tuning(args.suite, args.store, args.tuning_database))
+    screen.show_tuning(tuning(chosen(args), args.tuning_database))
     return 0
 
 
@@ -81,7 +95,7 @@ def command_show(args: argparse.Namespace) -> int:
 
     if args.predictions and args.format != "json":
         raise InputError(f"--predictions: given with --format {args.format}; allowed: json")
-    outcome = show(args.store, args.suite, args.format == "table", args.predictions)
+    outcome = show(chosen(args), args.format == "table", args.predictions)
     screen.show_runs(outcome, args.format)
     return outcome.status
 
@@ -92,7 +106,7 @@ def command_baseline(args: argparse.Namespace) -> int:
 
     with connected_cluster(checked_cluster(args)) as cluster:
         outcome = baseline(
-            args.suite, args.save, args.store, args.jobs, args.threads, screen.feedback(), cluster
+            chosen(args), args.save, args.jobs, args.threads, screen.feedback(), cluster
         )
     screen.show_baseline(outcome)
     return outcome.status
@@ -104,9 +118,8 @@ def command_gate(args: argparse.Namespace) -> int:
 
     with connected_cluster(checked_cluster(args)) as cluster:
         outcome = gate(
-            args.suite,
+            chosen(args),
             args.baseline,
-            args.store,
             args.jobs,
             args.threads,
             args.junit,
@@ -121,7 +134,7 @@ def command_gate(args: argparse.Namespace) -> int:
 def command_history(args: argparse.Namespace) -> int:
     from harness.commands.inspect import history
 
-    outcome = history(args.store, args.suite)
+    outcome = history(chosen(args))
     screen.show_history(outcome)
     return outcome.status
 
@@ -129,7 +142,7 @@ def command_history(args: argparse.Namespace) -> int:
 def command_report(args: argparse.Namespace) -> int:
     from harness.commands.inspect import report
 
-    outcome = report(args.store, args.suite, args.out)
+    outcome = report(chosen(args), args.out)
     screen.show_report(outcome)
     return outcome.status
 
@@ -155,6 +168,7 @@ def checked_cluster(args: argparse.Namespace) -> str | None:
 
 
 def parser() -> argparse.ArgumentParser:
+    from harness.report.formats import DESCRIBE_FORMATS, SHOW_FORMATS, options
     from harness.storage.database import locate
     from harness.storage.store import DEFAULT_STORE
 
@@ -166,8 +180,12 @@ def parser() -> argparse.ArgumentParser:
         dest="command", required=True, metavar="COMMAND", help="heedful COMMAND --help says more"
     )
 
-    def with_suite(sub: argparse.ArgumentParser, text: str = "suite file (TOML)") -> None:
-        sub.add_argument("suite", metavar="SUITE", help=text)
+    def with_suite(
+        sub: argparse.ArgumentParser,
+        text: str = "suite file (TOML)",
+        kind: Callable[[str], object] = suite_file,
+    ) -> None:
+        sub.add_argument("suite", type=kind, metavar="SUITE", help=text)
 
     def with_store(sub: argparse.ArgumentParser) -> None:
         sub.add_argument(
@@ -254,7 +272,7 @@ def parser() -> argparse.ArgumentParser:
     with_suite(describe)
     describe.add_argument(
         "--format",
-        choices=("table", "json"),
+        choices=options(DESCRIBE_FORMATS),
         default="table",
         help="table for reading, json for scripts (default: %(default)s)",
     )
@@ -266,11 +284,15 @@ def parser() -> argparse.ArgumentParser:
         "(json, csv, md)",
     )
     show.add_argument(
-        "suite", nargs="?", metavar="SUITE", help="suite file or stored suite name (default: all)"
+        "suite",
+        nargs="?",
+        type=suite_file_or_name,
+        metavar="SUITE",
+        help="suite file or stored suite name (default: all)",
     )
     show.add_argument(
         "--format",
-        choices=("table", "json", "csv", "md"),
+        choices=options(SHOW_FORMATS),
         default="table",
         help="table: per-contender summaries, ablation effects and verdicts; json, csv, md: "
         "one record per stored run (default: %(default)s)",
@@ -286,7 +308,7 @@ def parser() -> argparse.ArgumentParser:
     report = commands.add_parser(
         "report", help="write statistics, verdicts and plots (Markdown, CSV, LaTeX, HTML)"
     )
-    with_suite(report, "suite file or stored suite name")
+    with_suite(report, "suite file or stored suite name", suite_file_or_name)
     report.add_argument(
         "--out", type=Path, required=True, metavar="DIR", help="folder for the report files"
     )
@@ -332,19 +354,22 @@ def parser() -> argparse.ArgumentParser:
     gate.set_defaults(handler=command_gate)
 
     history = commands.add_parser("history", help="show stored gate runs of a suite over time")
-    with_suite(history, "suite file or stored suite name")
+    with_suite(history, "suite file or stored suite name", suite_file_or_name)
     with_store(history)
     history.set_defaults(handler=command_history)
     return top
 
 
 def main(argv: list[str] | None = None) -> int:
-    args = parser().parse_args(argv)
     try:
+        args = parser().parse_args(argv)  # a suite file is read here (harness.arguments)
         return args.handler(args)
     except InputError as error:
         screen.errors.print(f"heedful: error: {error}", markup=False, soft_wrap=True)
         return 2
+    except ServiceOutage as error:  # a failing run, not bad input
+        screen.errors.print(f"heedful: error: {error}", markup=False, soft_wrap=True)
+        return 3
     except KeyboardInterrupt:
         screen.errors.print("interrupted")
         return 130

@@ -4,6 +4,7 @@ metric labels and sparklines. Missing figures (None or NaN) are written as "-"."
 from __future__ import annotations
 
 import math
+import re
 
 from harness.schema.tasks import metric_label as metric_label  # labels live in the registry
 
@@ -79,4 +80,37 @@ def sparkline(values: list[float], least_span: float = 0.0, width: int | None = 
     top = len(BLOCKS) - 1
     return "".join(
         " " if v != v else BLOCKS[0 if span == 0 else round((v - low) / span * top)] for v in values
+    )
+
+
+# Characters that change what a reader sees without being seen: C0 and C1 controls (escape
+# sequences clear screens and retitle terminals), the soft hyphen, bidirectional marks,
+# embeddings, overrides and isolates (they reorder the text around them), zero-width and
+# invisible characters, line and paragraph separators, and the tag characters: every character
+# of Unicode's General_Category Cc, Cf, Zl and Zp (tests/test_visible_text.py checks all planes).
+HIDDEN = re.compile(
+    "[\x00-\x1f\x7f-\x9f\u00ad\u0600-\u0605\u061c\u06dd\u070f\u0890\u0891\u08e2"
+    "\u180e\u200b-\u200f\u2028-\u202e\u2060-\u206f\ufeff\ufff9-\ufffb"
+    "\U000110bd\U000110cd\U00013430-\U0001343f\U0001bca0-\U0001bca3"
+    "\U0001d173-\U0001d17a\U000e0000-\U000e007f]"
+)
+
+
+def visible(text: str) -> str:
+    """Text with every control, bidirectional and invisible character written as an escape
+    (`\\x1b`, `\\u202e`), so that what a terminal, Markdown, HTML, LaTeX or CSV reader sees is
+    what the text holds. Every format writes user text through this one function."""
+    if not HIDDEN.search(text):
+        return text
+    return HIDDEN.sub(_escaped, text)
+
+
+def _escaped(match: re.Match[str]) -> str:
+    code = ord(match.group())
+    return (
+        f"\\x{code:02x}"
+        if code < 0x100
+        else f"\\u{code:04x}"
+        if code < 0x10000
+        else f"\\U{code:08x}"
     )

@@ -8,12 +8,14 @@ from __future__ import annotations
 import sys
 from collections.abc import Iterator
 from contextlib import contextmanager
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 from rich.console import Console
 from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+from rich.text import Text
 
 from harness.commands.feedback import Advance, Feedback
+from harness.formatting import visible
 
 if TYPE_CHECKING:
     from harness.commands.gates import BaselineOutcome, GateRun
@@ -28,9 +30,20 @@ if TYPE_CHECKING:
     from harness.commands.tuned import TunedOutcome, TuningFrames
     from harness.execution.executed import Executed
 
-# piped output (logs, CI) is not cut to 80 columns: long contender names would be cut short
-console = Console(width=None if sys.stdout.isatty() else 200)
-errors = Console(stderr=True, highlight=False, markup=False)  # messages hold user text
+# piped output (logs, CI) is 100 columns wide; a terminal's own width otherwise
+
+
+class VisibleConsole(Console):
+    """A console that shows the control and bidirectional characters of the text it is given
+    (harness.formatting.visible): a label cannot clear the screen or reorder a line. Styles
+    are added after this, so they still reach the terminal."""
+
+    def render_str(self, text: str, **options: Any) -> Text:
+        return super().render_str(visible(text), **options)
+
+
+console = VisibleConsole(width=None if sys.stdout.isatty() else 100)
+errors = VisibleConsole(stderr=True, highlight=False, markup=False)  # messages hold user text
 
 
 def feedback(quiet: bool = False) -> Feedback:
@@ -63,6 +76,7 @@ def interrupted(executed: Executed, store: object) -> None:
     )
 
 
+# one fact per line, never wrapped: paths and names stay whole for grep and copying
 def show_check(outcome: CheckOutcome) -> None:
     suite, facts = outcome.suite, outcome.facts
     classes = "" if facts.classes is None else f"{facts.classes} classes, "
@@ -70,45 +84,51 @@ def show_check(outcome: CheckOutcome) -> None:
         f"{outcome.path}: suite '{suite.name}' is valid: {facts.nodes} nodes, {facts.edges} "
         f"edges, {classes}{facts.features} features",
         markup=False,
+        soft_wrap=True,
     )
     if facts.edge_homophily is not None:  # node labels: only for tasks that read them
         console.print(
-            f"measured homophily: edge {facts.edge_homophily:.3f}, node {facts.node_homophily:.3f}"
+            f"measured homophily: edge {facts.edge_homophily:.3f}, node {facts.node_homophily:.3f}",
+            soft_wrap=True,
         )
     for note in facts.notes:
-        console.print(f"note: {note}", markup=False)
+        console.print(f"note: {note}", markup=False, soft_wrap=True)
     for warning in facts.warnings:
         console.print(warning, markup=False, soft_wrap=True)
     for contender, count in outcome.runs.items():
         ablation = suite.ablation.get(contender)
         mode = ablation.mode.replace("_", "-") if ablation else ""
         points = f" ({count // len(suite.seed_list)} {mode} points)" if ablation else ""
-        console.print(f"  {contender}: {count} runs{points}", markup=False)
+        console.print(f"  {contender}: {count} runs{points}", markup=False, soft_wrap=True)
     if outcome.map_runs:
         levels = len(suite.homophily_map.levels)
         console.print(
             f"  homophily map: {outcome.map_runs} runs ({levels} levels on matched synthetic "
-            "graphs)"
+            "graphs)",
+            soft_wrap=True,
         )
         console.print(
             f"{outcome.total + outcome.map_runs} runs in total ({outcome.total} of the suite, "
-            f"{outcome.map_runs} of the homophily map)"
+            f"{outcome.map_runs} of the homophily map)",
+            soft_wrap=True,
         )
     else:
-        console.print(f"{outcome.total} runs in total")
+        console.print(f"{outcome.total} runs in total", soft_wrap=True)
     for line in outcome.memory:
-        console.print(line, markup=False)
+        console.print(line, markup=False, soft_wrap=True)
     for line in outcome.tuning:
-        console.print(line, markup=False)
+        console.print(line, markup=False, soft_wrap=True)
+
+
+def show_documents(documents: list) -> None:
+    from harness.report.formats import terminal
+
+    for document in documents:
+        terminal.show(document, console)
 
 
 def show_run(outcome: RunOutcome) -> None:
-    from harness.report.terminal import (
-        print_ablation,
-        print_arrival,
-        print_summary,
-        print_verdicts,
-    )
+    from harness.report.documents.summary import summary_documents
 
     if outcome.executed.stopped:
         interrupted(outcome.executed, outcome.store)
@@ -117,15 +137,13 @@ def show_run(outcome: RunOutcome) -> None:
     console.print(
         f"{executed.finished} runs trained, {executed.skipped} reused from {outcome.store}",
         markup=False,
+        soft_wrap=True,
     )
-    print_summary(outcome.summary, console)
-    print_ablation(outcome.ablation, console)
-    print_arrival(outcome.report, console)
-    print_verdicts(outcome.report, console)
+    show_documents(summary_documents(outcome.summary, outcome.ablation, (outcome.report,)))
 
 
 def show_map(outcome: MapOutcome) -> None:
-    from harness.report.homophily_map import print_homophily_map
+    from harness.report.documents.homophily_map import map_document
 
     if outcome.executed.failures:
         interrupted(outcome.executed, outcome.store)
@@ -133,54 +151,47 @@ def show_map(outcome: MapOutcome) -> None:
         if outcome.executed.interrupted:
             errors.print(f"interrupted: homophily map runs so far are stored in {outcome.store}")
         return
-    print_homophily_map(outcome.summary, console)
+    show_documents([map_document(outcome.summary)])
 
 
 def show_tuning(frames: TuningFrames) -> None:
-    from harness.report.tuning import print_tuning
+    from harness.report.documents.tuning import tuning_document
 
-    print_tuning(frames.summary, frames.settings, frames.curves, frames.parameters, console)
+    show_documents(
+        [tuning_document(frames.summary, frames.settings, frames.curves, frames.parameters)]
+    )
 
 
 def show_tuned(outcome: TunedOutcome) -> None:
-    from harness.report.terminal import print_summary, print_verdicts
+    from harness.report.documents.summary import summary_documents
 
     show_tuning(outcome.tuning)
-    print_summary(outcome.summary, console)
-    if outcome.report is not None:
-        print_verdicts(outcome.report, console)
+    reports = (outcome.report,) if outcome.report is not None else ()
+    show_documents(summary_documents(outcome.summary, None, reports))
 
 
 def show_description(outcome: DescribeOutcome, form: str) -> None:
-    from harness.report.profile import print_profile, profile_json
+    from harness.report.documents.profile import profile_document
+    from harness.report.formats import FORMATS
 
+    document = profile_document(outcome.profile, outcome.notes)
     if form == "json":
-        sys.stdout.write(profile_json(outcome.profile) + "\n")
+        sys.stdout.write(FORMATS["json"].render(document) + "\n")
     else:
-        print_profile(outcome.profile, console, outcome.notes)
+        show_documents([document])
 
 
 def show_runs(outcome: ShowOutcome, form: str) -> None:
-    from harness.report import records
-    from harness.report.terminal import (
-        print_ablation,
-        print_arrival,
-        print_summary,
-        print_verdicts,
-    )
+    """`table`: each suite's summary and verdicts; json, csv, md: the stored runs."""
+    from harness.report.documents.records import records_document
+    from harness.report.documents.summary import summary_documents
+    from harness.report.formats import by_option
 
     if form == "table":
-        print_summary(outcome.summary, console)
-        print_ablation(outcome.ablation, console)
-        for report in outcome.reports:
-            print_arrival(report, console)
-            print_verdicts(report, console)
-    else:
-        writer = {"json": records.as_json, "csv": records.as_csv, "md": records.as_markdown}
-        text = writer[form](outcome.runs)
-        if outcome.predictions is not None:
-            text = records.as_json(outcome.runs, outcome.predictions)
-        sys.stdout.write(text.rstrip("\n") + "\n")
+        show_documents(summary_documents(outcome.summary, outcome.ablation, outcome.reports))
+        return
+    text = by_option(form).render(records_document(outcome.runs, outcome.predictions))
+    sys.stdout.write(text.rstrip("\n") + "\n")
 
 
 def show_baseline(outcome: BaselineOutcome) -> None:
@@ -190,28 +201,30 @@ def show_baseline(outcome: BaselineOutcome) -> None:
     console.print(
         f"baseline of suite '{outcome.suite.name}' ({outcome.runs} runs) saved to {outcome.saved}",
         markup=False,
+        soft_wrap=True,
     )
 
 
 def show_gate(outcome: GateRun) -> None:
-    from harness.report.gate_terminal import print_gate
+    from harness.report.documents.gate import gate_document
 
     if outcome.gate is None:
         interrupted(outcome.executed, outcome.store)
         return
-    print_gate(outcome.gate, console)
+    show_documents([gate_document(outcome.gate)])
 
 
 def show_history(outcome: HistoryOutcome) -> None:
-    from harness.report.gate_terminal import history_table
+    from harness.report.documents.gate import history_document
 
-    console.print(history_table(outcome.history, outcome.suite))
+    show_documents([history_document(outcome.history, outcome.suite)])
 
 
 def show_report(outcome: ReportOutcome) -> None:
-    from harness.report.terminal import print_report
-
-    print_report(outcome.report, console)
+    show_documents([outcome.document])
     console.print(
-        f"{len(outcome.written)} files written to {outcome.out}", highlight=False, markup=False
+        f"{len(outcome.written)} files written to {outcome.out}",
+        highlight=False,
+        markup=False,
+        soft_wrap=True,
     )

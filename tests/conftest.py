@@ -148,6 +148,25 @@ def postgres_store(postgres_url: str) -> Iterator[str]:
             connection.execute(f"DROP SCHEMA {schema} CASCADE")
 
 
+@pytest.fixture
+def private_server():  # noqa: ANN201 - a tests.private_postgres.PrivateServer
+    """A PostgreSQL server of this test's own (tests/private_postgres.py): the test may stop
+    and start it, and it trusts any password, so a URL may carry one of the test's choosing."""
+    from tests.private_postgres import remove_private_server, server_programs, start_private_server
+
+    programs = server_programs()
+    if programs is None:
+        message = "PostgreSQL's server programs are not installed; run .ci/services"
+        if os.environ.get("CI") == "true":
+            pytest.fail(message)
+        pytest.skip(message)  # a developer machine without them; CI always has them
+    server = start_private_server(programs)
+    try:
+        yield server
+    finally:
+        remove_private_server(server)
+
+
 @pytest.fixture(params=["sqlite", "postgresql"])
 def any_store(request: pytest.FixtureRequest, tmp_path: Path) -> str | Path:
     """Each back end of the result store in turn: an SQLite file, then a PostgreSQL schema."""

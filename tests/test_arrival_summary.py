@@ -11,7 +11,7 @@ from scipy import stats as scipy_stats
 
 from harness.analysis.suite_report import analyse
 from harness.cli import main
-from harness.report.tables import all_tables, frames
+from harness.report.documents.suite_tables import all_tables, frames
 
 # seconds per new node over three seeds, as an inductive run stores them
 UPDATE = [0.0020, 0.0024, 0.0022]
@@ -84,8 +84,9 @@ def test_run_of_an_inductive_suite_prints_the_arrival_table(write_suite, tmp_pat
     store = tmp_path / "runs.db"
     assert main(["run", str(suite), "--store", str(store), "--quiet"]) == 0
     out = " ".join(capsys.readouterr().out.split())
-    assert "New-node arrival" in out and "update ms/node (95% t)" in out
-    assert "neighbours │ 2 │ 2 │" in out  # two seeds, radius 2 (two layers, one hop)
+    assert "New-node arrival" in out and "update ms/node" in out
+    assert "Milliseconds per node: mean with its 95% t-interval in brackets" in out
+    assert "neighbours 2 2 " in out  # two seeds, radius 2 (two layers, one hop)
     report_folder = tmp_path / "report"
     assert main(["report", str(suite), "--out", str(report_folder), "--store", str(store)]) == 0
     assert "New-node arrival" in (report_folder / "report.md").read_text(encoding="utf-8")

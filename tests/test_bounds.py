@@ -10,8 +10,9 @@ import pytest
 from scipy import stats as scipy_stats
 
 from harness.analysis.suite_report import analyse
-from harness.report.markdown import render
-from harness.report.wording import headline_sentence, reasons
+from harness.report.documents.suite import suite_document
+from harness.report.documents.wording import headline_sentence, reasons
+from harness.report.formats.markdown import render
 
 # three seeds, one of them slow to learn for the baseline: differences of +80, +79 and +22 points
 ATTENTION = [0.90, 0.91, 0.89]
@@ -56,5 +57,5 @@ def test_a_mean_interval_past_the_metric_range_is_clipped_and_explained(crafted_
     notes = [line for line in reasons(report) if "shown clipped" in line]
     assert notes[0].startswith("convolution: the 95% t-interval of its mean passes")
     assert notes[1].startswith("attention vs convolution: the 95% t-interval of the difference")
-    markdown = render(report, [])
+    markdown = render(suite_document(report))
     assert "is shown clipped; with 3 seeds and this much spread" in markdown

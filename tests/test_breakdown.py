@@ -16,12 +16,14 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from harness.analysis.suite_report import analyse_store, node_breakdown
+from harness.api import analyse_store
+from harness.api import breakdown as node_breakdown
 from harness.cli import main
 from harness.execution.local import execute
 from harness.planning import expand, load_suite
-from harness.report.files import write_report
-from harness.report.wording import breakdown_summary
+from harness.report.documents.suite import suite_document
+from harness.report.documents.wording import breakdown_summary
+from harness.report.formats.folder import write_report
 from harness.results import NodePredictions
 from harness.storage.predictions import decode, encode, levels, load_predictions
 
@@ -133,7 +135,7 @@ def test_group_metrics_reproduce_the_stored_test_metric(stored):
 
 def test_report_writes_breakdown_csv_and_plot(stored, tmp_path):
     suite, store = stored
-    write_report(analyse_store(store, suite), tmp_path)
+    write_report(suite_document(analyse_store(store, suite), drawn=True), tmp_path)
     written = pd.read_csv(tmp_path / "csv" / "breakdown.csv")
     columns = ["grouping", "group", "nodes", "attention", "baseline", "difference", "low", "high"]
     assert list(written.columns[:8]) == columns

@@ -5,7 +5,8 @@ from __future__ import annotations
 
 import pytest
 
-from harness.analysis.suite_report import analyse_store, node_breakdown
+from harness.api import analyse_store
+from harness.api import breakdown as node_breakdown
 from harness.errors import InputError
 from harness.execution.local import execute
 from harness.planning import expand, load_suite, parse_suite

@@ -18,7 +18,8 @@ from harness.analysis.stats import summarise, t_interval
 from harness.cli import main
 from harness.data import load_graph
 from harness.planning import load_suite
-from harness.report.terminal import summary_table
+from harness.report.documents.summary import summary_table
+from harness.report.formats.terminal import rich_table
 from harness.storage import store
 
 CONTENDERS = ("attention", "convolution", "features_only")
@@ -43,8 +44,15 @@ STORE_HINT = "run a suite first or pass --store"
 
 
 def table_rows(text: str) -> list[list[str]]:
-    """Cells of each body row of the rich tables in `text` (the first cell is empty)."""
-    return [[c.strip() for c in line.split("│")] for line in text.splitlines() if "│" in line]
+    """Cells of each body row of the tables in `text`: the lines between a table's second and
+    third rule, split at runs of two or more spaces (cells hold single spaces only)."""
+    rows, rules = [], 0
+    for line in text.splitlines():
+        if line.strip() and set(line.strip()) == {"─"}:
+            rules = (rules + 1) % 3
+        elif rules == 2:
+            rows.append(re.split(r"\s{2,}", line.strip()))
+    return rows
 
 
 def flat(text: str) -> str:
@@ -75,11 +83,12 @@ def test_run_prints_the_table_and_a_rerun_reuses_everything(finished_store, tmp_
     out = flat(raw)
     assert f"0 runs trained, 6 reused from {copy}" in out
     assert "Suite: tiny_couriers" in out
-    for header in ("contender", "test accuracy", "95% t-interval", "s/epoch", "params", "peak MB"):
+    headers = ("contender", "test accuracy", "95% t-interval", "s/epoch", "params", "tensor MiB")
+    for header in headers:
         assert header in out
     rows: dict[str, list[str]] = {}
     for cells in table_rows(raw):  # the summary table comes first; later tables repeat names
-        rows.setdefault(cells[1], cells[2:])
+        rows.setdefault(cells[0], cells[1:])
     summary = summarise(store.load_runs(copy))
     for contender, model in zip(CONTENDERS, ("gat", "gcn", "mlp"), strict=True):
         expected = summary.set_index("contender").loc[contender]
@@ -101,15 +110,15 @@ def test_terminal_intervals_follow_the_suites_confidence(finished_store, tmp_pat
     runs = store.load_runs(copy)
     values = runs[runs["contender"] == "attention"]["test_metric"].to_numpy(dtype=float)
     low, high = t_interval(values, 0.9)
-    shown = f"[{max(low, 0):.3f}, {min(high, 1):.3f}]"  # clipped to accuracy's range
+    shown = f"{max(low, 0):.3f} to {min(high, 1):.3f}"  # clipped to accuracy's range
     shown += " clipped" if low < 0 or high > 1 else ""
-    rows = {cells[1]: cells[2:] for cells in reversed(table_rows(raw))}
+    rows = {cells[0]: cells[1:] for cells in reversed(table_rows(raw))}
     assert rows["attention"][3] == shown
 
 
 def test_best_contender_is_highlighted(finished_store):
     summary = summarise(store.load_runs(finished_store[1]))
-    table = summary_table(summary, "tiny")
+    table = rich_table(summary_table(summary, "tiny"))
     best = int(summary["mean"].idxmax())
     assert [row.style for row in table.rows].count("bold green") == 1
     assert table.rows[best].style == "bold green"

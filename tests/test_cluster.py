@@ -9,7 +9,6 @@ import os
 import signal
 import subprocess
 import sys
-import time
 from collections.abc import Callable
 from pathlib import Path
 
@@ -23,8 +22,10 @@ from harness.execution import cluster
 from harness.execution.local import execute
 from harness.planning import expand, load_suite
 from harness.storage import store
+from tests.pausing import resume, stopped_in, wait_for
 from tests.test_link_suites import LINK_SUITE
 
+pytestmark = pytest.mark.slow  # every test here starts a cluster or a command
 ROOT = Path(__file__).resolve().parents[1]
 FIGURES = ["val_metric", "test_metric", "test_accuracy", "epochs", "best_epoch", "curve"]
 
@@ -67,14 +68,6 @@ def start(suite: Path, store_file: Path) -> subprocess.Popen:
     )
 
 
-def wait_for_first_run(process: subprocess.Popen, store_file: Path) -> None:
-    deadline = time.monotonic() + 240
-    while len(stored(store_file)) < 1:
-        assert process.poll() is None, process.stderr.read()
-        assert time.monotonic() < deadline, "no run was stored within 240 s"
-        time.sleep(0.1)
-
-
 def test_cluster_stores_every_run_once_with_the_figures_of_one_job(finished_store, tmp_path):
     suite, one_job_store = finished_store
     cluster_store = tmp_path / "cluster.db"
@@ -86,18 +79,47 @@ def test_cluster_stores_every_run_once_with_the_figures_of_one_job(finished_stor
     pd.testing.assert_frame_equal(on_cluster[FIGURES], one_job[FIGURES])  # bit for bit
 
 
+def dask_workers(process: subprocess.Popen) -> list[int]:
+    """The submitter's Dask worker processes: its children that listen on a TCP port (the
+    others, such as multiprocessing's resource tracker, do not)."""
+    found = []
+    for child in psutil.Process(process.pid).children():
+        try:
+            listening = [c for c in child.net_connections("tcp") if c.status == psutil.CONN_LISTEN]
+        except psutil.NoSuchProcess:
+            continue
+        if listening:
+            found.append(child.pid)
+    return found
+
+
+def frozen_with_runs_left(process: subprocess.Popen, store_file: Path, frozen: list[int]) -> bool:
+    """Stop the submitter and its workers; True (they stay stopped) when two workers are up,
+    a run is stored and runs are left, else they are resumed."""
+    frozen[:] = [process.pid, *dask_workers(process)]
+    reached = lambda: len(frozen) == 3 and 1 <= len(stored(store_file)) < RUNS  # noqa: E731
+    return stopped_in(frozen, reached)
+
+
+def alive_check(process: subprocess.Popen) -> Callable[[], None]:
+    def alive() -> None:
+        assert process.poll() is None, process.stderr.read()
+
+    return alive
+
+
 def test_a_worker_killed_mid_run_leaves_the_suite_complete(long_suite, tmp_path):
     suite, store_file = long_suite(600), tmp_path / "killed.db"
     process = start(suite, store_file)
+    frozen: list[int] = []
     try:
-        wait_for_first_run(process, store_file)
-        # the workers are the processes the submitter's nannies spawned
-        children = psutil.Process(process.pid).children()
-        workers = [child for child in children if "spawn_main" in " ".join(child.cmdline())]
-        assert len(workers) == 2 and len(stored(store_file)) < RUNS, "too late to kill a worker"
-        os.kill(workers[0].pid, signal.SIGKILL)
+        reached = lambda: frozen_with_runs_left(process, store_file, frozen)  # noqa: E731
+        wait_for(reached, alive_check(process), "no worker ran with runs left")
+        os.kill(frozen[1], signal.SIGKILL)  # a worker, while nothing moves
+        resume(frozen)
         assert process.wait(timeout=240) == 0, process.stderr.read()
     finally:
+        resume(frozen)
         process.kill()
     runs = stored(store_file)
     assert sorted(runs["key"]) == sorted(s.key for s in expand(load_suite(suite)))
@@ -106,13 +128,16 @@ def test_a_worker_killed_mid_run_leaves_the_suite_complete(long_suite, tmp_path)
 def test_ctrl_c_cancels_the_rest_and_keeps_finished_runs(long_suite, tmp_path):
     suite, store_file = long_suite(1500), tmp_path / "interrupted.db"
     process = start(suite, store_file)
+    frozen: list[int] = []
     try:
-        wait_for_first_run(process, store_file)
-        assert len(stored(store_file)) < RUNS, "too late to interrupt"
-        process.send_signal(signal.SIGINT)  # to the submitting process only
+        reached = lambda: frozen_with_runs_left(process, store_file, frozen)  # noqa: E731
+        wait_for(reached, alive_check(process), "no run was stored with runs left")
+        process.send_signal(signal.SIGINT)  # to the submitting process only, while stopped
+        resume(frozen)  # the submitter first: it meets the interrupt before anything else
         assert process.wait(timeout=120) == 130
         message = process.stderr.read()
     finally:
+        resume(frozen)
         process.kill()
     runs = stored(store_file)
     assert 1 <= len(runs) < RUNS and runs["key"].is_unique

@@ -12,6 +12,7 @@ import harness
 from harness.cli import main, parser
 from harness.commands.inspect import check
 from harness.planning import load_suite, map_run_count, map_specs
+from harness.storage.suite_runs import read_suite
 from tests.conftest import TINY_SUITE
 
 
@@ -69,12 +70,13 @@ def test_tuning_commands_take_the_store_and_the_tuning_database():
         assert {"--store", "--tuning-database"} <= options
 
 
-def test_old_storage_option_still_works_with_a_one_line_note(capsys):
-    args = parser().parse_args(["run", "suite.toml", "--storage", "sqlite:///tuning.db"])
+def test_old_storage_option_still_works_with_a_one_line_note(tiny_suite, capsys):
+    suite = str(tiny_suite)  # read while the arguments are parsed
+    args = parser().parse_args(["run", suite, "--storage", "sqlite:///tuning.db"])
     assert args.tuning_database == "sqlite:///tuning.db"
     note = capsys.readouterr().err
     assert note.count("\n") == 1 and "--tuning-database" in note
-    new = parser().parse_args(["tuning", "suite.toml", "--tuning-database", "sqlite:///t.db"])
+    new = parser().parse_args(["tuning", suite, "--tuning-database", "sqlite:///t.db"])
     assert new.tuning_database == "sqlite:///t.db"
     assert capsys.readouterr().err == ""
 
@@ -99,7 +101,7 @@ def test_check_counts_the_homophily_map_runs(write_suite, capsys):
         features=SimpleNamespace(dimension=8),
     )
     assert map_run_count(suite) == len(map_specs(suite, profile)) == 4
-    outcome = check(str(path))
+    outcome = check(read_suite(path))
     assert (outcome.total, outcome.map_runs) == (6, 4)
     assert main(["check", str(path)]) == 0
     out = capsys.readouterr().out
@@ -107,4 +109,4 @@ def test_check_counts_the_homophily_map_runs(write_suite, capsys):
 
 
 def test_check_without_a_map_counts_only_the_suite(tiny_suite):
-    assert check(str(tiny_suite)).map_runs == 0
+    assert check(read_suite(tiny_suite)).map_runs == 0

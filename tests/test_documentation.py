@@ -40,7 +40,10 @@ def test_ci_builds_the_documentation_strictly():
 
 
 @pytest.mark.parametrize(
-    "page", [ROOT / "README.md", ROOT / "DEVELOPERS.md", *sorted(DOCS.glob("*.md"))], ids=str
+    "page",
+    [ROOT / "README.md", ROOT / "DEVELOPERS.md", ROOT / "benchmarks" / "README.md"]
+    + sorted(DOCS.glob("*.md")),
+    ids=str,
 )
 def test_relative_links_resolve(page: Path):
     text = page.read_text(encoding="utf-8")
@@ -80,3 +83,26 @@ def test_no_page_names_the_old_tuning_option_as_current(page: Path):
     for line in text.splitlines():
         if "--storage" in line:
             assert "old name" in line or "called" in line or "formerly" in line, line
+
+
+def test_the_command_pages_table_names_exactly_each_commands_options():
+    """docs/commands.md's table against the parser: no option missing, none invented."""
+    import argparse
+
+    from harness.cli import parser
+
+    top = parser()
+    action = next(a for a in top._actions if isinstance(a, argparse._SubParsersAction))
+    page = (DOCS / "commands.md").read_text(encoding="utf-8")
+    rows = re.findall(r"^\| `heedful (\w+)([^`]*)` \|", page, flags=re.MULTILINE)
+    assert {name for name, _ in rows} == set(action.choices)
+    for name, usage in rows:
+        documented = set(re.findall(r"--[\w-]+", usage))
+        offered = {
+            option
+            for argument in action.choices[name]._actions
+            if argument.help != argparse.SUPPRESS
+            for option in argument.option_strings
+            if option.startswith("--") and option != "--help"
+        }
+        assert documented == offered, name

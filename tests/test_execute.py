@@ -8,7 +8,6 @@ import signal
 import sqlite3
 import subprocess
 import sys
-import time
 from pathlib import Path
 
 import pandas as pd
@@ -26,6 +25,7 @@ from harness.execution.runs import pending
 from harness.planning import expand, load_suite
 from harness.storage import store
 from harness.training.runs import perform
+from tests.pausing import resume, stopped_in, wait_for
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -147,6 +147,7 @@ def kill_suite(tiny_suite_text, write_suite) -> Path:
     return write_suite(text, "kill.toml")
 
 
+@pytest.mark.slow
 def test_sigkill_then_rerun_loses_nothing_and_stores_nothing_twice(kill_suite, tmp_path, capsys):
     """`heedful run --jobs 2` is killed with SIGKILL after some runs are stored; a rerun
     completes the suite, keeps every finished row byte for byte, and the killed command's
@@ -161,18 +162,22 @@ def test_sigkill_then_rerun_loses_nothing_and_stores_nothing_twice(kill_suite, t
         stdout=subprocess.DEVNULL,
         stderr=subprocess.PIPE,
     )
-    deadline = time.monotonic() + 240
+    specs = expand(load_suite(kill_suite))
+
+    def alive() -> None:
+        assert process.poll() is None, process.stderr.read().decode()
+
+    def stopped_with_runs_left() -> bool:  # the kill lands on a known state
+        group = [process.pid, *children(process.pid)]
+        return stopped_in(group, lambda: 2 <= len(stored_rows(store_file)) < len(specs))
+
     try:
-        while len(stored_rows(store_file)) < 2:
-            assert process.poll() is None, process.stderr.read().decode()
-            assert time.monotonic() < deadline, "no run was stored within 240 s"
-            time.sleep(0.05)
+        wait_for(stopped_with_runs_left, alive, "two runs were never stored with runs left")
     finally:
         os.killpg(process.pid, signal.SIGKILL)
         process.wait()
     kept = stored_rows(store_file)
-    specs = expand(load_suite(kill_suite))
-    assert 2 <= len(kept) < len(specs), "the suite ended before the kill; make runs longer"
+    assert 2 <= len(kept) < len(specs)
 
     assert main(["run", str(kill_suite), "--store", str(store_file), "--quiet"]) == 0
     reused = f"{len(specs) - len(kept)} runs trained, {len(kept)} reused from {store_file}"
@@ -251,6 +256,7 @@ def children(pid: int) -> list[int]:
 
 
 @pytest.mark.skipif(not Path("/proc/self/task").exists(), reason="reads children from /proc")
+@pytest.mark.slow
 def test_a_worker_killed_mid_run_is_replaced_and_the_suite_completes(kill_suite, tmp_path):
     """Only the worker gets SIGKILL, mid-run; the command carries on, reruns the run the worker
     held, and stores every run exactly once."""
@@ -258,22 +264,27 @@ def test_a_worker_killed_mid_run_is_replaced_and_the_suite_completes(kill_suite,
     command = [sys.executable, "-m", "harness.cli", "run", str(kill_suite)]
     command += ["--jobs", "2", "--quiet", "--store", str(store_file)]
     process = subprocess.Popen(command, cwd=ROOT, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
-    deadline = time.monotonic() + 240
+    specs = expand(load_suite(kill_suite))
+    frozen: list[int] = []
+
+    def alive() -> None:
+        assert process.poll() is None, process.stderr.read().decode()
+
+    def stopped_mid_run() -> bool:  # a worker is up, two runs are stored, others are left
+        frozen[:] = [process.pid, *children(process.pid)]
+        left = lambda: 2 <= len(stored_rows(store_file)) < len(specs)  # noqa: E731
+        return len(frozen) > 1 and stopped_in(frozen, left)
+
     try:
-        while len(stored_rows(store_file)) < 2 or not children(process.pid):
-            assert process.poll() is None, process.stderr.read().decode()
-            assert time.monotonic() < deadline, "no run was stored within 240 s"
-            time.sleep(0.02)
-        worker = children(process.pid)[0]
-        os.kill(worker, signal.SIGKILL)
-        killed_with = len(stored_rows(store_file))
+        wait_for(stopped_mid_run, alive, "no worker ran with two runs stored and runs left")
+        os.kill(frozen[1], signal.SIGKILL)
+        resume(frozen)
         out, err = process.communicate(timeout=240)
     finally:
+        resume(frozen)
         if process.poll() is None:
             process.kill()
             process.wait()
-    specs = expand(load_suite(kill_suite))
-    assert killed_with < len(specs), "the suite ended before the kill; make runs longer"
     assert process.returncode == 0, err.decode()
     assert f"{len(specs)} runs trained, 0 reused" in " ".join(out.decode().split())
     assert sorted(stored_rows(store_file)) == sorted(s.key for s in specs)  # each exactly once

@@ -117,7 +117,7 @@ def test_unchanged_suite_passes(saved, tmp_path, capsys):
     assert "4 runs with identical inputs gave identical metrics" in case(
         root, "attention", "reproducibility"
     ).findtext("system-out")
-    assert "| attention | " in markdown and "+0.00 | [+0.00, +0.00]" in markdown
+    assert "| attention | " in markdown and "+0.00 | +0.00 to +0.00" in markdown
 
 
 def test_injected_regression_fails_naming_contender_drop_and_interval(saved, tmp_path, capsys):
@@ -131,13 +131,13 @@ def test_injected_regression_fails_naming_contender_drop_and_interval(saved, tmp
     assert failure is not None
     message = failure.get("message")
     assert message.startswith("attention: accuracy dropped ")
-    assert "95% t-interval [" in message and "paired t-test" in message
+    assert "95% t-interval " in message and "paired t-test" in message
     drop = float(message.split("dropped ")[1].split(" points")[0])
-    low = float(message.split("t-interval [")[1].split(",")[0])
-    high = float(message.split("t-interval [")[1].split(",")[1].split("]")[0])
+    low_text, high_text = message.split("t-interval ")[1].split(" points")[0].split(" to ")
+    low, high = float(low_text), float(high_text)
     assert drop > 2.0 and low <= -drop <= high < 0  # the interval holds the drop and excludes 0
     assert case(root, "features_only", "metric").find("failure") is None
-    assert "❌ fail" in markdown and "attention: accuracy dropped" in markdown
+    assert "| fail |" in markdown and "- fail metric: attention: accuracy dropped" in markdown
 
 
 def test_noise_level_change_passes(saved, tmp_path, capsys):

@@ -9,13 +9,14 @@ import pytest
 from sqlalchemy import text
 
 from harness.cli import main
+from harness.formatting import sparkline
 from harness.gate.baseline import build_baseline, contender_labels
 from harness.gate.compare import evaluate
 from harness.gate.records import history_records
 from harness.planning import expand, parse_suite
-from harness.report.gate_terminal import sparkline
-from harness.report.html import trend_section
-from harness.report.trend import trend_figure, trend_png
+from harness.report.documents.document import Document, Plot
+from harness.report.documents.trend import TREND_TITLE, trend_figure, trend_png
+from harness.report.formats import html
 from harness.schema.gate import BaselineFile
 from harness.storage.database import opened
 from harness.storage.gate_history import (
@@ -146,11 +147,11 @@ def test_trend_plot_has_one_line_per_contender(stored):
 def test_html_report_gains_the_trend_plot_only_with_history(stored, tmp_path):
     png = trend_png(stored_history(stored, "docks"))
     assert png[:8] == b"\x89PNG\r\n\x1a\n"
-    section = trend_section(png)
-    assert section.startswith("<h2>Gate history</h2>") and "data:image/png;base64," in section
+    page = html.render(Document("docks", plots=(Plot("gate_trend", TREND_TITLE, png),)))
+    assert f"<figcaption>{TREND_TITLE}</figcaption>" in page and "data:image/png;base64," in page
     assert trend_png(stored_history(stored, "other suite")) is None
     assert trend_png(stored_history(tmp_path / "none.db", "docks")) is None
-    assert trend_section(None) == ""
+    assert "<figure>" not in html.render(Document("docks"))
 
 
 def test_importing_the_trend_plot_keeps_the_matplotlib_backend() -> None:
@@ -158,7 +159,7 @@ def test_importing_the_trend_plot_keeps_the_matplotlib_backend() -> None:
     import subprocess
     import sys
 
-    probe = "import harness.report.trend, matplotlib; print(matplotlib.get_backend())"
+    probe = "import harness.report.documents.trend, matplotlib; print(matplotlib.get_backend())"
     env = {**os.environ, "MPLBACKEND": "svg"}
     shown = subprocess.run(
         [sys.executable, "-c", probe], capture_output=True, text=True, env=env, check=True

@@ -108,5 +108,5 @@ def test_run_prints_the_map_with_the_data_marked(write_suite, store_path, capsys
     )
     assert main(["run", str(suite), "--store", str(store_path), "--quiet"]) == 0
     out = capsys.readouterr().out
-    assert "homophily map" in out and "your data 0.859" in out
+    assert "Homophily map" in out and "your data 0.859" in out
     assert out.index("0.2 ") < out.index("your data 0.859") < out.index("0.9 ")

@@ -8,7 +8,7 @@ from dataclasses import replace
 import pytest
 import torch
 
-from harness.analysis.suite_report import node_breakdown
+from harness.api import breakdown as node_breakdown
 from harness.cli import main
 from harness.data import load_graph
 from harness.data.inductive_edges import inductive_edge_split

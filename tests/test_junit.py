@@ -7,8 +7,9 @@ import xml.etree.ElementTree as ElementTree
 import pytest
 
 from harness.gate.compare import Check, GateOutcome
-from harness.report.gate_markdown import gate_markdown
-from harness.report.junit import junit_tree, write_junit
+from harness.report.documents.gate import gate_document
+from harness.report.formats import FORMATS
+from harness.report.formats.junit import junit_tree
 
 TESTSUITE_ATTRIBUTES = {"name", "tests", "failures", "errors", "skipped", "time", "timestamp"}
 TESTCASE_ATTRIBUTES = {"classname", "name", "time"}
@@ -60,7 +61,7 @@ def outcome() -> GateOutcome:
 def test_junit_file_has_the_common_schema_shape(outcome, tmp_path):
     """testsuites > testsuite > testcase; counts agree with the elements; figures in failures."""
     path = tmp_path / "gate.xml"
-    write_junit(path, outcome)
+    path.write_text(FORMATS["junit"].render(gate_document(outcome)), encoding="utf-8")
     assert path.read_text().startswith("<?xml version='1.0' encoding='utf-8'?>")
     root = ElementTree.parse(path).getroot()
     assert root.tag == "testsuites"
@@ -102,21 +103,22 @@ def test_junit_tree_of_a_passing_gate_has_no_failures(outcome):
             "environment_differences": (),
         }
     )
-    root = junit_tree(passing).getroot()
+    root = junit_tree(gate_document(passing)).getroot()
     assert root.get("tests") == "4" and root.get("failures") == "0"
     assert root.find("testsuite/system-out") is None
     assert passing.status == "pass" and passing.exit_code == 0
 
 
 def test_markdown_summary_names_failures_and_environment(outcome):
-    text = gate_markdown(outcome)
-    assert text.startswith("### Heedful gate `lockers`: FAIL\n")
+    text = FORMATS["markdown"].render(gate_document(outcome))
+    assert text.startswith("# Heedful gate: lockers\n")
+    assert "> gate FAIL" in text
     assert (
-        "| lockers &lt;&amp;&gt; vans | 0.8000 → 0.7000 | -10.00 | [-14.00, -6.00] | ×1.00 | ×1.00 "
-        "| ❌ fail |" in text
+        "| lockers &lt;&amp;&gt; vans | 0.800 | 0.700 | -10.00 | -14.00 to -6.00 | 1.00 | 1.00 "
+        r"| ✗\!✓- | fail |" in text
     )
-    assert r"| vans\_only | 0.8000 → 0.7000 | +0.00 |" in text  # names escaped as in report.md
-    assert "- ❌ fail `metric`: dropped 10.00 points" in text
-    assert "- ⚠️ warn `time`: seconds per epoch x1.90 above limit" in text
-    assert "different environment than the baseline: threads: baseline 4, now 2" in text
+    assert r"| vans\_only | 0.800 | 0.700 | +0.00 |" in text  # names escaped as in report.md
+    assert "- fail metric: dropped 10.00 points" in text
+    assert "- warn time: seconds per epoch x1.90 above limit" in text
+    assert "environment differs from the baseline's: threads: baseline 4, now 2" in text
     assert "95% t-interval of the paired mean difference" in text

@@ -109,3 +109,17 @@ def test_a_run_on_the_sparse_kernel_records_it(tiny_suite):
     assert on_sparse.extras["kernel"] == "sparse" and "kernel" not in on_scatter.extras
     # the same training up to the order of floating-point sums
     assert abs(on_sparse.val_metric - on_scatter.val_metric) <= 0.02
+
+
+def test_auto_compiles_a_sparse_run_only_where_compiling_pays_on_that_kernel():
+    """GAT on the sparse kernel: the kernel does the edge-wise work itself, so compiling
+    saves nothing worth its compile time (docs/performance.md); on scatter it compiles. GATv2's
+    edge-wise score vectors are fused by the compiler: it compiles on either kernel."""
+    from harness.planning.run_choices import resolve_compile
+
+    sparse = resolve_kernel(Training(), GAT, LARGE)
+    assert resolve_compile(sparse, "gat", LARGE).compile is False
+    scatter = resolve_kernel(Training(kernel="scatter"), GAT, LARGE)
+    assert resolve_compile(scatter, "gat", LARGE).compile is True
+    dynamic = AttentionOptions(model="gatv2")
+    assert resolve_compile(resolve_kernel(Training(), dynamic, LARGE), "gatv2", LARGE).compile

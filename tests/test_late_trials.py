@@ -127,7 +127,7 @@ def test_a_trial_resumed_after_it_was_marked_failed_never_ends_the_suite(tmp_pat
     url = f"sqlite:///{database}"
     store_path = tmp_path / "runs.db"
     command = [sys.executable, "-m", "harness.cli", "run", str(suite_path), "--jobs", "2"]
-    command += ["--quiet", "--store", str(store_path), "--storage", url]
+    command += ["--quiet", "--store", str(store_path), "--tuning-database", url]
     storage = open_storage(url, 1, 3)  # its tables made before the command opens it
     process = subprocess.Popen(
         command, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True

@@ -16,7 +16,7 @@ PACKAGE = Path(harness.__file__).parent
 
 # earliest first; a module may import only modules of its own stage or an earlier one
 STAGES = (
-    ("harness", "harness.errors", "harness.digest", "harness.results"),
+    ("harness", "harness.errors", "harness.digest", "harness.output_files", "harness.results"),
     ("harness.schema",),
     ("harness.formatting",),  # metric labels come from the task registry
     ("harness.planning",),
@@ -28,7 +28,8 @@ STAGES = (
     ("harness.tuning",),
     ("harness.analysis",),
     ("harness.gate",),
-    ("harness.report",),
+    ("harness.report",),  # report documents
+    ("harness.report.formats",),  # render any document
     ("harness.commands", "harness.api"),
     ("harness.screen",),
     ("harness.arguments", "harness.cli"),

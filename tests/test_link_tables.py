@@ -64,6 +64,8 @@ def test_a_link_suite_without_labels_checks_runs_and_describes(tmp_path, capsys,
     assert profile["class_counts"] == [] and profile["homophily"] is None
     store = tmp_path / "runs.db"
     assert main(["run", str(suite), "--store", str(store), "--quiet"]) == 0
+    assert main(["report", str(suite), "--store", str(store), "--out", str(tmp_path / "r")]) == 0
+    assert "class insensitive" not in (tmp_path / "r" / "report.md").read_text()  # no measures
 
 
 def test_node_classification_still_needs_the_label_column_and_two_classes(tmp_path, capsys):

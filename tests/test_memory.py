@@ -24,8 +24,11 @@ from harness.planning import design_points, load_suite
 from harness.schema.contenders import (
     AttentionOptions,
     ConvolutionOptions,
+    EdgeConvolutionOptions,
+    GlobalAttentionOptions,
     MLPOptions,
     NeighbourMeanOptions,
+    TransformerOptions,
 )
 from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.training import Training
@@ -37,6 +40,9 @@ KINDS = {
     "gcn": ConvolutionOptions(model="gcn"),
     "sage": NeighbourMeanOptions(model="sage"),
     "mlp": MLPOptions(model="mlp", layers=3),
+    "gine": EdgeConvolutionOptions(model="gine"),
+    "transformer": TransformerOptions(model="transformer", heads=2, hidden=16),
+    "global_attention": GlobalAttentionOptions(model="global_attention", hidden=32, heads=2),
 }
 
 
@@ -55,6 +61,10 @@ PINNED = {
     "gcn": (523332112.0, 513849769.6, 5520000.0),
     "sage": (523828112.0, 515952118.4, 6280000.0),
     "mlp": (509812112.0, 507619318.4, 2920000.0),
+    # pinned when the kind was registered
+    "gine": (541588112.0, 520498678.4, 17380000.0),
+    "transformer": (1706528864.0, 550690912.0, 617400000.0),
+    "global_attention": (573556112.0, 551597148.8, 37360000.0),
     # added with graph classification, from its declared facts (tests/activation_check.py)
     "gin": (523828112.0, 515952118.4, 6280000.0),
 }

@@ -65,3 +65,27 @@ def test_only_running_out_of_space_stops_every_run():
     assert out_of_space(RuntimeError(str(full_disk())))  # as text, the way a worker returns it
     assert not out_of_space(OSError(errno.EACCES, "Permission denied"))
     assert not out_of_space(ValueError("loss is NaN"))
+
+
+def test_a_full_disk_on_the_submitter_of_a_cluster_stops_the_suite(
+    tiny_suite, store_path, monkeypatch, capsys
+):
+    """On a cluster the submitting process stores every result: once its disk is full, the
+    runs still out are cancelled rather than trained only to fail to be stored."""
+    import harness.execution.cluster
+
+    save, saved = store.save_run, []
+
+    def fills_after_two(path, record):
+        if len(saved) == 2:
+            raise full_disk()
+        saved.append(record["key"])
+        save(path, record)
+
+    monkeypatch.setattr(harness.execution.cluster.store, "save_run", fills_after_two)
+    arguments = ["run", str(tiny_suite), "--cluster", "local:2", "--quiet", "--store"]
+    assert main([*arguments, str(store_path)]) == 3
+    lines = capsys.readouterr().err.strip().splitlines()
+    assert len(lines) == 2 and "database or disk is full" in lines[0]
+    assert lines[1].startswith("heedful: error: stopped: the disk is full, so ")
+    assert sorted(store.load_runs(store_path)["key"]) == sorted(saved)

@@ -15,10 +15,11 @@ from harness.api import analyse, analyse_store
 from harness.cli import main
 from harness.execution.runs import record_of
 from harness.planning import expand, load_suite
-from harness.report import html, latex, markdown
-from harness.report.files import WRITERS
-from harness.report.plots import figures, homophily_plot
-from harness.report.tables import frames
+from harness.report.documents.homophily_plots import homophily_plot
+from harness.report.documents.suite import suite_document
+from harness.report.documents.suite_tables import frames
+from harness.report.formats import html, latex, markdown
+from harness.report.formats.folder import write_plots, write_report
 from harness.results import RunResult
 from harness.storage import store
 
@@ -124,17 +125,17 @@ def test_report_command_writes_every_format_and_prints_the_verdict(tmp_path: Pat
 
 def test_hostile_names_are_escaped_in_html_latex_and_markdown(tmp_path: Path):
     suite_path, store_path = stored_suite(tmp_path)
-    report = analyse_store(store_path, suite_path)
-    page = html.render(report, {})
+    document = suite_document(analyse_store(store_path, suite_path))
+    page = html.render(document)
     assert SCRIPT not in page
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in page
     assert "50%_&amp;_$x$" in page
-    tex = latex.render(report)
+    tex = latex.render(document)
     assert r"50\%\_\&\_\$x\$" in tex
     assert r"conv\_\{a\}\textasciicircum{}b\textbackslash{}c" in tex
     assert r"\textless{}script\textgreater{}" in tex and "<script>" not in tex
     assert r"\toprule" in tex and r"\midrule" in tex and r"\bottomrule" in tex
-    text = markdown.render(report, [])
+    text = markdown.render(document)
     assert "<script>" not in text and "&lt;script&gt;" in text
     assert r"plain\|mlp" in text and r"50%\_&amp;\_\$x\$" in text
     # every Markdown table row has as many cells as its header
@@ -210,23 +211,22 @@ def test_stored_homophily_map_is_drawn_and_tabled(tmp_path: Path):
     figure = homophily_plot(report)
     assert [axes.get_title() for axes in figure.axes][0] == "contenders across homophily"
     assert "homophily_map" in frames(report)
-    page = markdown.render(report, [])
+    page = markdown.render(suite_document(report))
     assert "## Homophily map" in page and "edge homophily is" in page
 
 
 @pytest.fixture(scope="module")
 def drawn_report(tmp_path_factory: pytest.TempPathFactory):
-    """The hostile suite's report and its plots, drawn once for the writer contract."""
+    """The hostile suite's report document with its plots, drawn once for the writers."""
     suite_path, store_path = stored_suite(tmp_path_factory.mktemp("drawn"), True)
-    report = analyse_store(store_path, suite_path)
-    return report, figures(report)
+    return suite_document(analyse_store(store_path, suite_path), drawn=True)
 
 
-@pytest.mark.parametrize("writer", sorted(WRITERS))
+@pytest.mark.parametrize("writer", ["plots", "report"])
 def test_every_writer_keeps_the_contract(tmp_path: Path, drawn_report, writer: str):
     """Each writer writes non-empty files inside the folder; markup formats escape names."""
-    report, plots = drawn_report
-    written = WRITERS[writer](report, plots, tmp_path, None)
+    write = write_plots if writer == "plots" else write_report
+    written = write(drawn_report, tmp_path)
     assert written
     for path in written:
         assert path.is_file() and path.stat().st_size > 0

@@ -1,5 +1,6 @@
 """The sparse kernel's pieces: the target-order graph and its transpose, the per-model cache,
-and every custom backward against finite differences (torch.autograd.gradcheck, float64)."""
+and every custom backward (static attention's with and without a dropout mask) against finite
+differences (torch.autograd.gradcheck, float64)."""
 
 from __future__ import annotations
 
@@ -17,6 +18,7 @@ from harness.models.sparse_kernel import (
     segment_softmax,
     target_graph,
 )
+from harness.models.sparse_static import static_attention_kernel
 
 NODES = 7
 EDGES = torch.tensor([[1, 2, 0, 3, 3, 5, 1, 4, 6], [0, 0, 1, 1, 2, 2, 4, 4, 4]])[
@@ -55,6 +57,12 @@ def test_every_backward_matches_finite_differences():
     assert gradcheck(lambda n: at_targets(n, graph), (node_scores,))
     assert gradcheck(lambda n: at_targets(n, graph), (values,))
     assert gradcheck(lambda n: at_sources(n, graph), (node_scores,))
+    keep = (torch.rand(3, graph.edges) > 0.3).double() / 0.7  # a drawn dropout mask
+    for mask in (None, keep):
+        assert gradcheck(
+            lambda u, t, v, mask=mask: static_attention_kernel(u, t, v, graph, 0.2, mask),
+            (node_scores, torch.randn(NODES, 3, **double), values),
+        )
 
 
 def test_softmax_weights_sum_to_one_per_target_and_empty_targets_get_nothing():
@@ -82,3 +90,38 @@ def test_graphs_are_kept_per_edge_tensor_and_rebuilt_after_a_change():
     first[0, 0] = 6
     assert graphs.get(first, NODES) is not built
     assert copy.deepcopy(graphs).entries == []  # a copied model sorts its edges afresh
+
+
+def test_static_attention_falls_back_to_exact_maxima_far_below_the_bound():
+    """One source part 200 above the rest puts the global bound out of reach of other
+    targets' scores (exp underflows): the result still equals the plain segment softmax."""
+    graph = target_graph(EDGES, NODES)
+    source, target = torch.zeros(NODES, 2), torch.zeros(NODES, 2)
+    source[6] = 200.0  # node 6 sends only to node 4
+    values = torch.randn(NODES, 2, 3)
+    out = static_attention_kernel(source, target, values, graph, 0.2, None)
+    scores = torch.nn.functional.leaky_relu(
+        at_sources(source, graph) + at_targets(target, graph), 0.2
+    )
+    expected = aggregate(segment_softmax(scores, graph), values, graph)
+    assert torch.isfinite(out).all()
+    torch.testing.assert_close(out, expected)
+
+
+def test_dynamic_scores_by_blocks_match_finite_differences(monkeypatch):
+    """Several blocks of edges (4 per block), with and without edge parts."""
+    from harness.models import sparse_dynamic
+
+    monkeypatch.setattr(sparse_dynamic, "EDGES_PER_BLOCK", 4)
+    graph = target_graph(EDGES, NODES)
+    double = {"dtype": torch.float64, "requires_grad": True}
+    source, target = torch.randn(NODES, 3, 2, **double), torch.randn(NODES, 3, 2, **double)
+    att, edge_part = torch.randn(1, 3, 2, **double), torch.randn(graph.edges, 3, 2, **double)
+    for part in (None, edge_part):
+        assert gradcheck(
+            lambda s, t, a, part=part: sparse_dynamic.dynamic_scores(s, t, a, part, graph, 0.2),
+            (source, target, att),
+        )
+    assert gradcheck(
+        lambda e: sparse_dynamic.dynamic_scores(source, target, att, e, graph, 0.2), (edge_part,)
+    )

@@ -43,7 +43,8 @@ def test_an_existing_sqlite_store_keeps_its_page_size(tmp_path):
     path = tmp_path / "runs.db"
     with sqlite3.connect(path) as connection:
         connection.execute("PRAGMA page_size=4096")
-        connection.execute("CREATE TABLE notes (text TEXT)")
+        # a store an older version made: one of Heedful's tables, in SQLite's default pages
+        connection.execute("CREATE TABLE predictions (key TEXT PRIMARY KEY, encoded BLOB)")
     assert store.save_run(path, run_row("k1"))
     with sqlite3.connect(path) as connection:
         assert connection.execute("PRAGMA page_size").fetchone()[0] == 4096

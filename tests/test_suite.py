@@ -97,8 +97,8 @@ MALFORMED = [
     (
         "unknown_model_kind",
         'model = "mlp"',
-        'model = "transformer"',
-        ["contenders.features_only: Input tag 'transformer'", "'gat'", "'gcn'", "'mlp'"],
+        'model = "recurrent"',
+        ["contenders.features_only: Input tag 'recurrent'", "'gat'", "'gcn'", "'mlp'"],
     ),
     (
         "model_kind_missing",

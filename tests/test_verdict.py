@@ -77,7 +77,8 @@ def test_headline_of_a_clear_gain():
     half = scipy_stats.t.ppf(0.975, 9) * d.std(ddof=1) / math.sqrt(10)
     assert headline(report) == (
         f"att (gat, 8 heads) beats the best baseline, conv (gcn), by +3.0 macro-F1 points "
-        f"(95% CI {3.0 - half:+.1f} to {3.0 + half:+.1f}, Holm-adjusted p < 0.001, 10 seeds)."
+        f"(95% t-interval {3.0 - half:+.1f} to {3.0 + half:+.1f}, Holm-adjusted p < 0.001, "
+        "10 seeds)."
     )
 
 

@@ -13,7 +13,7 @@ from harness.analysis.breakdown import Breakdown
 from harness.analysis.stats import RecordedWarning
 from harness.analysis.suite_report import Incomplete
 from harness.api import analyse
-from harness.report.wording import (
+from harness.report.documents.wording import (
     breakdown_summary,
     headline_sentence,
     incomplete_line,
@@ -27,43 +27,44 @@ A, B = "att (gat, 8 heads)", "conv (gcn)"
 CASES = [
     (
         CLEAR_GAIN,
-        f"{A} beats the best baseline, {B}, by +3.0 macro-F1 points (95% CI +2.9 to +3.1, "
+        f"{A} beats the best baseline, {B}, by +3.0 macro-F1 points (95% t-interval +2.9 to +3.1, "
         "Holm-adjusted p < 0.001, 10 seeds).",
-        "better (95% interval +2.9 to +3.1 points excludes 0, Holm-adjusted p < 0.001)",
+        "better (95% t-interval +2.9 to +3.1 points excludes 0, Holm-adjusted p < 0.001)",
     ),
     (
         CLEAR_LOSS,
-        f"{A} trails the best baseline, {B}, by -3.0 macro-F1 points (95% CI -3.1 to -2.9, "
+        f"{A} trails the best baseline, {B}, by -3.0 macro-F1 points (95% t-interval -3.1 to -2.9, "
         "Holm-adjusted p < 0.001, 10 seeds).",
-        "worse (95% interval -3.1 to -2.9 points excludes 0, Holm-adjusted p < 0.001)",
+        "worse (95% t-interval -3.1 to -2.9 points excludes 0, Holm-adjusted p < 0.001)",
     ),
     (
         TIE,
-        f"{A} and the best baseline, {B}, differ by +0.1 macro-F1 points (95% CI -0.1 to +0.3, "
-        "Holm-adjusted p = 0.17, 10 seeds): no difference that matters at a minimum gain of 1 "
-        "points.",
-        "no difference that matters (95% interval -0.1 to +0.3 points lies inside ±1, the "
+        f"{A} and the best baseline, {B}, differ by +0.1 macro-F1 points (95% t-interval -0.1 "
+        "to +0.3, Holm-adjusted p = 0.17, 10 seeds): no difference that matters at a minimum "
+        "gain of 1 points.",
+        "no difference that matters (95% t-interval -0.1 to +0.3 points lies inside ±1, the "
         "minimum gain)",
     ),
     (
         NOISY,
-        f"{A} against the best baseline, {B}: inconclusive, +0.5 macro-F1 points (95% CI -5.2 "
-        "to +6.2, Holm-adjusted p = 0.82, 5 seeds); about 329 seeds would likely settle it.",
-        "inconclusive (95% interval -5.2 to +6.2 points is wider than the minimum gain of ±1 "
+        f"{A} against the best baseline, {B}: inconclusive, +0.5 macro-F1 points (95% "
+        "t-interval -5.2 to +6.2, Holm-adjusted p = 0.82, 5 seeds); about 329 seeds would "
+        "likely settle it.",
+        "inconclusive (95% t-interval -5.2 to +6.2 points is wider than the minimum gain of ±1 "
         "allows to decide; about 329 seeds would likely settle it)",
     ),
     (
         SMALL_GAIN,
-        f"{A} beats the best baseline, {B}, by +1.9 macro-F1 points (95% CI +0.4 to +3.4, "
+        f"{A} beats the best baseline, {B}, by +1.9 macro-F1 points (95% t-interval +0.4 to +3.4, "
         "Holm-adjusted p = 0.026, 5 seeds).",
-        "better (95% interval +0.4 to +3.4 points excludes 0, Holm-adjusted p = 0.026; the gain "
+        "better (95% t-interval +0.4 to +3.4 points excludes 0, Holm-adjusted p = 0.026; the gain "
         "may be below the minimum gain of 1)",
     ),
     (
         [-gap for gap in SMALL_GAIN],
-        f"{A} trails the best baseline, {B}, by -1.9 macro-F1 points (95% CI -3.4 to -0.4, "
+        f"{A} trails the best baseline, {B}, by -1.9 macro-F1 points (95% t-interval -3.4 to -0.4, "
         "Holm-adjusted p = 0.026, 5 seeds).",
-        "worse (95% interval -3.4 to -0.4 points excludes 0, Holm-adjusted p = 0.026; the loss "
+        "worse (95% t-interval -3.4 to -0.4 points excludes 0, Holm-adjusted p = 0.026; the loss "
         "may be below the minimum gain of 1)",
     ),
     (
@@ -87,12 +88,13 @@ def test_an_unsettled_comparison_past_the_range_says_so_twice():
     report = analyse(crafted([0.0, 90.0, -90.0]), SETTINGS)
     advice = "with 3 seeds and this much spread the t-interval is unreliable; about"
     assert headline_sentence(report) == (
-        f"{A} against the best baseline, {B}: inconclusive, +0.0 macro-F1 points (95% CI -100.0 "
-        "to +100.0, Holm-adjusted p = 1.00, 3 seeds). The t-interval passes the possible ±100 "
+        f"{A} against the best baseline, {B}: inconclusive, +0.0 macro-F1 points (95% "
+        "t-interval -100.0 to +100.0, Holm-adjusted p = 1.00, 3 seeds). The t-interval passes "
+        "the possible ±100 "
         f"points and is shown clipped: {advice} 6 seeds would likely keep it inside."
     )
     assert reasons(report) == [
-        "att vs conv: inconclusive (95% interval -100.0 to +100.0 points is wider than the "
+        "att vs conv: inconclusive (95% t-interval -100.0 to +100.0 points is wider than the "
         "minimum gain of ±1 allows to decide; no practical number of seeds would settle it at "
         "this spread)",
         "att: the 95% t-interval of its mean passes the possible range 0 to 1 and is shown "
@@ -106,7 +108,7 @@ def test_a_clipped_headline_word_for_word(crafted_run):
     report = analyse(spread_runs(crafted_run))
     assert headline_sentence(report) == (
         "attention (gat, 2 heads) against the best baseline, convolution (gcn): inconclusive, "
-        "+60.3 accuracy points (95% CI -22.1 to +100.0, Holm-adjusted p = 0.088, 3 seeds); "
+        "+60.3 accuracy points (95% t-interval -22.1 to +100.0, Holm-adjusted p = 0.088, 3 seeds); "
         "about 4 seeds would likely settle it. The t-interval passes the possible ±100 points "
         "and is shown clipped: with 3 seeds and this much spread the t-interval is unreliable; "
         "about 6 seeds would likely keep it inside."

@@ -15,9 +15,18 @@ from dataclasses import dataclass
 import pandas as pd
 from torch_geometric.data import Data
 
+from harness.analysis.bounds import within_range
 from harness.analysis.node_groups import NodeGroups, node_groups
-from harness.analysis.stats import POINTS, attention_side, holm, paired_test, t_interval
+from harness.analysis.stats import (
+    METRIC_RANGE,
+    POINTS,
+    attention_side,
+    holm,
+    paired_test,
+    t_interval,
+)
 from harness.analysis.verdict import judge_all
+from harness.data.collection import GraphCollection
 from harness.results import NodePredictions
 from harness.schema.analysis import DEFAULT_ANALYSIS, Analysis
 from harness.training.metrics import score_probabilities
@@ -35,6 +44,7 @@ class Breakdown:
     comparisons: pd.DataFrame
     attention: str | None = None
     baseline: str | None = None
+    unit: str = "node"  # what the groups hold: test nodes, or test graphs of a collection
 
     def headline_rows(self) -> pd.DataFrame:
         """The rows of the headline comparison, lowest group first within each grouping."""
@@ -82,12 +92,16 @@ def group_scores(
 
 
 def per_group(scores: pd.DataFrame, confidence: float) -> pd.DataFrame:
-    """Per grouping, group and variant: the metric over seeds with its t-interval."""
+    """Per grouping, group and variant: the metric over seeds with its t-interval, clipped to
+    the metric's range like every other interval (analysis.bounds; `clipped` says so)."""
     rows = []
     keys = ["grouping", "order", "group", "variant"]
     for (grouping, order, group, variant), chosen in scores.groupby(keys, sort=True):
         values = chosen["value"].dropna().to_numpy(dtype=float)
-        low, high = t_interval(values, confidence)
+        mean = float(values.mean()) if len(values) else float("nan")
+        spread = float(values.std(ddof=1)) if len(values) > 1 else float("nan")
+        interval = t_interval(values, confidence)
+        bounded = within_range(mean, spread, interval, METRIC_RANGE, confidence)
         rows.append(
             {
                 "grouping": grouping,
@@ -96,9 +110,10 @@ def per_group(scores: pd.DataFrame, confidence: float) -> pd.DataFrame:
                 "variant": variant,
                 "nodes": float(chosen["nodes"].mean()),
                 "seeds": len(values),
-                "mean": float(values.mean()) if len(values) else float("nan"),
-                "low": low,
-                "high": high,
+                "mean": mean,
+                "low": bounded.low,
+                "high": bounded.high,
+                "clipped": bounded.clipped,
             }
         )
     return pd.DataFrame(rows)
@@ -147,12 +162,13 @@ def breakdown(
     (default: the first attention variant against the first baseline)."""
     runs = runs.assign(attention_side=attention_side(runs, settings).to_numpy())
     scores = group_scores(runs, predictions, data, node_groups(data, settings))
+    unit = "graph" if isinstance(data, GraphCollection) else "node"
     if scores.empty:
         empty = pd.DataFrame(columns=COLUMNS)
-        return Breakdown(empty, empty)
+        return Breakdown(empty, empty, unit=unit)
     judged = per_group_comparisons(scores, settings)
     groups = per_group(scores, settings.confidence)
     if judged.empty:
-        return Breakdown(groups, judged)
+        return Breakdown(groups, judged, unit=unit)
     attention, baseline = headline or (judged["attention"].iloc[0], judged["baseline"].iloc[0])
-    return Breakdown(groups, judged, attention, baseline)
+    return Breakdown(groups, judged, attention, baseline, unit)

@@ -3,7 +3,7 @@ and loading a suite's current runs from the store."""
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -14,6 +14,7 @@ from harness.analysis.ablation_effects import AblationEffects, ablation_effects
 from harness.analysis.arrival import arrival_summary
 from harness.analysis.breakdown import Breakdown, breakdown
 from harness.analysis.cost import cost_tradeoff
+from harness.analysis.edge_type_attention import edge_type_attention
 from harness.analysis.stats import (
     RecordedWarning,
     describe,
@@ -31,6 +32,7 @@ from harness.schema.tasks import TASKS, task_kind
 from harness.storage import store
 from harness.storage.predictions import load_predictions
 from harness.storage.selection import spec_runs
+from harness.storage.suite_runs import SuiteRuns
 
 if TYPE_CHECKING:
     from harness.analysis.homophily_map import HomophilyMapSummary
@@ -68,34 +70,27 @@ class SuiteReport:
     # said before everything else: runs of the suite not stored yet, warnings recorded in runs
     incomplete: Incomplete | None = None
     warnings: tuple[RecordedWarning, ...] = ()
+    # attention share per edge type against edge share (edge_type_attention); may be empty
+    edge_types: pd.DataFrame = field(default_factory=pd.DataFrame)
 
 
-def runs(store_path: str | Path, suite: str | Path | None = None) -> pd.DataFrame:
+def stored_runs(chosen: SuiteRuns) -> pd.DataFrame:
     """Stored runs of a suite (a suite file's current runs, or a stored suite name), or all.
 
     For a suite file only runs whose key the file still expands to are kept, so runs of an
     edited suite's old settings do not mix in.
     """
-    if suite is not None and Path(suite).is_file():
-        from harness.planning import expand, load_suite
+    if chosen.file is None:
+        return store.load_runs(chosen.store, chosen.names)
+    from harness.planning import expand
 
-        loaded = load_suite(suite)
-        if loaded.tuning is not None:  # the seeded repeats of the tuned settings
-            from harness.tuning.study import current_tuned_runs
+    suite = chosen.file.suite
+    if suite.tuning is not None:  # the seeded repeats of the tuned settings
+        from harness.tuning.study import current_tuned_runs
 
-            frame = store.load_runs(store_path, [loaded.name])
-            return current_tuned_runs(frame, loaded).reset_index(drop=True)
-        return spec_runs(store_path, expand(loaded), same_contender=False)
-    return store.load_runs(store_path, None if suite is None else [str(suite)])
-
-
-def settings_of(suite: str | Path | None) -> Analysis:
-    """The `[analysis]` table of a suite file; defaults for a stored suite name."""
-    if suite is not None and Path(suite).is_file():
-        from harness.planning import load_suite
-
-        return load_suite(suite).analysis
-    return DEFAULT_ANALYSIS
+        frame = store.load_runs(chosen.store, [suite.name])
+        return current_tuned_runs(frame, suite).reset_index(drop=True)
+    return spec_runs(chosen.store, expand(suite), same_contender=False)
 
 
 def contenders(runs: pd.DataFrame, settings: Analysis = DEFAULT_ANALYSIS) -> pd.DataFrame:
@@ -123,7 +118,7 @@ def graph_homophily(store_path: str | Path, suite: str) -> pd.DataFrame:
     from harness.storage.profiles import load_profiles
 
     profiles = load_profiles(store_path, suite)
-    if not profiles:
+    if not profiles or not profiles[-1].labelled:  # no data, or a task that reads no labels
         return pd.DataFrame(columns=["measure", "value"])
     measures = asdict(profiles[-1].homophily)
     return pd.DataFrame({"measure": list(measures), "value": list(measures.values())})
@@ -186,6 +181,7 @@ def analyse(
         breakdown=nodes,
         incomplete=missing,
         warnings=recorded_warnings(runs),
+        edge_types=edge_type_attention(runs),
     )
 
 
@@ -218,27 +214,25 @@ def missing_runs(runs: pd.DataFrame, suite: Suite) -> Incomplete | None:
     return Incomplete(len(specs) - len(missing), len(specs), tuple(absent), lacking)
 
 
-def analyse_store(store_path: str | Path, suite: str | Path) -> SuiteReport:
+def analyse_store(chosen: SuiteRuns) -> SuiteReport:
     """Load a suite's stored runs and analyse them with the suite's settings.
 
     Given a suite file, its homophily map and per-node breakdown are included when their runs
     and predictions are stored.
     """
-    loaded = runs(store_path, suite)
+    loaded = stored_runs(chosen)
     if loaded.empty:
-        raise InputError(f"{store_path}: no stored runs for suite '{suite}'; run it first")
+        raise InputError(f"{chosen.store}: no stored runs for suite '{chosen.given}'; run it first")
     name = str(loaded["suite"].iloc[0])
     mapped, predictions, data, missing = None, None, None, None
-    if Path(suite).is_file():
-        from harness.planning import load_suite
-
-        source = load_suite(suite)
-        mapped = stored_homophily_map(store_path, source)
-        predictions = predictions_for(store_path, loaded, source.analysis)
+    if chosen.file is not None:
+        source = chosen.file.suite
+        mapped = stored_homophily_map(chosen.store, source)
+        predictions = predictions_for(chosen.store, loaded, source.analysis)
         data = load_graph(source.data) if predictions else None
         missing = missing_runs(loaded, source)
-    homophily = graph_homophily(store_path, name)
-    return analyse(loaded, settings_of(suite), homophily, mapped, predictions, data, missing)
+    homophily = graph_homophily(chosen.store, name)
+    return analyse(loaded, chosen.settings, homophily, mapped, predictions, data, missing)
 
 
 def analyse_suite_runs(store_path: str | Path, runs: pd.DataFrame, suite: Suite) -> SuiteReport:
@@ -253,29 +247,28 @@ def predictions_for(store_path: str | Path, runs: pd.DataFrame, settings: Analys
     return load_predictions(store_path, runs["key"]) if settings.breakdown else {}
 
 
-def node_breakdown(store_path: str | Path, suite: str | Path) -> pd.DataFrame:
+def node_breakdown(chosen: SuiteRuns) -> pd.DataFrame:
     """Per node group and comparison of a suite file's stored runs: the columns of
     csv/breakdown.csv, then seeds, p-values and verdicts."""
-    if not Path(suite).is_file():
-        raise InputError(f"{suite}: suite file not found; the breakdown reads the suite's data")
-    from harness.planning import load_suite
-
-    source = load_suite(suite)
+    given = chosen.given
+    if chosen.file is None:
+        raise InputError(f"{given}: suite file not found; the breakdown reads the suite's data")
+    source = chosen.file.suite
     if not source.analysis.breakdown:
         raise InputError(
-            f"{suite}: analysis.breakdown: given false; the breakdown needs it true (the default), "
+            f"{given}: analysis.breakdown: given false; the breakdown needs it true (the default), "
             "and runs stored with it true"
         )
     kind = task_kind(source.task)
     if not kind.breakdown:
         raise InputError(
-            f"{suite}: task: given '{source.task}'; the per-node breakdown groups scored test "
+            f"{given}: task: given '{source.task}'; the per-node breakdown groups scored test "
             f"nodes, which a {kind.title} suite has not; allowed: a suite whose task has them "
             f"({', '.join(name for name, task in TASKS.items() if task.breakdown)})"
         )
-    report = analyse_store(store_path, suite)
+    report = analyse_store(chosen)
     if report.breakdown is None:
-        raise InputError(f"{store_path}: no per-node predictions stored for suite '{suite}'")
+        raise InputError(f"{chosen.store}: no per-node predictions stored for suite '{given}'")
     return report.breakdown.comparisons
 
 

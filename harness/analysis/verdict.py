@@ -1,5 +1,5 @@
 """Verdicts: what each paired comparison says, and the figures of each suite's headline
-comparison. Figures only; harness.report.wording writes them as sentences.
+comparison. Figures only; harness.report.documents.wording writes them as sentences.
 
 Rules, applied in order to the paired t-interval [low, high] of the mean difference
 (attention minus baseline, metric points), with m the suite's minimum gain and alpha = 1 -

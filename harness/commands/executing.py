@@ -10,7 +10,8 @@ from typing import TYPE_CHECKING
 from harness.commands.feedback import Feedback
 from harness.execution.executed import Executed
 from harness.execution.executors import ClusterLink, Executor
-from harness.planning import RunSpec, load_suite
+from harness.planning import RunSpec
+from harness.storage.suite_runs import SuiteRuns
 
 if TYPE_CHECKING:
     from harness.storage.database import Location
@@ -26,18 +27,15 @@ class ExecutedStatus:
         return self.executed.status
 
 
-def check_cluster_use(
-    suite_path: str, store_path: Location, storage: str | None, address: str | None
-) -> None:
+def check_cluster_use(chosen: SuiteRuns, storage: str | None, address: str | None) -> None:
     """Before connecting: a tuned suite on a cluster needs a storage its workers reach."""
     if address is None:
         return
-    suite = load_suite(suite_path)
-    if suite.tuning is not None:
+    if chosen.suite.tuning is not None:
         from harness.tuning.on_cluster import check_shared
         from harness.tuning.storage import default_storage_url
 
-        check_shared(address, storage or default_storage_url(store_path))
+        check_shared(address, storage or default_storage_url(chosen.store))
 
 
 @contextmanager

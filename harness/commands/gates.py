@@ -11,7 +11,7 @@ from typing import TYPE_CHECKING
 from harness.commands.executing import ExecutedStatus, execute_specs
 from harness.commands.feedback import SILENT, Feedback
 from harness.execution.executed import Executed
-from harness.execution.executors import Resources, executor_for
+from harness.execution.executors import ClusterLink, Resources, executor_for
 from harness.execution.preflight import preflight
 from harness.execution.runs import pending
 from harness.gate.baseline import (
@@ -27,20 +27,21 @@ from harness.gate.baseline import (
 )
 from harness.gate.compare import GateOutcome, evaluate
 from harness.gate.records import history_records
-from harness.planning import RunSpec, expand, load_suite
-from harness.report.gate_markdown import gate_markdown
-from harness.report.junit import write_junit
+from harness.output_files import write_output
+from harness.planning import RunSpec, expand
+from harness.report.documents.gate import gate_document
+from harness.report.formats import FORMATS
 from harness.schema.suite import Suite
 from harness.storage import gate_history
 from harness.storage.selection import spec_runs
+from harness.storage.suite_runs import SuiteRuns
 
 if TYPE_CHECKING:
     from harness.storage.database import Location
 
 
 def _run_for_gate(
-    suite_path: str,
-    store_path: Location,
+    chosen: SuiteRuns,
     given: Resources,
     feedback: Feedback,
     check: Callable[[Suite, list[RunSpec]], None] = lambda suite, specs: None,
@@ -48,7 +49,7 @@ def _run_for_gate(
     """A suite that can be gated, checked by `check` before its data loads; its runs trained,
     or reused from the store."""
     executor = executor_for(given)  # processes x threads checked first
-    suite = load_suite(suite_path)
+    suite, suite_path, store_path = chosen.suite, chosen.given, chosen.store
     check_gateable(suite, suite_path)
     specs = expand(suite)
     check(suite, specs)
@@ -69,16 +70,16 @@ class BaselineOutcome(ExecutedStatus):
 
 
 def baseline(
-    suite_path: str,
+    chosen: SuiteRuns,
     save: Path,
-    store_path: Location,
     jobs: int,
     threads: int,
     feedback: Feedback = SILENT,
-    cluster=None,
+    cluster: ClusterLink | None = None,
 ) -> BaselineOutcome:
     given = Resources(jobs, threads, cluster=cluster)
-    suite, specs, executed = _run_for_gate(suite_path, store_path, given, feedback)
+    suite, specs, executed = _run_for_gate(chosen, given, feedback)
+    store_path = chosen.store
     if executed.stopped:
         return BaselineOutcome(suite, store_path, executed, len(specs))
     document = build_baseline(
@@ -102,21 +103,20 @@ class GateRun:
 
 
 def gate(
-    suite_path: str,
+    chosen: SuiteRuns,
     baseline_path: Path,
-    store_path: Location,
     jobs: int,
     threads: int,
     junit: Path | None = None,
     markdown: Path | None = None,
     feedback: Feedback = SILENT,
-    cluster=None,
+    cluster: ClusterLink | None = None,
 ) -> GateRun:
     stored = read_baseline(baseline_path)
     given = Resources(jobs, threads, cluster=cluster)
+    store_path = chosen.store
     suite, specs, executed = _run_for_gate(
-        suite_path,
-        store_path,
+        chosen,
         given,
         feedback,
         lambda suite, specs: check_matches(stored, suite, specs, baseline_path),
@@ -131,10 +131,11 @@ def gate(
     outcome = evaluate(
         suite, labels, stored, runs, environment, differences, time.time(), unmatched
     )
+    # the files first: one that cannot be written stops the gate (exit 2) before its history
+    # is appended, so a rerun is not counted twice
+    document = gate_document(outcome)
+    for path, name in ((junit, "junit"), (markdown, "markdown")):
+        if path:
+            write_output(path, FORMATS[name].render(document))
     gate_history.append(store_path, history_records(outcome))
-    if junit:
-        write_junit(junit, outcome)
-    if markdown:
-        Path(markdown).parent.mkdir(parents=True, exist_ok=True)
-        Path(markdown).write_text(gate_markdown(outcome), encoding="utf-8")
     return GateRun(store_path, executed, outcome)

@@ -7,7 +7,7 @@ start before them, so that their imports overlap this process's.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 import pandas as pd
 
@@ -21,11 +21,15 @@ from harness.commands.feedback import SILENT, Feedback
 from harness.commands.tuned import TunedOutcome, run_tuned
 from harness.errors import InputError
 from harness.execution.executed import Executed
-from harness.execution.executors import Executor, Resources, executor_for
-from harness.planning import load_suite
+from harness.execution.executors import ClusterLink, Executor, Resources, executor_for
 from harness.schema.suite import Suite
+from harness.storage.suite_runs import SuiteRuns
 
 if TYPE_CHECKING:
+    from harness.analysis.axes import AblationView
+    from harness.analysis.homophily_map import HomophilyMapSummary
+    from harness.analysis.suite_report import SuiteReport
+    from harness.data.profile import DatasetProfile
     from harness.storage.database import Location
 
 __all__ = ["check_cluster_use", "connected_cluster"]  # the command line imports them from here
@@ -39,9 +43,9 @@ class RunOutcome(ExecutedStatus):
     store: Location
     executed: Executed
     summary: pd.DataFrame | None = None  # per contender and point (analysis.stats.summarise)
-    ablation: Any = None  # harness.analysis.axes.AblationView
-    report: Any = None  # harness.analysis.suite_report.SuiteReport
-    profile: Any = None  # the data's stored profile, which the homophily map matches
+    ablation: AblationView | None = None
+    report: SuiteReport | None = None
+    profile: DatasetProfile | None = None  # the data's, stored; the homophily map matches it
 
 
 @dataclass(frozen=True)
@@ -51,35 +55,32 @@ class MapOutcome(ExecutedStatus):
     planned: int
     store: Location
     executed: Executed
-    summary: Any = None  # harness.analysis.homophily_map.HomophilyMapSummary
+    summary: HomophilyMapSummary | None = None
 
 
 def run_suite(
-    suite_path: str,
-    store_path: Location,
+    chosen: SuiteRuns,
     jobs: int,
     threads: int,
     storage: str | None,
     memory_limit: float | None = None,
     feedback: Feedback = SILENT,
-    cluster=None,
+    cluster: ClusterLink | None = None,
 ) -> RunOutcome | TunedOutcome:
     """Run or tune a suite file, reusing stored runs; stops before training when a run's
     estimated peak memory (times `jobs`) exceeds `memory_limit` GiB (default: the machine's)."""
     from harness.execution.memory import check_suite_memory
     from harness.execution.pool import start_method, start_workers
 
-    suite = load_suite(suite_path)
+    suite, suite_path = chosen.suite, chosen.given
     # processes x threads checked against the cores (a cluster connects once they fit)
     executor = executor_for(Resources(jobs, threads, cluster=cluster))
     if suite.tuning is not None:
-        return run_tuned(
-            suite, suite_path, store_path, executor, jobs, storage, memory_limit, feedback
-        )
+        return run_tuned(chosen, executor, jobs, storage, memory_limit, feedback)
     if storage is not None:
         raise InputError(
             f"--tuning-database: suite '{suite.name}' has no [tuning] table, so nothing would use "
-            f"{storage!r}; allowed: --tuning-database with a suite that tunes"
+            "that database; allowed: --tuning-database with a suite that tunes"
         )
     check_suite_memory(suite, suite_path, jobs, memory_limit)  # synthetic: before data
     # spawned workers start before the heavy imports below, so that theirs overlap this
@@ -90,7 +91,7 @@ def run_suite(
     if workers is not None:
         executor = executor_for(Resources(jobs, threads, workers, cluster))
     try:
-        return run_fixed(suite, suite_path, store_path, executor, jobs, memory_limit, feedback)
+        return run_fixed(chosen, executor, jobs, memory_limit, feedback)
     except BaseException:
         if workers is not None:
             workers.terminate()
@@ -98,9 +99,7 @@ def run_suite(
 
 
 def run_fixed(
-    suite: Suite,
-    suite_path: str,
-    store_path: Location,
+    chosen: SuiteRuns,
     executor: Executor,
     jobs: int,
     memory_limit: float | None,
@@ -116,6 +115,7 @@ def run_fixed(
     from harness.storage.profiles import record_profile
     from harness.storage.selection import spec_runs
 
+    suite, suite_path, store_path = chosen.suite, chosen.given, chosen.store
     specs = expand(suite)
     facts = preflight(suite, suite_path)
     check_suite_memory(suite, suite_path, jobs, memory_limit, facts.size)
@@ -138,7 +138,11 @@ def run_fixed(
 
 
 def run_homophily_map(
-    outcome: RunOutcome, jobs: int, threads: int, feedback: Feedback = SILENT, cluster=None
+    outcome: RunOutcome,
+    jobs: int,
+    threads: int,
+    feedback: Feedback = SILENT,
+    cluster: ClusterLink | None = None,
 ) -> MapOutcome:
     """The suite's contenders on synthetic graphs matched to its data, across edge homophily."""
     from harness.analysis.homophily_map import summarise_map

@@ -4,15 +4,17 @@ tuning did from its storage."""
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 import pandas as pd
 
 from harness.commands.feedback import Feedback
 from harness.execution.executors import Executor
 from harness.schema.suite import Suite
+from harness.storage.suite_runs import SuiteRuns
 
 if TYPE_CHECKING:
+    from harness.analysis.suite_report import SuiteReport
     from harness.storage.database import Location
 
 
@@ -34,7 +36,7 @@ class TunedOutcome:
     storage_url: str
     tuning: TuningFrames
     summary: pd.DataFrame
-    report: Any = None  # SuiteReport; None when no repeat is stored
+    report: SuiteReport | None = None  # None when no repeat is stored
     status: int = 0
 
 
@@ -64,9 +66,7 @@ def tuning_frames(suite: Suite, storage_url: str) -> TuningFrames:
 
 
 def run_tuned(
-    suite: Suite,
-    suite_path: str,
-    store_path: Location,
+    chosen: SuiteRuns,
     executor: Executor,
     jobs: int,
     storage: str | None,
@@ -83,6 +83,7 @@ def run_tuned(
     from harness.tuning.storage import parse_url, shown
     from harness.tuning.workers import tune
 
+    suite, suite_path, store_path = chosen.suite, chosen.given, chosen.store
     url = checked_storage(suite, store_path, storage)  # a bad storage fails before any write
     check_suite_memory(suite, suite_path, jobs, memory_limit)
     facts = preflight(suite, suite_path)

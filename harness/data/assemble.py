@@ -41,24 +41,29 @@ def assemble(
     directed: bool = False,
     unordered_repeats: bool = True,
     weight: np.ndarray | None = None,
+    edge_attr: np.ndarray | None = None,
     split_part: np.ndarray | None = None,
     class_names: list[str] | None = None,
     node_ids: list[str] | None = None,
 ) -> Data:
     """The cleaned graph. `unordered_repeats`: count (b, a) after (a, b) as a repeat (tables
     list each undirected edge once); PyG-style sources list both directions, so they pass False.
-    Repeated edges keep the mean of their weights.
+    Repeated edges keep the mean of their weights and attributes; an undirected edge gives
+    both directions its row's attributes.
     """
     nodes = len(x)
     loops = source == target
     source, target = source[~loops], target[~loops]
     repeats = count_repeats(source, target, nodes, unordered_repeats and not directed)
     edge_index = torch.from_numpy(np.stack([source, target]).astype(np.int64))
-    edge_weight = None if weight is None else torch.from_numpy(weight[~loops].astype(np.float32))
-    if directed:
-        edge_index, edge_weight = coalesce(edge_index, edge_weight, nodes, reduce="mean")
-    else:
-        edge_index, edge_weight = to_undirected(edge_index, edge_weight, nodes, reduce="mean")
+    per_edge = [
+        torch.from_numpy(np.ascontiguousarray(values[~loops], dtype=np.float32))
+        for values in (weight, edge_attr)
+        if values is not None
+    ]
+    tidy = coalesce if directed else to_undirected
+    edge_index, per_edge = tidy(edge_index, per_edge, nodes, reduce="mean")
+    edge_weight = per_edge[0] if weight is not None else None
     data = Data(
         x=torch.from_numpy(np.ascontiguousarray(x, dtype=np.float32)),
         edge_index=edge_index,
@@ -67,6 +72,8 @@ def assemble(
     )
     if edge_weight is not None:
         data.edge_weight = edge_weight
+    if edge_attr is not None:
+        data.edge_attr = per_edge[-1]
     if split_part is not None:
         data.split_part = torch.from_numpy(split_part.astype(np.int64))
     data.class_names = class_names or [str(c) for c in range(int(y.max()) + 1)]

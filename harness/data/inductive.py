@@ -33,8 +33,13 @@ def training_subgraph(data: Data, split: Split) -> Data:
     `train_rows` are the rows of the training nodes in it (all of them); `original` maps each
     row back to its node in the full graph.
     """
-    edges, _ = subgraph(split.train, data.edge_index, relabel_nodes=True, num_nodes=data.num_nodes)
+    attributes = getattr(data, "edge_attr", None)
+    edges, kept = subgraph(
+        split.train, data.edge_index, attributes, relabel_nodes=True, num_nodes=data.num_nodes
+    )
     graph = Data(x=data.x[split.train], edge_index=edges, y=data.y[split.train])
+    if attributes is not None:
+        graph.edge_attr = kept
     graph.num_nodes = len(split.train)
     graph.train_rows = torch.arange(len(split.train))
     graph.original = split.train.clone()

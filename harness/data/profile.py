@@ -1,9 +1,10 @@
-"""Dataset profile: size, degrees, cleaning, class balance, features and homophily."""
+"""Dataset profile: size, degrees, cleaning, class balance, features, homophily, and the edge
+attributes with the edge homophily of each edge type."""
 
 from __future__ import annotations
 
 import dataclasses
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, field
 
 import numpy as np
 import torch
@@ -12,6 +13,7 @@ from torch_geometric.utils import degree
 
 from harness.data.assemble import edge_count
 from harness.data.collection import GraphCollection
+from harness.data.edge_attributes import edge_types
 from harness.data.graph_starts import as_one_graph
 from harness.data.homophily import Homophily, measure_homophily
 
@@ -62,6 +64,9 @@ class DatasetProfile:
     unlabelled_nodes: int
     features: FeatureSummary
     homophily: Homophily | None  # None when the task reads no node labels
+    edge_attributes: list[str] = field(default_factory=list)  # edge_attr column names
+    # per edge type: its edges and the share joining two nodes of the same label (NaN if none)
+    edge_type_homophily: dict[str, list] = field(default_factory=dict)
     collection: CollectionSummary | None = None  # graph classification: the graphs; classes
     # and counts are then those of the graphs
 
@@ -128,6 +133,8 @@ def profile_graph(data: Data, node_labels: bool = True) -> DatasetProfile:
             zero_share=float(np.mean(x == 0)),
         ),
         homophily=measure_homophily(data.edge_index, data.y) if node_labels else None,
+        edge_attributes=list(getattr(data, "edge_attribute_names", None) or []),
+        edge_type_homophily=type_homophily(data) if node_labels else {},
     )
 
 
@@ -155,3 +162,21 @@ def profile_collection(collection: GraphCollection) -> DatasetProfile:
             skipped_rows=len(collection.skipped),
         ),
     )
+
+
+def type_homophily(data: Data) -> dict[str, list]:
+    """Edge homophily of each edge type: [edges of the type, share of its labelled edges that
+    join two nodes of the same label, None without any]; empty without typed edges."""
+    types = edge_types(data, data.edge_index)
+    if types is None:
+        return {}
+    source, target = data.edge_index
+    labelled = (data.y[source] >= 0) & (data.y[target] >= 0)
+    same = data.y[source] == data.y[target]
+    out = {}
+    for index, name in enumerate(data.edge_type_names):
+        of_type = types == index
+        counted = of_type & labelled
+        share = float(same[counted].double().mean()) if bool(counted.any()) else None
+        out[name] = [int(of_type.sum()), share]
+    return out

@@ -7,30 +7,16 @@ for CSV files the line number is given as well.
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import numpy as np
 import pandas as pd
 from sklearn.preprocessing import StandardScaler
 from torch_geometric.data import Data
 
 from harness.data.assemble import SPLIT_PARTS, assemble
+from harness.data.edge_attributes import attach_edge_types, read_edge_attributes
+from harness.data.table_cells import feature_matrix, need_columns, no_missing, row_name, shown
 from harness.errors import InputError
 from harness.schema.data import TableData
-
-
-def shown(path: str) -> str:
-    """A path as the user most likely wrote it: relative to the working folder when inside it."""
-    try:
-        return str(Path(path).relative_to(Path.cwd()))
-    except ValueError:
-        return path
-
-
-def row_name(path: str, row: int) -> str:
-    """`file: row N` (and the line for CSV, where the header is line 1)."""
-    line = f" (line {row + 2})" if path.lower().endswith(".csv") else ""
-    return f"{shown(path)}: row {row + 1}{line}"
 
 
 def read_table(path: str, what: str, text_columns: list[str]) -> pd.DataFrame:
@@ -62,23 +48,6 @@ def read_table(path: str, what: str, text_columns: list[str]) -> pd.DataFrame:
     return frame
 
 
-def need_columns(frame: pd.DataFrame, path: str, columns: list[str], key: str) -> None:
-    for column in columns:
-        if column not in frame.columns:
-            present = ", ".join(map(str, frame.columns[:12]))
-            raise InputError(
-                f"{shown(path)}: column '{column}' (data.{key}) not found; columns present: "
-                f"{present}"
-            )
-
-
-def no_missing(values: pd.Series, path: str, what: str) -> None:
-    missing = values.isna().to_numpy()
-    if missing.any():
-        row = int(np.argmax(missing))
-        raise InputError(f"{row_name(path, row)}: empty {what}; allowed: a value in every row")
-
-
 def feature_names(frame: pd.DataFrame, spec: TableData) -> list[str]:
     if spec.feature_columns is not None:
         need_columns(frame, spec.nodes, spec.feature_columns, "feature_columns")
@@ -91,31 +60,6 @@ def feature_names(frame: pd.DataFrame, spec: TableData) -> list[str]:
         how = f"starting with '{spec.feature_prefix}'" if spec.feature_prefix else "besides id"
         raise InputError(f"{shown(spec.nodes)}: no feature columns {how}; allowed: one or more")
     return columns
-
-
-def feature_matrix(
-    frame: pd.DataFrame, columns: list[str], path: str, what: str = "feature"
-) -> np.ndarray:
-    """Numeric, finite features as float32; names the first bad column and row."""
-    for column in columns:
-        values = frame[column]
-        if not (pd.api.types.is_numeric_dtype(values) or pd.api.types.is_bool_dtype(values)):
-            bad = (pd.to_numeric(values, errors="coerce").isna() & values.notna()).to_numpy()
-            row = int(np.argmax(bad))
-            raise InputError(
-                f"{shown(path)}: column '{column}' is not numeric (row {row + 1} holds "
-                f"{values.iloc[row]!r}); allowed: numbers in {what} columns"
-            )
-    matrix = frame[columns].to_numpy(dtype=np.float64)
-    bad = ~np.isfinite(matrix)
-    if bad.any():
-        row, column = (int(i) for i in np.argwhere(bad)[0])
-        kind = "NaN or empty" if np.isnan(matrix[row, column]) else "infinite"
-        raise InputError(
-            f"{row_name(path, row)}: column '{columns[column]}' holds a {kind} {what}; "
-            "allowed: finite numbers"
-        )
-    return matrix.astype(np.float32)
 
 
 def label_codes(frame: pd.DataFrame, spec: TableData) -> tuple[np.ndarray, list[str], str | None]:
@@ -212,6 +156,7 @@ def load_tables(spec: TableData) -> Data:
     if spec.weight_column is not None:
         need_columns(edges, spec.edges, [spec.weight_column], "weight_column")
         weight = feature_matrix(edges, [spec.weight_column], spec.edges, "weight")[:, 0]
+    attributes = read_edge_attributes(edges, spec)
     data = assemble(
         features,
         source,
@@ -219,10 +164,14 @@ def load_tables(spec: TableData) -> Data:
         labels,
         directed=spec.directed,
         weight=weight,
+        edge_attr=None if attributes is None else attributes.matrix,
         split_part=split_part,
         class_names=class_names,
         node_ids=[str(name) for name in index],
     )
     data.split_origin = f"{shown(spec.nodes)}: column '{spec.split_column}'"
     data.label_problem = label_problem
+    if attributes is not None:
+        names, columns = attributes.names, attributes.type_columns
+        attach_edge_types(data, names, columns, attributes.type_names)
     return data

@@ -27,7 +27,14 @@ from distributed.scheduler import KilledWorker
 import harness
 from harness.errors import InputError
 from harness.execution.executed import Executed
-from harness.execution.runs import describe, failure_line, pending, record_of
+from harness.execution.runs import (
+    describe,
+    failure_line,
+    no_space_line,
+    out_of_space,
+    pending,
+    record_of,
+)
 from harness.planning import RunSpec
 from harness.storage import store
 from harness.training.runs import perform
@@ -175,7 +182,13 @@ def execute_on_cluster(
             record, worker, theirs = future.result()
             if (line := difference(worker, theirs)) is not None:
                 raise InputError(f"--cluster: {line}")
-            store.save_run(store_path, record)
+            try:
+                store.save_run(store_path, record)
+            except Exception as error:
+                if not out_of_space(error):
+                    raise
+                failures += [failure_line(spec, error), no_space_line(len(futures))]
+                break  # the runs still out are cancelled below: they could not be stored
             finished += 1
             if on_finished:
                 on_finished(spec.contender)

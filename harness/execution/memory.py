@@ -23,6 +23,8 @@ from harness.schema.ablation import point_label
 from harness.schema.contenders import ContenderBase
 from harness.schema.data import DataSource, GraphSize
 from harness.schema.model_kinds import MODEL_KINDS
+from harness.schema.tasks import task_kind
+from harness.schema.tasks.declaration import imported
 from harness.schema.training import Training
 
 FLOAT = 4
@@ -34,6 +36,9 @@ BASE_BYTES = 480 * 2**20  # resident size of a worker after importing torch and 
 BACKWARD_FACTOR = 1.6
 SYNTHETIC_BYTES_PER_FEATURE = 20  # float64 means + noise, then the float32 copy
 SYNTHETIC_BYTES_PER_EDGE = 80  # numpy draws, both directions, coalescing
+# int64 indices per drawn negative: the pair itself, PyG's oversampled candidates and its
+# membership test against the edges (torch_geometric.utils.negative_sampling)
+NEGATIVE_INDICES = 8
 
 
 def machine_bytes() -> int:
@@ -129,6 +134,27 @@ def run_bytes(options: ContenderBase, size: GraphSize, training: Training) -> fl
     return BASE_BYTES + graph_bytes(size, options) + parameters + step
 
 
+def scored_pair_bytes(suite: BaseModel, size: GraphSize) -> tuple[float, str]:
+    """A link run's scored pairs: each epoch's training edges with `negatives_per_positive`
+    fresh negatives each (the decoder's gathered embeddings and products kept for backward,
+    and the sampler's candidate indices), plus the fixed validation and test pairs and one
+    scoring pass over the larger of them. Measured against training's own peak in
+    tests/test_memory.py."""
+    link, split = suite.task_options, suite.split
+    edges = size.edges / 2  # undirected pairs; a directed graph counts each edge once here
+    per_edge = 1 + link.negatives_per_positive
+    # saved per pair: both ends' embeddings and the logit; the mlp decoder also its input (their
+    # product) and hidden layer
+    width, hidden = link.embedding_width, link.decoder_hidden
+    floats = 3 * width + 2 * hidden + 2 if link.decoder == "mlp" else 2 * width + 2
+    training = split.train * edges * per_edge
+    held = (split.validation + split.test) * edges * per_edge
+    largest = max(split.validation, split.test) * edges * per_edge
+    step = training * (BACKWARD_FACTOR * floats * FLOAT + NEGATIVE_INDICES * INDEX)
+    scoring = held * (2 * INDEX + 2 * FLOAT) + largest * floats * FLOAT
+    return step + scoring, f"link.negatives_per_positive = {link.negatives_per_positive}"
+
+
 def data_bytes(data: DataSource, size: GraphSize) -> float:
     """Peak while generating a synthetic graph (numpy works in float64 and int64)."""
     if not data.generated:
@@ -148,6 +174,8 @@ class RunMemory:
     bytes: float
     sampled_bytes: float | None = None
     point: tuple[tuple[str, Any], ...] = ()  # the ablation point: (axis, level) pairs
+    task_bytes: float = 0.0  # of `bytes`, what the task adds (scored pairs), and the option
+    task_option: str = ""  # that moves it most, as the suite sets it
 
     @property
     def own_bytes(self) -> float:
@@ -158,12 +186,15 @@ class RunMemory:
 SUGGESTED = {"batching": "sampled", "batch_size": 1024}
 
 
-def estimate_runs(designs: list, suite_training: Training, size: GraphSize) -> list[RunMemory]:
-    """One estimate per contender configuration (design point) of a suite."""
+def estimate_runs(
+    designs: list, suite_training: Training, size: GraphSize, task: tuple[float, str] = (0.0, "")
+) -> list[RunMemory]:
+    """One estimate per contender configuration (design point) of a suite; `task` is what the
+    suite's task adds to every run, and the option behind it."""
     estimates = []
     for design in designs:
         training = design.options.training.apply(suite_training)
-        needed = run_bytes(design.options, size, training)
+        needed = run_bytes(design.options, size, training) + task[0]
         sampled = None
         if not training.sampled:
             fanout = [10] * design.options.layers
@@ -171,7 +202,9 @@ def estimate_runs(designs: list, suite_training: Training, size: GraphSize) -> l
             sampled = run_bytes(design.options, size, alternative)
         point = tuple(design.point.items())
         estimates.append(
-            RunMemory(design.contender, design.label, training.batching, needed, sampled, point)
+            RunMemory(
+                design.contender, design.label, training.batching, needed, sampled, point, *task
+            )
         )
     return estimates
 
@@ -236,6 +269,11 @@ def check_run_memory(
                 f"{gib(largest.sampled_bytes)} per run)"
             )
         advice = f"{'fewer --jobs, ' if running > 1 else ''}a smaller graph or model{hint}"
+        if largest.task_bytes > largest.own_bytes / 2:  # the task's part is what to cut
+            advice = (
+                f"a smaller {largest.task_option.replace(' = ', ' (given ')}, whose scored "
+                f"pairs take about {gib(largest.task_bytes)}), {advice}"
+            )
     raise InputError(
         f"{source}: contenders.{largest.contender}: a {largest.batching}-batch run of "
         f"{largest.label} needs about {gib(largest.bytes)} ({parts})"
@@ -260,10 +298,16 @@ def check_suite_memory(
         return []
     limit = machine_bytes() if limit_gib is None else limit_gib * GIB
     check_fixed_part(limit)
-    estimates = estimate_runs(design_points(suite), suite.training, size)
-    if suite.data.many_graphs:  # a step holds one batch of graphs: sampling nodes does not apply
+    kind = task_kind(suite.task)
+    if kind.output_option is not None:  # the model's output is the task's, not one per class
+        size = replace(size, classes=getattr(suite.task_options, kind.output_option))
+    task = imported(kind.run_memory)(suite, size) if kind.run_memory else (0.0, "")
+    estimates = estimate_runs(design_points(suite), suite.training, size, task)
+    if not kind.sampled_batches:  # sampling is no way out for this task
+        estimates = [replace(estimate, sampled_bytes=None) for estimate in estimates]
+    if suite.data.many_graphs:  # a step holds one batch of graphs
         batch = f"{suite.task_options.batch_size}-graph"
-        estimates = [replace(each, batching=batch, sampled_bytes=None) for each in estimates]
+        estimates = [replace(each, batching=batch) for each in estimates]
     check_data_memory(data_bytes(suite.data, size), limit, source)
     runs = len(estimates) * len(suite.seed_list)
     check_run_memory(estimates, max(min(jobs, runs), 1), limit, source)

@@ -23,7 +23,7 @@ from harness.execution.graph_preflight import (
 )
 from harness.execution.memory import GraphSize
 from harness.planning import design_points, expand
-from harness.planning.run_choices import COMPILE_MIN_EDGES, compile_pays_back
+from harness.planning.run_choices import COMPILE_MIN_EDGES, compile_pays_back, resolve_kernel
 from harness.schema.named import imported
 from harness.schema.suite import Suite
 from harness.schema.tasks import task_kind
@@ -136,9 +136,12 @@ def compile_warnings(suite: Suite, edges: int, source: str) -> tuple[str, ...]:
         return ()
     lines = {}
     for design in design_points(suite):
-        training = design.options.training.apply(suite.training)
+        training = resolve_kernel(
+            design.options.training.apply(suite.training), design.options, suite.data
+        )
         model = design.options.model
-        if training.compile is True and not compile_pays_back(model, edges, training.epochs):
+        pays = compile_pays_back(model, edges, training.epochs, training.kernel)
+        if training.compile is True and not pays:
             lines[design.contender] = (
                 f"{source}: contenders.{design.contender}: warning: compile = true on "
                 f"{edges:,} directed edges for {training.epochs} epochs will not pay back: "

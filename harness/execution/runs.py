@@ -6,7 +6,7 @@ from __future__ import annotations
 import errno
 from typing import Any
 
-from harness.errors import InputError
+from harness.errors import InputError, ServiceOutage
 from harness.planning import RunSpec
 from harness.results import RunResult
 from harness.storage import store
@@ -99,6 +99,8 @@ def failure_line(spec: RunSpec, error: BaseException) -> str:
     """One line naming a run that raised; bad input raises again, naming the run, since it
     stops the whole execution (exit status 2) where any other error stops only that run."""
     message = " ".join(str(error).split()) or "no message"
-    if isinstance(error, InputError):
+    if isinstance(error, ServiceOutage):
+        raise error  # the store's server, not this run: it stops every run as it is
+    if isinstance(error, InputError) and not out_of_space(error):  # a full disk: see no_space_line
         raise InputError(f"{describe(spec)}: {message}") from None
     return f"{describe(spec)} failed: {type(error).__name__}: {message}"

@@ -11,7 +11,7 @@ from multiprocessing.connection import wait
 
 import torch
 
-from harness.errors import InputError
+from harness.errors import STOPPING
 from harness.execution.executed import LostRun
 from harness.execution.pool import Worker, Workers
 from harness.execution.runs import (
@@ -71,7 +71,7 @@ class Sharing:
         with self.lock:
             try:
                 self.raised.append(failure_line(spec, error))
-            except InputError as stop:
+            except STOPPING as stop:
                 self.failures.append(stop)
             if out_of_space(error) and not self.no_space:
                 self.no_space = True

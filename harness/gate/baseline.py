@@ -22,6 +22,7 @@ from pydantic import ValidationError
 import harness
 from harness.digest import json_digest
 from harness.errors import InputError
+from harness.output_files import write_output
 from harness.planning import RunSpec
 from harness.schema.ablation import point_label
 from harness.schema.base import format_validation_error
@@ -180,11 +181,8 @@ def write_baseline(path: str | Path, document: dict[str, Any]) -> None:
     path = Path(path)
     if path.is_dir():
         raise InputError(f"{path}: is a directory; allowed: a .json file path")
-    path.parent.mkdir(parents=True, exist_ok=True)
     text = json.dumps(document, indent=2, sort_keys=True, allow_nan=False) + "\n"
-    partial = path.with_name(path.name + ".partial")
-    partial.write_text(text, encoding="utf-8")
-    partial.replace(path)
+    write_output(path, text)
 
 
 def read_baseline(path: str | Path) -> BaselineFile:

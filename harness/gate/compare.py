@@ -133,7 +133,7 @@ def metric_check(
     figures = (
         f"baseline {comparison.baseline_mean:.4f}, now {comparison.current_mean:.4f}; "
         f"difference {100 * comparison.difference:+.2f} points, {level}% t-interval "
-        f"[{100 * comparison.low:+.2f}, {100 * comparison.high:+.2f}] points "
+        f"{100 * comparison.low:+.2f} to {100 * comparison.high:+.2f} points "
         f"({comparison.test}, p = {comparison.p_value:.4g}, {comparison.seeds} seeds); "
         f"tolerance {options.tolerance_points:g} points"
     )

@@ -31,9 +31,11 @@ class EmbeddingStart(nn.Module):
         self.embedding = nn.Embedding(rows, width)
         self.inner = inner
 
-    def forward(self, x: torch.Tensor, *graph: torch.Tensor | None) -> torch.Tensor:
+    def forward(
+        self, x: torch.Tensor, *graph: torch.Tensor | None, **named: torch.Tensor | None
+    ) -> torch.Tensor:
         """The inner network's forward, on the embedded ids and the rest as given."""
-        return self.inner(self.embedding(x), *graph)
+        return self.inner(self.embedding(x), *graph, **named)
 
 
 def unwrap(model: nn.Module, x: torch.Tensor) -> tuple[Network, torch.Tensor]:
@@ -49,14 +51,18 @@ def build_model(
     out_dim: int,
     embedding_rows: int = 0,
     kernel: str = "scatter",
+    edge_width: int = 0,
 ) -> nn.Module:
     """The contender's network, freshly initialised from the current torch seed.
 
     With `embedding_rows` > 0 the input is node ids, embedded in `in_dim` columns first.
     `kernel` "sparse" (resolved by harness.planning, only for kinds registered with
     `sparse_kernel`) goes to the builder; the parameters and their initialisation are the same.
+    `edge_width`: width of the edge attributes, for options that read them.
     """
     build = builder_of(options.model)
-    extra = {"kernel": kernel} if kernel != "scatter" else {}
+    extra: dict = {"kernel": kernel} if kernel != "scatter" else {}
+    if options.edge_attribute_use() != "none":
+        extra["edge_width"] = edge_width
     network = build(options, in_dim, out_dim, **extra)
     return EmbeddingStart(embedding_rows, in_dim, network) if embedding_rows else network

@@ -46,10 +46,17 @@ def once_per_graph(
     cache: EdgeCache,
     edge_index: torch.Tensor,
     nodes: int,
-    build: Callable[[torch.Tensor, int], tuple],
+    build: Callable[..., tuple],
+    edge_attr: torch.Tensor | None = None,
 ) -> tuple:
-    """`build(edge_index, nodes)` (a model's message edges), computed once per edge tensor."""
-    return cache.get((edge_index,), (edge_index._version, nodes), lambda: build(edge_index, nodes))
+    """`build(edge_index, nodes)` (a model's message edges), computed once per edge tensor;
+    with `edge_attr`, `build(edge_index, nodes, edge_attr)`, once per pair of tensors."""
+    if edge_attr is None:
+        return cache.get(
+            (edge_index,), (edge_index._version, nodes), lambda: build(edge_index, nodes)
+        )
+    key = (edge_index._version, edge_attr._version, nodes)
+    return cache.get((edge_index, edge_attr), key, lambda: build(edge_index, nodes, edge_attr))
 
 
 def into_rows(cache: EdgeCache, graph: tuple, rows: torch.Tensor, nodes: int) -> tuple:

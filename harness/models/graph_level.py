@@ -61,18 +61,27 @@ class GraphClassifier(nn.Module):
         self.readout = READOUTS[readout](width)
         self.classifier = nn.Linear(width, classes)
 
-    def node_states(self, x: torch.Tensor, edge_index: torch.Tensor) -> torch.Tensor:
-        return self.encoder.activation(self.encoder(x, edge_index))
-
     def forward(
-        self, x: torch.Tensor, edge_index: torch.Tensor, batch: torch.Tensor, graphs: int
+        self,
+        x: torch.Tensor,
+        edge_index: torch.Tensor,
+        batch: torch.Tensor,
+        graphs: int,
+        edge_attr: torch.Tensor | None = None,
     ) -> torch.Tensor:
-        pooled = self.readout(self.node_states(x, edge_index), batch, graphs)
+        """Logits of the `graphs` graphs of a batch (`batch`: each node's graph); `edge_attr`
+        only for encoders that read edge attributes."""
+        named = {} if edge_attr is None else {"edge_attr": edge_attr}
+        states = self.encoder.activation(self.encoder(x, edge_index, **named))
+        pooled = self.readout(states, batch, graphs)
         return self.classifier(self.encoder.dropout(pooled))
 
 
-def build_graph_model(options: ContenderBase, in_dim: int, classes: int) -> GraphClassifier:
+def build_graph_model(
+    options: ContenderBase, in_dim: int, classes: int, edge_width: int = 0
+) -> GraphClassifier:
     """The contender's node layers (their last layer `hidden` wide) under a readout and a
-    linear classifier, freshly initialised from the current torch seed."""
-    encoder = build_model(options, in_dim, options.hidden)
+    linear classifier, freshly initialised from the current torch seed; `edge_width`: width of
+    the edge attributes, for encoders that read them."""
+    encoder = build_model(options, in_dim, options.hidden, edge_width=edge_width)
     return GraphClassifier(encoder, options.readout, options.hidden, classes)

@@ -19,10 +19,15 @@ Edges = tuple[Tensor, Tensor | None]  # message edges and their weights, if any
 
 @runtime_checkable
 class Network(Protocol):
-    """`layers` in order; `uses_edges` false when layers read node features alone."""
+    """`layers` in order; `uses_edges` false when layers read node features alone;
+    `edge_width` the width of the edge attributes its layers read (0: none)."""
 
     layers: nn.ModuleList
     uses_edges: bool
+    edge_width: int
+
+    def edges_of(self, edge_index: Tensor, nodes: int, edge_attr: Tensor | None) -> Edges:
+        """Message edges with their attributes when it reads them, else `message_edges`."""
 
     def message_edges(self, edge_index: Tensor, nodes: int) -> Edges:
         """The edges (and weights) every layer passes messages along, from the graph's edges."""
@@ -44,10 +49,13 @@ class AttentionNetwork(Network, Protocol):
 
     attend_to_self: bool
 
-    def attention_step(self, index: int, x: Tensor, edges: Tensor) -> tuple[Tensor, Tensor]:
-        """`layer_step` without edge weights, also giving the weights [edges, heads]."""
+    def attention_step(
+        self, index: int, x: Tensor, edges: Tensor, attributes: Tensor | None
+    ) -> tuple[Tensor, Tensor]:
+        """`layer_step` (with edge attributes, not weights), also giving the weights
+        [edges, heads]."""
 
     def run(
-        self, x: Tensor, edge_index: Tensor, keep_attention: bool
+        self, x: Tensor, edge_index: Tensor, keep_attention: bool, edge_attr: Tensor | None
     ) -> tuple[Tensor, Tensor, list[Tensor]]:
         """Logits, the message edges, and (if kept) each layer's weights [edges, heads]."""

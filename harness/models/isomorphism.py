@@ -19,7 +19,7 @@ def build(options: IsomorphismOptions, in_dim: int, out_dim: int) -> nn.Module:
     layers = [
         GINConv(
             nn.Sequential(nn.Linear(a, b), ACTIVATIONS[options.activation](), nn.Linear(b, b)),
-            train_eps=options.learn_epsilon,
+            train_eps=options.learn_self_weight,
         )
         for a, b in widths(in_dim, options.hidden, out_dim, options.layers)
     ]

@@ -157,6 +157,16 @@ def sampled_products(left: Tensor, right: Tensor, graph: TargetGraph) -> Tensor:
     return torch.stack(products)
 
 
+def softmax_weights(scores: Tensor, graph: TargetGraph) -> Tensor:
+    """Softmax of the scores [H, E] over each target's in-edges, shifted by the segment's
+    maximum (as PyG's softmax) so that no exponential overflows."""
+    scores = scores.contiguous()
+    offsets = graph.offsets.expand(scores.size(0), -1)
+    top = torch.segment_reduce(scores, "max", offsets=offsets, axis=1, unsafe=True)
+    weights = (scores - repeat_to_edges(top, graph)).exp_()
+    return weights.div_(repeat_to_edges(segment_sum(weights, graph), graph))
+
+
 class SegmentSoftmax(torch.autograd.Function):
     """alpha = softmax of the scores [H, E] over each target's in-edges.
     Backward: g_s = alpha * (g_alpha - sum_k alpha_ik g_alpha_ik)."""
@@ -167,11 +177,7 @@ class SegmentSoftmax(torch.autograd.Function):
         if graph.edges == 0:
             ctx.save_for_backward(scores)
             return scores.clone()
-        scores = scores.contiguous()
-        offsets = graph.offsets.expand(scores.size(0), -1)
-        top = torch.segment_reduce(scores, "max", offsets=offsets, axis=1, unsafe=True)
-        weights = (scores - repeat_to_edges(top, graph)).exp_()
-        weights.div_(repeat_to_edges(segment_sum(weights, graph), graph))
+        weights = softmax_weights(scores, graph)
         ctx.save_for_backward(weights)
         return weights
 
@@ -259,9 +265,13 @@ def pair_scores(query: Tensor, key: Tensor, graph: TargetGraph) -> Tensor:
     return PairScores.apply(query, key, graph)
 
 
-@torch.compiler.disable
 def at_targets(node_values: Tensor, graph: TargetGraph) -> Tensor:
-    """Each edge's target value: [N, H] -> [H, E], or [N, H, C] -> [E, H, C]."""
+    """Each edge's target value: [N, H] -> [H, E], or [N, H, C] -> [E, H, C]. Compiled, a
+    plain gather, which the compiler fuses with the element-wise steps around it."""
+    if torch.compiler.is_compiling():
+        if node_values.dim() == 2:
+            return node_values.t().index_select(1, graph.target_index)
+        return node_values.index_select(0, graph.target_index)
     return ToTargets.apply(node_values, graph)
 
 

@@ -25,6 +25,7 @@ from torch import Tensor, nn
 from torch.nn import functional
 from torch_geometric.nn import GATConv, GATv2Conv, TransformerConv
 
+from harness.models.sparse_dynamic import dynamic_scores
 from harness.models.sparse_kernel import (
     TargetGraph,
     aggregate,
@@ -34,6 +35,7 @@ from harness.models.sparse_kernel import (
     segment_softmax,
     segment_sum,
 )
+from harness.models.sparse_static import static_attention_kernel
 
 
 def by_head(layer: nn.Module, linear: nn.Module, x: Tensor) -> Tensor:
@@ -81,13 +83,17 @@ def static_attention(
     layer: GATConv, x: Tensor, graph: TargetGraph, edge_attr: Tensor | None = None
 ) -> Tensor:
     projected = by_head(layer, layer.lin, x)
+    from_source = (projected * layer.att_src).sum(-1)
+    at_target = (projected * layer.att_dst).sum(-1)
     edges = edge_features(layer, edge_attr, graph)
-    scores = pair_sum(
-        (projected * layer.att_src).sum(-1),
-        (projected * layer.att_dst).sum(-1),
-        graph,
-        None if edges is None else (edges * layer.att_edge).sum(-1).t(),
-    )
+    if edges is None:  # scores from node parts only: the kernel's own backward
+        keep = None
+        if layer.training and layer.dropout > 0:
+            keep = functional.dropout(x.new_ones(layer.heads, graph.edges), layer.dropout)
+        slope = layer.negative_slope
+        out = static_attention_kernel(from_source, at_target, projected, graph, slope, keep)
+        return finish(layer, out, x)
+    scores = pair_sum(from_source, at_target, graph, (edges * layer.att_edge).sum(-1).t())
     scores = functional.leaky_relu(scores, layer.negative_slope)
     return finish(layer, aggregate(weigh(layer, scores, graph), projected, graph), x)
 
@@ -97,8 +103,12 @@ def dynamic_attention(
 ) -> Tensor:
     source = by_head(layer, layer.lin_l, x)
     target = source if layer.share_weights else by_head(layer, layer.lin_r, x)
-    hidden = pair_sum(source, target, graph, edge_features(layer, edge_attr, graph))
-    scores = (functional.leaky_relu(hidden, layer.negative_slope) * layer.att).sum(-1).t()
+    edges = edge_features(layer, edge_attr, graph)
+    if torch.compiler.is_compiling():  # the compiler fuses the plain form into one loop
+        hidden = pair_sum(source, target, graph, edges)
+        scores = (functional.leaky_relu(hidden, layer.negative_slope) * layer.att).sum(-1).t()
+    else:
+        scores = dynamic_scores(source, target, layer.att, edges, graph, layer.negative_slope)
     return finish(layer, aggregate(weigh(layer, scores, graph), source, graph), x)
 
 

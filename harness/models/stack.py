@@ -26,6 +26,8 @@ class LayerStack(nn.Module):
     that inference can run each layer over chunks of target nodes (harness.training.inference).
     The message edges are derived once per graph (harness.models.graph_cache). With `rows`, the
     output is the logits of those rows only, the last layer computed for them alone.
+    A stack with `edge_width` > 0 reads edge attributes of that width: its message edges carry
+    them in the per-edge slot, and its layers take them as their third argument.
     """
 
     def __init__(self, layers: list[nn.Module], activation: str, dropout: float, uses_edges: bool):
@@ -36,6 +38,8 @@ class LayerStack(nn.Module):
         self.uses_edges = uses_edges
         self.edge_cache = EdgeCache()
         self.row_cache = EdgeCache()
+        self.edge_width = 0
+        self.whole_graph = False  # layers that read every node (inference never chunks them)
 
     def reset_parameters(self) -> None:
         for layer in self.layers:
@@ -46,6 +50,21 @@ class LayerStack(nn.Module):
     ) -> tuple[torch.Tensor, torch.Tensor | None]:
         """The edges (and edge weights, if any) every layer passes messages along."""
         return edge_index, None
+
+    def attributed_edges(
+        self, edge_index: torch.Tensor, nodes: int, edge_attr: torch.Tensor
+    ) -> tuple[torch.Tensor, torch.Tensor]:
+        """Message edges with their attributes, for stacks that read them."""
+        return edge_index, edge_attr
+
+    def edges_of(
+        self, edge_index: torch.Tensor, nodes: int, edge_attr: torch.Tensor | None = None
+    ) -> tuple[torch.Tensor, torch.Tensor | None]:
+        """Message edges and their per-edge tensor: attributes if the stack reads them, else
+        weights (if any)."""
+        if self.edge_width and edge_attr is not None:
+            return self.attributed_edges(edge_index, nodes, edge_attr)
+        return self.message_edges(edge_index, nodes)
 
     def batch_edges(
         self, edge_index: torch.Tensor, degree: torch.Tensor
@@ -82,14 +101,15 @@ class LayerStack(nn.Module):
         edge_index: torch.Tensor,
         edge_weight: torch.Tensor | None = None,
         rows: torch.Tensor | None = None,
+        edge_attr: torch.Tensor | None = None,
     ) -> torch.Tensor:
         """Message edges once per graph (`edge_weight`, when given, goes with `edge_index` as
         the finished message edges), every layer, and with `rows` the last layer on the edges
-        into those rows alone."""
+        into those rows alone. `edge_attr`: the graph's edge attributes, one row per edge."""
         nodes = x.size(0)
         graph: tuple = (edge_index, edge_weight)
         if edge_weight is None:
-            graph = once_per_graph(self.edge_cache, edge_index, nodes, self.message_edges)
+            graph = once_per_graph(self.edge_cache, edge_index, nodes, self.edges_of, edge_attr)
         last = len(self.layers) - 1
         for index in range(last):
             x = self.layer_step(index, x, *graph)

@@ -27,7 +27,13 @@ from harness.schema.ablation import (
     point_label,
 )
 from harness.schema.base import format_validation_error, key_dump
-from harness.schema.batching import check_batching, check_kernel, check_options_apply
+from harness.schema.batching import (
+    check_batching,
+    check_edge_attributes,
+    check_global_attention,
+    check_kernel,
+    check_options_apply,
+)
 from harness.schema.data import SyntheticData
 from harness.schema.splits import FractionSplit
 from harness.schema.suite import Suite
@@ -130,6 +136,8 @@ def parse_suite(raw: dict, source: str) -> Suite:
     check_batching(suite, source)  # fan-out lengths against each contender's layers
     check_options_apply(suite, source)  # no fanout or compile that no run would use
     check_kernel(suite, source)  # the sparse kernel only for kinds that have one
+    check_edge_attributes(suite, source)  # edge attributes only where tasks and data have them
+    check_global_attention(suite, source)  # no full attention over a large graph at once
     return suite
 
 
@@ -180,13 +188,14 @@ def run_spec(
         suite=suite_name or suite.name,
         contender=design.contender,
         options=design.options,
-        training=resolve_kernel(
-            resolve_compile(
+        # the kernel first: whether compiling pays depends on it
+        training=resolve_compile(
+            resolve_kernel(
                 design.options.training.apply(suite.training),
-                design.options.model,
+                design.options,
                 suite.data if data is None else data,
             ),
-            design.options,
+            design.options.model,
             suite.data if data is None else data,
         ),
         data=suite.data if data is None else data,

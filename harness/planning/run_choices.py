@@ -28,21 +28,25 @@ def resolve_compile(training: Training, model: str, data: DataSource) -> Trainin
     if training.compile != "auto":
         return training
     edges = data.declared_edges()
-    wanted = edges is not None and compile_pays_back(model, edges, training.epochs)
+    wanted = edges is not None and compile_pays_back(model, edges, training.epochs, training.kernel)
     return training.model_copy(update={"compile": wanted})
 
 
-def compile_pays_back(model: str, edges: int, epochs: int) -> bool:
+def compile_pays_back(model: str, edges: int, epochs: int, kernel: str = "scatter") -> bool:
     """Whether compiling a full-batch run of `model` on `edges` directed edges for `epochs`
-    epochs saves more than the compile costs (the kind's measured `compile_payback`)."""
+    epochs saves more than the compile costs (the kind's measured `compile_payback`, or its
+    `sparse_compile_payback` on the sparse kernel)."""
     kind = MODEL_KINDS.get(model)
     payback = None if kind is None else kind.compile_payback
+    if kind is not None and kernel == "sparse":
+        payback = kind.sparse_compile_payback
     return payback is not None and edges >= COMPILE_MIN_EDGES and edges * epochs >= payback
 
 
-# The sparse kernel pays from this many message edges per step on: below it, its fixed costs
-# (CSR building, one product per head) outweigh what it saves (benchmarks/kernel_threshold.py,
-# README Performance).
+# Message edges per step from which "auto" takes the sparse kernel. Measured (one layer forward
+# and backward, CSR sort included; benchmarks/kernel_threshold.py, docs/performance.md): it
+# pays from a few thousand edges for GAT and dot product, from about 100,000 for GATv2; this
+# keeps every shipped suite (at most 12,000 edges) on scatter, with its keys.
 SPARSE_MIN_EDGES = 50_000
 
 
@@ -68,7 +72,8 @@ def resolve_kernel(training: Training, options: BaseModel, data: DataSource) -> 
     """Training with `kernel = "auto"` decided: "sparse" for kinds with a sparse kernel when a
     training step has at least SPARSE_MIN_EDGES message edges, else "scatter"."""
     kind = MODEL_KINDS.get(options.model)
-    if kind is None or not kind.sparse_kernel:
+    # the sparse kernel computes no edge-attribute terms
+    if kind is None or not kind.sparse_kernel or options.edge_attribute_use() != "none":
         return training.model_copy(update={"kernel": "scatter"})
     if training.kernel != "auto":
         return training

@@ -1,1 +1,2 @@
-"""Renderers: they format analysis results and never compute statistics."""
+"""Reports: documents/ turns results into a Document; formats/ renders that same Document as
+terminal text, Markdown, LaTeX, HTML, CSV, JSON or JUnit XML. Renderers never compute."""

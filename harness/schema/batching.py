@@ -1,5 +1,6 @@
 """Cross-checks of the training section against each contender: fan-out entries match its
-layers, and `kernel = "sparse"` is asked only of kinds that have a sparse kernel."""
+layers, `kernel = "sparse"` is asked only of kinds that have a sparse kernel, and edge
+attributes only of tasks and data that have them."""
 
 from __future__ import annotations
 
@@ -99,11 +100,66 @@ def check_kernel(suite: Suite, source: str) -> None:
     for contender, options in suite.contenders.items():
         if options.training.apply(suite.training).kernel != "sparse":
             continue
-        if MODEL_KINDS[options.model].sparse_kernel:
-            continue
         own = options.training.kernel is not None
         key = f"contenders.{contender}.training" if own else "training"
+        if MODEL_KINDS[options.model].sparse_kernel and options.edge_attribute_use() != "none":
+            raise InputError(
+                f'{source}: {key}.kernel: given "sparse" for {contender}, which reads edge '
+                'attributes; allowed: "auto" or "scatter" (the sparse kernel has no edge terms)'
+            )
+        if MODEL_KINDS[options.model].sparse_kernel:
+            continue
         raise InputError(
             f'{source}: {key}.kernel: given "sparse" for {contender} (model {options.model}); '
             f'allowed: "sparse" only for {", ".join(sparse)}; "auto" or "scatter" for any model'
+        )
+
+
+def check_edge_attributes(suite: Suite, source: str) -> None:
+    """A configuration that reads edge attributes needs a task that passes them on, and (for
+    `edge_features = true`) data that declares them (sources that cannot tell are checked when
+    loaded, by the run)."""
+    task = task_kind(suite.task)
+    declared = suite.data.declares_edge_attributes()
+    for contender, point, options in configured_points(suite.contenders, suite.ablation):
+        use = options.edge_attribute_use()
+        if use == "none":
+            continue
+        label = point_label(contender, point)
+        if not task.edge_attributes:
+            raise InputError(
+                f"{source}: contenders.{contender}: {label} reads edge attributes, which "
+                f"{task.title} does not pass to models yet; allowed: edge_features = false "
+                "and a kind without edge attributes"
+            )
+        if use == "required" and declared is False:
+            raise InputError(
+                f"{source}: contenders.{contender}: {label} has edge_features = true, but "
+                f"data source {suite.data.source!r} gives no edge attributes; allowed: "
+                "edge_feature_columns or edge_feature_prefix (tables), edge_types >= 2 "
+                "(synthetic), or edge_features = false"
+            )
+
+
+# Full attention over all nodes takes time growing with nodes squared: one layer's training
+# step over 20,000 nodes (hidden 32, 4 heads) took 19 s on a 2-core machine (torch's fused
+# attention keeps memory linear); above this many nodes a full-batch run is refused
+FULL_ATTENTION_NODES = 30_000
+
+
+def check_global_attention(suite: Suite, source: str) -> None:
+    """Full attention over every node of a large graph in one batch is refused, naming the
+    linear-attention alternative; sampled batches bound it by the batch."""
+    size = suite.data.declared_size()
+    if size is None or size.nodes <= FULL_ATTENTION_NODES:
+        return
+    for contender, point, options in configured_points(suite.contenders, suite.ablation):
+        if not options.attended_pairs(size.nodes) or options.training.apply(suite.training).sampled:
+            continue
+        raise InputError(
+            f"{source}: contenders.{contender}: {point_label(contender, point)} attends over "
+            f"all {size.nodes} nodes in one batch ({options.attended_pairs(size.nodes):.1e} "
+            f"scored pairs per layer, time growing with nodes squared); allowed: "
+            f'attention_kind = "performer" (linear attention, Choromanski et al. 2021), '
+            f'batching = "sampled", or at most {FULL_ATTENTION_NODES} nodes'
         )

@@ -34,6 +34,7 @@ ATTENTION_ONLY = (
     "negative_slope",
     "attention_dropout",
     "residual",
+    "edge_features",
 )
 # widest hidden layer (heads x width per head) a suite may ask for
 MAX_LAYER_WIDTH = 1024
@@ -109,6 +110,15 @@ class ContenderBase(StrictModel):
         return data
 
     # what every kind's layers declare, so that no stage asks which kind it holds
+    def edge_attribute_use(self) -> str:
+        """Whether its layers read edge attributes: "none", "required" (the data must have
+        them), or "optional" (a constant column of ones stands in when the data has none)."""
+        return "none"
+
+    def attended_pairs(self, nodes: float) -> float:
+        """Node pairs (times heads) one layer scores with full attention over all nodes."""
+        return 0.0
+
     def layer_radius(self) -> int:
         """Hops one layer reaches: 1, but for kinds that attend over a wider hop set."""
         return 1
@@ -122,8 +132,9 @@ class ContenderBase(StrictModel):
 
 
 def _attention_kinds() -> tuple[str, ...]:
-    """The kinds AttentionOptions serves (its `model` literal)."""
-    return get_args(AttentionOptions.model_fields["model"].annotation)
+    """The kinds AttentionOptions and its subclasses serve (their `model` literals)."""
+    classes = (AttentionOptions, *AttentionOptions.__subclasses__())
+    return tuple(name for c in classes for name in get_args(c.model_fields["model"].annotation))
 
 
 class AttentionOptions(ContenderBase):
@@ -175,9 +186,23 @@ class AttentionOptions(ContenderBase):
         description="Dropout on the attention weights.",
     )
     residual: bool = Field(False, description="Add a linear skip connection to each layer.")
+    edge_features: bool = Field(
+        False,
+        description=(
+            "Score and weigh messages with the data's edge attributes too (PyG's edge_dim); "
+            "self-loops get the mean of a node's incoming attributes. Needs hop_radius 1."
+        ),
+    )
+
+    keyed_when_set: ClassVar[frozenset[str]] = frozenset({"edge_features"})
 
     @model_validator(mode="after")
     def _layer_shapes(self) -> AttentionOptions:
+        if self.edge_features and self.hop_radius > 1:
+            raise ValueError(
+                f"edge_features = true with hop_radius {self.hop_radius}: edges beyond one hop "
+                "have no attributes; allowed: edge_features with hop_radius 1"
+            )
         for name in ("heads", "head_merge"):
             value = getattr(self, name)
             if isinstance(value, list) and len(value) != self.layers:
@@ -198,6 +223,9 @@ class AttentionOptions(ContenderBase):
     def layer_radius(self) -> int:
         return self.hop_radius
 
+    def edge_attribute_use(self) -> str:
+        return "required" if self.edge_features else "none"
+
     def heads_per_layer(self) -> list[int]:
         return list(self.heads) if isinstance(self.heads, list) else [self.heads] * self.layers
 
@@ -206,6 +234,23 @@ class AttentionOptions(ContenderBase):
         if isinstance(self.head_merge, list):
             return list(self.head_merge)
         return [self.head_merge] * (self.layers - 1) + ["average"]
+
+
+class TransformerOptions(AttentionOptions):
+    """The graph transformer layer of Shi et al. (2021): scaled dot-product attention over
+    neighbours, edge attributes (with `edge_features`) in keys and values, and a gated skip
+    connection from each node's own features, which is always on."""
+
+    model: Literal["transformer"] = Field(
+        description=(
+            "transformer: the graph transformer layer (Shi et al. 2021, PyG's TransformerConv "
+            "with its gated skip connection)."
+        ),
+    )
+    residual: Literal[True] = Field(
+        True,
+        description="The gated skip connection: always on for transformer layers.",
+    )
 
 
 class ConvolutionOptions(ContenderBase):
@@ -236,6 +281,63 @@ class MLPOptions(ContenderBase):
     )
 
 
+class EdgeConvolutionOptions(ContenderBase):
+    """Graph isomorphism convolution over edge attributes (Hu et al., 2020)."""
+
+    model: Literal["gine"] = Field(
+        description=(
+            "gine: sums ReLU(h_j + W e_ji) over neighbours, then an MLP (Hu et al., 2020, "
+            "PyG's GINEConv); without edge attributes in the data, e_ji is a constant 1."
+        ),
+    )
+    learn_self_weight: bool = Field(
+        False,
+        description="Learn the weight 1 + epsilon of a node's own features (GIN-epsilon).",
+    )
+
+    def edge_attribute_use(self) -> str:
+        return "optional"
+
+
+class GlobalAttentionOptions(ContenderBase):
+    """A local message-passing layer plus attention over all nodes of the graph (Rampasek et
+    al., 2022): `hidden` is the width of every layer, split over `heads`."""
+
+    model: Literal["global_attention"] = Field(
+        description=(
+            "global_attention: GINE message passing plus multi-head attention over all nodes, "
+            "summed (Rampasek et al. 2022, PyG's GPSConv); pair it with feature_start "
+            "laplacian or random_walk for positional starts."
+        ),
+    )
+    heads: HeadCount = Field(4, description="Heads of the attention over all nodes.")
+    attention_kind: Literal["multihead", "performer"] = Field(
+        "multihead",
+        description=(
+            "multihead: full softmax attention, memory growing with nodes squared; performer:"
+            " linear attention through random features (Choromanski et al., 2021)."
+        ),
+    )
+    attention_dropout: float = Field(
+        0.0, ge=0, lt=1, description="Dropout on each layer's local and global outputs."
+    )
+
+    @model_validator(mode="after")
+    def _width_splits_over_heads(self) -> GlobalAttentionOptions:
+        if self.hidden % self.heads:
+            raise ValueError(
+                f"hidden = {self.hidden} does not split over heads = {self.heads}; allowed: "
+                "a hidden width divisible by heads"
+            )
+        return self
+
+    def edge_attribute_use(self) -> str:
+        return "optional"
+
+    def attended_pairs(self, nodes: float) -> float:
+        return self.heads * nodes * nodes if self.attention_kind == "multihead" else 0.0
+
+
 class IsomorphismOptions(ContenderBase):
     """Graph isomorphism network (Xu et al., 2019): h' = MLP((1 + eps) h + sum of neighbours)."""
 
@@ -245,7 +347,7 @@ class IsomorphismOptions(ContenderBase):
             "through a two-layer MLP."
         ),
     )
-    learn_epsilon: bool = Field(
+    learn_self_weight: bool = Field(
         False,
-        description="Learn eps, the weight of a node's own state (GIN-eps); false fixes it at 0.",
+        description="Learn the weight 1 + epsilon of a node's own state (GIN-epsilon); false: 1.",
     )

@@ -122,11 +122,16 @@ class DataSource(StrictModel):
         """The whole size of the graph, when the section alone tells it."""
         return None
 
+    def declares_edge_attributes(self) -> bool | None:
+        """Whether the graph will carry edge attributes; None when unknown before loading."""
+        return None
+
 
 class SyntheticData(DataSource):
     """Contextual stochastic block model: planted classes, homophilous edges, Gaussian features."""
 
     generated: ClassVar[bool] = True
+    keyed_when_set: ClassVar[frozenset[str]] = frozenset({"edge_types"})
 
     source: Literal["synthetic"] = Field(
         description="synthetic: a contextual stochastic block model generated from a seed.",
@@ -171,6 +176,16 @@ class SyntheticData(DataSource):
         ge=0,
         description="Seed of the generated graph (the same for every run seed).",
     )
+    edge_types: int = Field(
+        1,
+        ge=1,
+        le=16,
+        description=(
+            "Typed edges: with 2 or more, every edge gets one of this many types (a one-hot "
+            "edge attribute, column edge_type); only type 0 edges follow edge_homophily, the "
+            "others join uniformly random nodes. 1: untyped edges, no edge attributes."
+        ),
+    )
 
     @model_validator(mode="after")
     def _balance_matches_classes(self) -> SyntheticData:
@@ -198,6 +213,9 @@ class SyntheticData(DataSource):
     def declared_edges(self) -> int:
         return round(self.nodes * self.average_degree)
 
+    def declares_edge_attributes(self) -> bool | None:
+        return self.edge_types > 1
+
     def declared_size(self) -> GraphSize:
         return GraphSize(self.nodes, self.declared_edges(), self.feature_dimension, self.classes)
 
@@ -209,6 +227,10 @@ class TableData(DataSource):
     column (empty cells are unlabelled nodes) and an optional split column (train, validation,
     test, or empty). Edges: source and target ids and an optional weight column.
     """
+
+    keyed_when_set: ClassVar[frozenset[str]] = frozenset(
+        {"edge_feature_columns", "edge_feature_prefix", "standardise_edge_features"}
+    )
 
     source: Literal["tables"] = Field(
         description="tables: a nodes file and an edges file, CSV or Parquet.",
@@ -258,6 +280,24 @@ class TableData(DataSource):
             " not use weights."
         ),
     )
+    edge_feature_columns: list[str] | None = Field(
+        None,
+        description=(
+            "Edges columns holding edge attributes: text columns are one-hot encoded (one "
+            "column per value), numeric ones kept as numbers; default: no edge attributes."
+        ),
+    )
+    edge_feature_prefix: str | None = Field(
+        None,
+        description=(
+            "Take as edge attributes every edges column whose name starts with this "
+            "(instead of edge_feature_columns)."
+        ),
+    )
+    standardise_edge_features: bool = Field(
+        False,
+        description="Rescale each numeric edge attribute to mean 0 and standard deviation 1.",
+    )
     directed: bool = Field(
         False,
         description=("false: every edge also runs the other way; true: edges are taken as given."),
@@ -283,7 +323,7 @@ class TableData(DataSource):
             raise ValueError(f"file not found at {path}; allowed: an existing CSV or Parquet file")
         return path
 
-    @field_validator("feature_columns")
+    @field_validator("feature_columns", "edge_feature_columns")
     @classmethod
     def _some_columns(cls, value: list[str] | None) -> list[str] | None:
         if value is not None and (not value or len(set(value)) != len(value)):
@@ -294,6 +334,8 @@ class TableData(DataSource):
     def _one_way_to_name_features(self) -> TableData:
         if self.feature_columns is not None and self.feature_prefix is not None:
             raise ValueError("give feature_columns or feature_prefix, not both")
+        if self.edge_feature_columns is not None and self.edge_feature_prefix is not None:
+            raise ValueError("give edge_feature_columns or edge_feature_prefix, not both")
         return self
 
     @computed_field  # part of the run key: changed files mean new runs
@@ -305,6 +347,9 @@ class TableData(DataSource):
         """Edge rows, twice when undirected (each row is both directions)."""
         return table_rows(self.edges) * (1 if self.directed else 2)
 
+    def declares_edge_attributes(self) -> bool | None:
+        return self.edge_feature_columns is not None or self.edge_feature_prefix is not None
+
 
 class KarateData(DataSource):
     """Zachary's karate club (Zachary, 1977), networkx's copy: 34 members, two factions."""
@@ -314,6 +359,9 @@ class KarateData(DataSource):
             "karate: Zachary's karate club (networkx's copy), 34 members in two factions."
         ),
     )
+
+    def declares_edge_attributes(self) -> bool | None:
+        return False
 
     def declared_edges(self) -> int:
         return 0  # small enough to count as none
@@ -326,6 +374,9 @@ class DigitsData(DataSource):
         description=("digits: scikit-learn's handwritten digits as a k-nearest-neighbour graph."),
     )
     neighbours: int = Field(10, ge=1, le=100, description="k of the k-nearest-neighbour graph.")
+
+    def declares_edge_attributes(self) -> bool | None:
+        return False
 
     def declared_edges(self) -> int:
         return 0  # small enough to count as none

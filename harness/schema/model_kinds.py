@@ -16,9 +16,12 @@ from harness.schema.contenders import (
     AttentionOptions,
     ContenderBase,
     ConvolutionOptions,
+    EdgeConvolutionOptions,
+    GlobalAttentionOptions,
     IsomorphismOptions,
     MLPOptions,
     NeighbourMeanOptions,
+    TransformerOptions,
 )
 
 
@@ -46,9 +49,11 @@ class ModelKind:
     directed edges x maximum epochs from which `compile = "auto"` compiles it (the one-off
     compile time is paid back; benchmarks/large_graphs.py, docs/performance.md); None: never.
     `layer`: for kinds sharing the attention builder, "module:function" of one layer,
-    layer(options, in_width, out_width_per_head, heads, concatenate) -> torch module.
+    layer(options, in_width, out_width_per_head, heads, concatenate, edge_width) -> torch
+    module (edge_width 0: no edge attributes).
     `sparse_kernel`: its layers can run on harness.models.sparse_layers (`kernel` in
-    [training])."""
+    [training]); `sparse_compile_payback`: `compile_payback` for runs on that kernel.
+    `global_reach`: its layers read every node of the graph, not hops."""
 
     options: type[ContenderBase]  # pydantic class with `model: Literal[<kind name>, ...]`
     builder: str  # "module:function", build(options, in_dim, out_dim) -> torch module
@@ -60,6 +65,8 @@ class ModelKind:
     compile_payback: float | None = None
     layer: str | None = None
     sparse_kernel: bool = False
+    sparse_compile_payback: float | None = None
+    global_reach: bool = False
 
 
 ATTENTION = "harness.models.attention:build"
@@ -81,7 +88,14 @@ MODEL_KINDS: dict[str, ModelKind] = {
         AttentionOptions, ATTENTION, STATIC_SCORES, **ATTENDING, layer=f"{LAYERS}:static_layer"
     ),
     "gatv2": ModelKind(
-        AttentionOptions, ATTENTION, VECTOR_SCORES, **ATTENDING, layer=f"{LAYERS}:dynamic_layer"
+        AttentionOptions,
+        ATTENTION,
+        VECTOR_SCORES,
+        **ATTENDING,
+        layer=f"{LAYERS}:dynamic_layer",
+        # the compiler fuses its edge-wise score vectors: 26 s saved per epoch on 2.1M edges
+        # after a 583 s compile, 22 epochs (docs/performance.md)
+        sparse_compile_payback=46e6,
     ),
     "dot_product": ModelKind(
         AttentionOptions,
@@ -89,6 +103,16 @@ MODEL_KINDS: dict[str, ModelKind] = {
         VECTOR_SCORES,
         **ATTENDING,
         layer=f"{LAYERS}:dot_product_layer",
+    ),
+    # dot-product scores plus the skip W_r h_i and its gate per node; the sparse kernel has no
+    # gate, and compiling it was not measured, so it never compiles automatically
+    "transformer": ModelKind(
+        TransformerOptions,
+        ATTENTION,
+        SavedFloats(node_inputs=2, node_outputs=7, edge_outputs=2, edge_scalars=6),
+        self_loops=True,
+        attends=True,
+        layer=f"{LAYERS}:transformer_layer",
     ),
     # D^{-1/2} (A + I) D^{-1/2}: a neighbour's degree counts its own neighbours, one hop on;
     # one normalised weight per edge
@@ -111,6 +135,22 @@ MODEL_KINDS: dict[str, ModelKind] = {
         IsomorphismOptions,
         "harness.models.isomorphism:build",
         SavedFloats(node_inputs=2, node_outputs=2),
+    ),
+    # ReLU(h_j + W_e e_ji) per edge and the two-layer MLP per node (tests/test_memory.py)
+    "gine": ModelKind(
+        EdgeConvolutionOptions,
+        "harness.models.edge_convolution:build",
+        SavedFloats(node_inputs=2, node_outputs=5, edge_outputs=1),
+        compile_payback=None,
+    ),
+    # the GINE part per edge and node and the attention's per node: torch's fused attention
+    # keeps no score per node pair (measured); its time grows with nodes squared
+    # (harness.schema.batching refuses large graphs). Compiling was not measured: never auto
+    "global_attention": ModelKind(
+        GlobalAttentionOptions,
+        "harness.models.global_attention:build",
+        SavedFloats(node_inputs=2, node_outputs=32, edge_outputs=1),
+        global_reach=True,
     ),
     "mlp": ModelKind(
         MLPOptions,

@@ -15,7 +15,7 @@ from typing import Any
 
 import pandas as pd
 
-from harness.storage.database import has_table, opened, prepare, read_rows
+from harness.storage.database import has_table, opened, patient, prepare, read_rows
 from harness.storage.store import Store
 from harness.storage.tables import GATE_HISTORY
 
@@ -45,6 +45,7 @@ class GateRecord:
     environment_differs: bool  # from the baseline's environment
 
 
+@patient
 def append(store: Store, records: Sequence[GateRecord]) -> str:
     """Store one gate run (all its contenders in one transaction); returns its id."""
     gate_id = uuid.uuid4().hex[:16]
@@ -61,6 +62,7 @@ def append(store: Store, records: Sequence[GateRecord]) -> str:
     return gate_id
 
 
+@patient
 def load_history(store: Store, suite: str | None = None) -> pd.DataFrame:
     """Gate history as a DataFrame, oldest first (`verdicts`, `environment` decoded); empty
     when the store holds no gate runs."""

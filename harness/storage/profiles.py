@@ -13,7 +13,7 @@ from harness.data.assemble import cleaning_notes, require_labels
 from harness.data.profile import DatasetProfile, profile_collection, profile_graph
 from harness.digest import text_digest
 from harness.schema.tasks import task_kind
-from harness.storage.database import insert, opened, prepare, read_rows
+from harness.storage.database import insert, opened, patient, prepare, read_rows
 from harness.storage.store import Store
 from harness.storage.tables import PROFILES
 
@@ -23,6 +23,7 @@ def data_key(section: BaseModel) -> str:
     return text_digest(section.model_dump_json())
 
 
+@patient
 def save_profile(store: Store, suite: str, section: BaseModel, profile: DatasetProfile) -> None:
     """Store (or refresh) the profile of a suite's data next to its runs."""
     row = {
@@ -37,6 +38,7 @@ def save_profile(store: Store, suite: str, section: BaseModel, profile: DatasetP
         insert(connection, PROFILES, row, replace=True)
 
 
+@patient
 def load_profiles(store: Store, suite: str) -> list[DatasetProfile]:
     """Stored profiles of a suite, oldest first."""
     with opened(store, write=False) as connection:

@@ -18,7 +18,15 @@ from typing import Any
 import pandas as pd
 
 import harness
-from harness.storage.database import Location, insert, locate, opened, prepare, read_rows
+from harness.storage.database import (
+    Location,
+    insert,
+    locate,
+    opened,
+    patient,
+    prepare,
+    read_rows,
+)
 from harness.storage.tables import PREDICTIONS, RUNS, TEST_COLUMNS
 from harness.storage.tables import TEST_METRICS as TEST_METRICS  # execution fills one per metric
 
@@ -31,6 +39,7 @@ NULLABLE_NUMBERS = ("val_metric", "test_metric", *TEST_COLUMNS)
 Store = str | Path | Location
 
 
+@patient
 def finished_keys(store: Store, suite: str) -> set[tuple[str, str]]:
     """(contender, key) pairs already stored for a suite (none when the store is not made yet)."""
     location = locate(store)
@@ -53,6 +62,7 @@ def significant(value: Any) -> Any:
     return value
 
 
+@patient
 def save_run(store: Store, record: dict[str, Any]) -> bool:
     """Insert one finished run (and its predictions, given as text) in one transaction;
     False when it was stored already."""
@@ -78,6 +88,7 @@ def save_run(store: Store, record: dict[str, Any]) -> bool:
         return stored
 
 
+@patient
 def load_runs(store: Store, suites: Iterable[str] | None = None) -> pd.DataFrame:
     """Stored runs as a DataFrame (JSON columns decoded), oldest first."""
     where = None if suites is None else {"suite": list(suites)}
@@ -91,6 +102,7 @@ def load_runs(store: Store, suites: Iterable[str] | None = None) -> pd.DataFrame
     return frame
 
 
+@patient
 def load_encoded_predictions(store: Store, keys: Iterable[str]) -> dict[str, bytes]:
     """Stored prediction blobs of these run keys (keys without any are left out)."""
     wanted = sorted(set(keys))

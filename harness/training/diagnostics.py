@@ -21,9 +21,11 @@ Stored format, `RunResult.extras["attention"]` (and the store's `extras` column)
                 "neighbour_homophily": ...}, ...],          # one record per layer and head
      "mean": {"entropy_ratio": ..., "self_share": ..., "uniform_self_share": ...,
               "same_label_share": ..., "neighbour_homophily": ...}}   # over all records
-Layers and heads count from 1. Labels of all labelled nodes are used: the diagnostics
-describe the trained model and never feed back into training or model selection. They run for
-the kinds registered as attending, whose networks are harness.models.interface.AttentionNetwork.
+With typed edges, "edge_types" holds the share of attention per edge type against its share of
+edges (harness.training.edge_type_shares). Layers and heads count from 1. Labels of all
+labelled nodes are used: the diagnostics describe the trained model and never feed back into
+training or model selection. They run for the kinds registered as attending, whose networks
+are harness.models.interface.AttentionNetwork.
 """
 
 from __future__ import annotations
@@ -33,10 +35,13 @@ from typing import Any, cast
 import numpy as np
 import torch
 from torch import nn
+from torch_geometric.data import Data
 from torch_geometric.utils import scatter
 
+from harness.data.edge_attributes import edge_types
 from harness.models import unwrap
 from harness.models.interface import AttentionNetwork
+from harness.training.edge_type_shares import TypeShares, node_type_shares
 from harness.training.inference import CHUNK_NODES, ChunkedGraph
 
 MEASURES = (
@@ -112,19 +117,40 @@ def attention_network(model: nn.Module, x: torch.Tensor) -> tuple[AttentionNetwo
 
 
 def attention_diagnostics(
-    model: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, labels: torch.Tensor
+    model: nn.Module,
+    x: torch.Tensor,
+    edge_index: torch.Tensor,
+    labels: torch.Tensor,
+    edge_attr: torch.Tensor | None = None,
+    typed: Data | None = None,
 ) -> dict[str, Any]:
-    """Diagnostics of a trained attention model (evaluation mode), in the stored format."""
+    """Diagnostics of a trained attention model (evaluation mode), in the stored format;
+    `edge_attr` for a model that reads edge attributes, `typed` the loaded graph whose edge
+    types (if any) the attention is grouped by."""
     network, x = attention_network(model, x)
     with torch.no_grad():
-        _, edges, weights = network.run(x, edge_index, keep_attention=True)
+        _, edges, weights = network.run(x, edge_index, keep_attention=True, edge_attr=edge_attr)
     nodes = x.size(0)
     records = []
+    types = None if typed is None else edge_types(typed, edges)
+    shares = []
     for layer, alpha in enumerate(weights, start=1):
         for head in range(alpha.size(1)):
             measures = head_measures(edges, alpha[:, head], labels, nodes)
             records.append({"layer": layer, "head": head + 1, **measures})
-    return summarise(records, int(edges.size(1)), bool(network.attend_to_self))
+            if types is not None:
+                kinds = len(typed.edge_type_names)
+                summed = TypeShares(kinds)
+                summed.add(*node_type_shares(edges, alpha[:, head], types, kinds, nodes))
+                shares.append(summed.record(layer, head + 1))
+    summary = summarise(records, int(edges.size(1)), bool(network.attend_to_self))
+    return with_type_shares(summary, typed, shares)
+
+
+def with_type_shares(summary: dict, typed: Data | None, shares: list[dict]) -> dict[str, Any]:
+    if shares:
+        summary["edge_types"] = {"names": list(typed.edge_type_names), "heads": shares}
+    return summary
 
 
 @torch.no_grad()
@@ -133,19 +159,25 @@ def chunked_attention_diagnostics(
     x: torch.Tensor,
     edge_index: torch.Tensor,
     labels: torch.Tensor,
+    edge_attr: torch.Tensor | None = None,
+    typed: Data | None = None,
     chunk_nodes: int = CHUNK_NODES,
 ) -> dict[str, Any]:
     """The same diagnostics in bounded memory: each layer runs over chunks of target nodes
     (harness.training.inference), and the per-node values are summed chunk by chunk."""
     network, h = attention_network(model, x)
     nodes = h.size(0)
-    edges, _ = network.message_edges(edge_index, nodes)
-    graph = ChunkedGraph(edges, None, nodes, chunk_nodes)
-    records = []
+    edges, attributes = network.edges_of(edge_index, nodes, edge_attr)
+    graph = ChunkedGraph(edges, attributes, nodes, chunk_nodes)
+    types = None if typed is None else edge_types(typed, graph.edges)
+    kinds = 0 if types is None else len(typed.edge_type_names)
+    records, shares = [], []
     for layer in range(len(network.layers)):
-        parts, sums, counts = [], {}, {}
+        parts, sums, counts, by_type = [], {}, {}, {}
         for chunk in graph.chunks():
-            out, alpha = network.attention_step(layer, h[chunk.local], chunk.edge_index)
+            out, alpha = network.attention_step(
+                layer, h[chunk.local], chunk.edge_index, graph.chunk_weights(chunk)
+            )
             parts.append(out[chunk.target_rows])
             for head in range(alpha.size(1)):
                 measured = node_measures(
@@ -156,6 +188,13 @@ def chunked_attention_diagnostics(
                     picked = values[chunk.target_rows][kept]
                     sums[head, name] = sums.get((head, name), 0.0) + float(picked.sum())
                     counts[head, name] = counts.get((head, name), 0) + int(kept.sum())
+                if types is not None:
+                    local = types[chunk.edge_slice]
+                    per_node = node_type_shares(
+                        chunk.edge_index, alpha[:, head], local, kinds, len(chunk.local)
+                    )
+                    rows = chunk.target_rows
+                    by_type.setdefault(head, TypeShares(kinds)).add(*(v[rows] for v in per_node))
         h = torch.cat(parts)
         for head in sorted({head for head, _ in sums}):
             averages = {
@@ -163,4 +202,6 @@ def chunked_attention_diagnostics(
                 for name in MEASURES
             }
             records.append({"layer": layer + 1, "head": head + 1, **averages})
-    return summarise(records, int(edges.size(1)), bool(network.attend_to_self))
+        shares += [by_type[head].record(layer + 1, head + 1) for head in sorted(by_type)]
+    summary = summarise(records, int(edges.size(1)), bool(network.attend_to_self))
+    return with_type_shares(summary, typed, shares)

@@ -21,6 +21,7 @@ from harness.models import unwrap
 from harness.planning.run_choices import sampler_in_use
 from harness.schema.training import Training
 from harness.training.diagnostics import attention_diagnostics, chunked_attention_diagnostics
+from harness.training.edge_inputs import named_attributes, read_attributes
 from harness.training.inference import chunked_logits
 from harness.training.resources import tensor_bytes
 from harness.training.sampling import batch_loader, fanout_counts
@@ -29,14 +30,34 @@ Rows = torch.Tensor | None  # output rows to keep; None keeps every node
 
 
 @dataclass(frozen=True)
+class Graph:
+    """A whole graph as the model reads it: features, edges, and the edge attributes when the
+    model reads them (None otherwise)."""
+
+    x: torch.Tensor
+    edge_index: torch.Tensor
+    edge_attr: torch.Tensor | None = None
+
+    @classmethod
+    def read_by(cls, model: nn.Module, data: Data) -> Graph:
+        return cls(data.x, data.edge_index, read_attributes(model, data))
+
+
+@dataclass(frozen=True)
 class Step:
-    """One optimiser step's input: the model is called on `inputs` (features and edges first),
-    and a node loss is taken at output `rows` against `labels` (None: the objective brings its
-    own targets, as link prediction's node pairs)."""
+    """One optimiser step's input: the model is called on `inputs` (features and edges first)
+    and `edge_attr` (for models that read edge attributes), and a node loss is taken at output
+    `rows` against `labels` (None: the objective brings its own targets, as link prediction's
+    node pairs)."""
 
     inputs: tuple[torch.Tensor, ...]
     rows: torch.Tensor | None = None
     labels: torch.Tensor | None = None
+    edge_attr: torch.Tensor | None = None
+
+    def run(self, network: nn.Module, *more: torch.Tensor) -> torch.Tensor:
+        """The network's output on this step's inputs (then `more`)."""
+        return network(*self.inputs, *more, **named_attributes(self.edge_attr))
 
     @property
     def x(self) -> torch.Tensor:
@@ -47,8 +68,9 @@ class Step:
         return self.inputs[1]
 
     def tensors(self) -> tuple[torch.Tensor, ...]:
-        """The step's inputs and labels (what its memory figure counts)."""
-        return self.inputs if self.labels is None else (*self.inputs, self.labels)
+        """The step's inputs, labels and edge attributes (what its memory figure counts)."""
+        extra = tuple(t for t in (self.labels, self.edge_attr) if t is not None)
+        return (*self.inputs, *extra)
 
 
 class Feed(Protocol):
@@ -64,16 +86,15 @@ class Feed(Protocol):
         """Bytes of the input tensors a training step holds, given the run's first step."""
         ...
 
-    def outputs(
-        self, network: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, rows: Rows = None
-    ) -> torch.Tensor:
+    def outputs(self, network: nn.Module, graph: Graph, rows: Rows = None) -> torch.Tensor:
         """The model's outputs on a whole graph (all nodes, or these rows), without gradients."""
         ...
 
     def attention(
-        self, model: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, labels: torch.Tensor
+        self, model: nn.Module, graph: Graph, labels: torch.Tensor, typed: Data | None = None
     ) -> dict[str, Any]:
-        """Attention diagnostics of the trained model on a whole graph."""
+        """Attention diagnostics of the trained model on a whole graph (`typed`: the loaded
+        graph whose edge types the diagnostics read, harness.training.diagnostics)."""
         ...
 
     def extras(self) -> dict[str, Any]:
@@ -100,17 +121,19 @@ class WholeGraphFeed:
     def input_bytes(self, first: Step) -> int:
         return tensor_bytes(*self.counted)
 
-    def outputs(
-        self, network: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, rows: Rows = None
-    ) -> torch.Tensor:
+    def outputs(self, network: nn.Module, graph: Graph, rows: Rows = None) -> torch.Tensor:
+        named = named_attributes(graph.edge_attr)
         with torch.no_grad():
-            # for rows, only the last layer runs at them (the same logits as a full pass)
-            return network(x, edge_index) if rows is None else network(x, edge_index, None, rows)
+            if rows is None:
+                return network(graph.x, graph.edge_index, **named)
+            # only the last layer runs at the rows (the same logits as a full pass)
+            return network(graph.x, graph.edge_index, None, rows, **named)
 
     def attention(
-        self, model: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, labels: torch.Tensor
+        self, model: nn.Module, graph: Graph, labels: torch.Tensor, typed: Data | None = None
     ) -> dict[str, Any]:
-        return attention_diagnostics(model, x, edge_index, labels)
+        x, edge_index, attributes = graph.x, graph.edge_index, graph.edge_attr
+        return attention_diagnostics(model, x, edge_index, labels, attributes, typed)
 
     def extras(self) -> dict[str, Any]:
         return {}
@@ -133,6 +156,7 @@ class SampledFeed:
         self.stack, _ = unwrap(model, graph.x[:0])
         layers = len(self.stack.layers)
         hops = fanout_counts(training.fanout, layers) if self.stack.uses_edges else []
+        self.reads_attributes = read_attributes(model, graph) is not None
         self.loader = batch_loader(graph, rows, hops, training.batch_size, seed)
         self.degree = torch.bincount(graph.edge_index[1], minlength=graph.num_nodes)
         self.nodes: list[int] = []
@@ -145,21 +169,21 @@ class SampledFeed:
             self.edges.append(batch.edge_index.size(1))
             inputs = (batch.x, edges) if weights is None else (batch.x, edges, weights)
             targets = torch.arange(batch.batch_size)
-            yield Step(inputs, targets, batch.y[: batch.batch_size])
+            attributes = batch.edge_attr if self.reads_attributes else None
+            yield Step(inputs, targets, batch.y[: batch.batch_size], attributes)
 
     def input_bytes(self, first: Step) -> int:
         return tensor_bytes(*first.tensors())
 
-    def outputs(
-        self, network: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, rows: Rows = None
-    ) -> torch.Tensor:
-        logits = chunked_logits(network, x, edge_index)
+    def outputs(self, network: nn.Module, graph: Graph, rows: Rows = None) -> torch.Tensor:
+        logits = chunked_logits(network, graph.x, graph.edge_index, edge_attr=graph.edge_attr)
         return logits if rows is None else logits[rows]
 
     def attention(
-        self, model: nn.Module, x: torch.Tensor, edge_index: torch.Tensor, labels: torch.Tensor
+        self, model: nn.Module, graph: Graph, labels: torch.Tensor, typed: Data | None = None
     ) -> dict[str, Any]:
-        return chunked_attention_diagnostics(model, x, edge_index, labels)
+        x, edge_index, attributes = graph.x, graph.edge_index, graph.edge_attr
+        return chunked_attention_diagnostics(model, x, edge_index, labels, attributes, typed)
 
     def extras(self) -> dict[str, Any]:
         """The sampler used and the mean batch size in nodes and edges over all steps."""
@@ -186,4 +210,5 @@ def node_feed(
     """The feed a node-level run's training settings ask for, over `graph` at `rows`."""
     if training.sampled:
         return SampledFeed(model, graph, rows, training, seed)
-    return WholeGraphFeed(Step((graph.x, graph.edge_index), rows, labels), counted)
+    attributes = read_attributes(model, graph)
+    return WholeGraphFeed(Step((graph.x, graph.edge_index), rows, labels, attributes), counted)

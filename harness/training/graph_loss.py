@@ -23,13 +23,14 @@ from harness.planning import RunSpec
 from harness.results import NodePredictions
 from harness.schema.tasks import GraphOptions, task_kind
 from harness.training.compiled import Forward
+from harness.training.edge_inputs import check_edge_inputs, edge_width
 from harness.training.feeding import Step
 from harness.training.objectives import Loss, Prepared, Scores
 from harness.training.resources import tensor_bytes
 
 
 def graph_loss(network: nn.Module, step: Step) -> torch.Tensor:
-    return nn.functional.cross_entropy(network(*step.inputs, len(step.labels)), step.labels)
+    return nn.functional.cross_entropy(step.run(network, len(step.labels)), step.labels)
 
 
 class GraphBatchFeed:
@@ -39,18 +40,28 @@ class GraphBatchFeed:
 
     compiles = False
 
-    def __init__(self, collection: GraphCollection, rows: torch.Tensor, batch_size: int, seed: int):
+    def __init__(
+        self,
+        collection: GraphCollection,
+        rows: torch.Tensor,
+        batch_size: int,
+        seed: int,
+        reads_attributes: bool,
+    ):
+        self.reads_attributes = reads_attributes
         self.loader = DataLoader(
             collection.dataset().index_select(rows),
             batch_size=batch_size,
             shuffle=True,
             generator=torch.Generator().manual_seed(seed),
         )
-        self.largest = 0
 
     def steps(self) -> Iterator[Step]:
         for batch in self.loader:
-            yield Step((batch.x, batch.edge_index, batch.batch), labels=batch.y)
+            attributes = batch.edge_attr if self.reads_attributes else None
+            yield Step(
+                (batch.x, batch.edge_index, batch.batch), labels=batch.y, edge_attr=attributes
+            )
 
     def input_bytes(self, first: Step) -> int:
         return tensor_bytes(*first.tensors())
@@ -66,9 +77,19 @@ def batch_logits(
     if len(rows) == 0:
         return torch.empty(0, int(network.classifier.out_features))
     loader = DataLoader(collection.dataset().index_select(rows), batch_size=batch_size)
+    reads = network.encoder.edge_width > 0
     with torch.no_grad():
         return torch.cat(
-            [network(batch.x, batch.edge_index, batch.batch, batch.num_graphs) for batch in loader]
+            [
+                network(
+                    batch.x,
+                    batch.edge_index,
+                    batch.batch,
+                    batch.num_graphs,
+                    batch.edge_attr if reads else None,
+                )
+                for batch in loader
+            ]
         )
 
 
@@ -126,11 +147,15 @@ def prepare_graph_run(
     if validation_only:
         split = Split(split.train, split.validation, split.train[:0])
     started, width = started_collection(collection, spec.options, spec.seed, spec.hop_cache)
+    check_edge_inputs(started.storage, spec.options, spec.contender)
     torch.manual_seed(spec.seed)
     with generated_modules_in(spec.hop_cache):
-        model = build_graph_model(spec.options, width, len(collection.class_names))
+        model = build_graph_model(
+            spec.options, width, len(collection.class_names), edge_width(started.storage)
+        )
     options = spec.link or GraphOptions()
-    feed = GraphBatchFeed(started, split.train, options.batch_size, spec.seed)
+    reads = model.encoder.edge_width > 0
+    feed = GraphBatchFeed(started, split.train, options.batch_size, spec.seed, reads)
     objective = GraphObjective(
         started, split, spec.metric, spec.task, options.evaluation_batch_size
     )

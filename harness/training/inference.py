@@ -72,15 +72,19 @@ def chunked_logits(
     x: torch.Tensor,
     edge_index: torch.Tensor,
     chunk_nodes: int = CHUNK_NODES,
+    edge_attr: torch.Tensor | None = None,
 ) -> torch.Tensor:
     """The model's logits for every node (evaluation mode), computed layer by layer in chunks;
-    equal to `model(x, edge_index)` up to the order of floating-point sums."""
+    equal to `model(x, edge_index, edge_attr=edge_attr)` up to the order of floating-point
+    sums (edge attributes travel with their edges like edge weights)."""
     model.eval()
     stack, h = unwrap(model, x)
+    if stack.whole_graph:  # every node reads every node: chunks would change the result
+        return model(x, edge_index, **({} if edge_attr is None else {"edge_attr": edge_attr}))
     nodes = h.size(0)
     if not stack.uses_edges:  # MLP: rows are independent
         edge_index = edge_index[:, :0]
-    edges, weights = stack.message_edges(edge_index, nodes)
+    edges, weights = stack.edges_of(edge_index, nodes, edge_attr)
     graph = ChunkedGraph(edges, weights, nodes, chunk_nodes)
     for index in range(len(stack.layers)):
         parts = [

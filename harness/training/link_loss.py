@@ -27,7 +27,7 @@ from harness.results import RunResult
 from harness.schema.model_kinds import attends
 from harness.schema.training import Training
 from harness.training.compiled import Forward
-from harness.training.feeding import Feed, Step, WholeGraphFeed
+from harness.training.feeding import Feed, Graph, Step, WholeGraphFeed
 from harness.training.link_metrics import fast_link_score, link_score, link_scores
 from harness.training.loop import fit
 from harness.training.objectives import Loss, Prepared, Scores
@@ -74,7 +74,7 @@ class LinkObjective:
         self.pairs, self.labels = pairs, labels
 
         def loss(network: nn.Module, step: Step) -> torch.Tensor:
-            scores = network(*step.inputs, pairs)
+            scores = step.run(network, pairs)
             return nn.functional.binary_cross_entropy_with_logits(scores, labels)
 
         return loss
@@ -150,7 +150,8 @@ class LinkRun:
             return {}
         graph = self.tested
         unlabelled = torch.full((graph.num_nodes,), -1, dtype=torch.long)
-        diagnostics = self.feed.attention(self.model.encoder, graph.x, graph.edge_index, unlabelled)
+        read = Graph(graph.x, graph.edge_index)
+        diagnostics = self.feed.attention(self.model.encoder, read, unlabelled)
         return {"attention": {**diagnostics, "note": LABELS_NOTE}}
 
 

@@ -22,21 +22,23 @@ from harness.results import NodePredictions, RunResult
 from harness.schema.model_kinds import MODEL_KINDS, attends
 from harness.schema.training import Training
 from harness.training.compiled import Forward
-from harness.training.feeding import Feed, Step, node_feed
+from harness.training.edge_inputs import check_edge_inputs, edge_width
+from harness.training.feeding import Feed, Graph, Step, node_feed
 from harness.training.loop import fit
 from harness.training.metrics import fast_score, score, scores_of_test_nodes
 from harness.training.objectives import Loss, Prepared, Scores
 
 
 def node_loss(network: nn.Module, step: Step) -> torch.Tensor:
-    return nn.functional.cross_entropy(network(*step.inputs)[step.rows], step.labels)
+    return nn.functional.cross_entropy(step.run(network)[step.rows], step.labels)
 
 
 class NodeObjective:
-    """Scored on `data`, the full graph, at the split's validation and test nodes."""
+    """Scored on `data`, the full graph (`graph`: as the model reads it), at the split's
+    validation and test nodes."""
 
-    def __init__(self, feed: Feed, data: Data, split: Split, metric: str):
-        self.feed, self.data, self.split, self.metric = feed, data, split, metric
+    def __init__(self, feed: Feed, data: Data, graph: Graph, split: Split, metric: str):
+        self.feed, self.data, self.graph, self.split, self.metric = feed, data, graph, split, metric
         self.classes = int(data.y.max()) + 1
         self.validation_labels = data.y[split.validation]
 
@@ -44,17 +46,15 @@ class NodeObjective:
         return node_loss  # the targets are the training nodes' labels, the same every epoch
 
     def validate(self, network: nn.Module) -> float:
-        logits = self.feed.outputs(
-            network, self.data.x, self.data.edge_index, self.split.validation
-        )
+        logits = self.feed.outputs(network, self.graph, self.split.validation)
         return fast_score(self.metric, logits, self.validation_labels, self.classes)
 
     def target_bytes(self) -> int:
         return 0  # the labels travel in the feed's steps
 
     def scores(self, forward: Forward) -> Scores:
-        x, edge_index, split = self.data.x, self.data.edge_index, self.split
-        logits = forward.guarded(lambda network: self.feed.outputs(network, x, edge_index))
+        split = self.split
+        logits = forward.guarded(lambda network: self.feed.outputs(network, self.graph))
         test_logits, test_labels = logits[split.test], self.data.y[split.test]
         tested, warnings = scores_of_test_nodes(test_logits, test_labels, self.classes)
         predictions = None
@@ -86,9 +86,11 @@ def node_parts(
     """
     seen = data if training_graph is None else training_graph
     seen_rows = split.train if training_graph is None else training_graph.train_rows
-    scored_graph = (data.x, data.edge_index, data.y)
+    graph = Graph.read_by(model, data)
+    attributes = () if graph.edge_attr is None else (graph.edge_attr,)
+    scored_graph = (data.x, data.edge_index, data.y, *attributes)
     feed = node_feed(model, seen, seen_rows, data.y[split.train], training, seed, scored_graph)
-    return feed, NodeObjective(feed, data, split, metric)
+    return feed, NodeObjective(feed, data, graph, split, metric)
 
 
 def fit_nodes(
@@ -112,6 +114,7 @@ class NodeRun:
 
     spec: RunSpec
     model: nn.Module
+    loaded: Data
     started: StartedGraph
     split: Split
     feed: Feed
@@ -121,16 +124,17 @@ class NodeRun:
     def diagnose(self) -> dict[str, Any]:
         """New-node arrival (inductive runs) and attention measures (kinds that attend)."""
         extras: dict[str, Any] = {}
-        spec, graph = self.spec, self.started.data
-        if self.inductive and not self.validation_only:
-            radius = spec.options.layers * spec.options.layer_radius()
-            radius += MODEL_KINDS[spec.model].extra_hops
+        spec, graph, kind = self.spec, self.started.data, MODEL_KINDS[self.spec.model]
+        # arrival updates run the model on grown graphs without their edge attributes, and
+        # within a hop radius: not for kinds that read attributes or every node
+        local = spec.options.edge_attribute_use() == "none" and not kind.global_reach
+        if self.inductive and not self.validation_only and local:
+            radius = spec.options.layers * spec.options.layer_radius() + kind.extra_hops
             arrival = measure_arrival(self.model, graph, self.split, radius, seed=spec.seed)
             extras["arrival"] = arrival.as_dict()
         if attends(spec.model):
-            extras["attention"] = self.feed.attention(
-                self.model, graph.x, graph.edge_index, graph.y
-            )
+            read = Graph.read_by(self.model, graph)
+            extras["attention"] = self.feed.attention(self.model, read, graph.y, self.loaded)
         return extras
 
 
@@ -142,10 +146,16 @@ def prepare_node_run(spec: RunSpec, data: Data, validation_only: bool) -> Prepar
         split = Split(split.train, split.validation, split.train[:0])
     torch.manual_seed(spec.seed)
     classes = int(data.y.max()) + 1
+    check_edge_inputs(data, spec.options, spec.contender)
     started = contender_graph(data, spec.options, spec.seed, spec.hop_cache)
     with generated_modules_in(spec.hop_cache):
         model = build_model(
-            spec.options, started.width, classes, started.embedding_rows, spec.training.kernel
+            spec.options,
+            started.width,
+            classes,
+            started.embedding_rows,
+            spec.training.kernel,
+            edge_width(data),
         )
     inductive = spec.setting == "inductive"
     seen = None
@@ -155,5 +165,5 @@ def prepare_node_run(spec: RunSpec, data: Data, validation_only: bool) -> Prepar
     feed, objective = node_parts(
         model, started.data, split, spec.training, spec.metric, seen, spec.seed
     )
-    run = NodeRun(spec, model, started, split, feed, inductive, validation_only)
+    run = NodeRun(spec, model, data, started, split, feed, inductive, validation_only)
     return Prepared(model, feed, objective, run.diagnose)

@@ -139,8 +139,11 @@ def batch_loader(
 ) -> NodeLoader:
     """Shuffled batches of `targets` with their sampled neighbourhoods; the order of targets
     and the draws are fixed by `seed`. Batches hold `x`, `y`, `edge_index`, `n_id` (node ids
-    in `graph`), `e_id` (edge ids) and `batch_size` (the targets are the first rows)."""
+    in `graph`), `e_id` (edge ids), `batch_size` (the targets are the first rows) and, when the
+    graph has them, the drawn edges' `edge_attr`."""
     plain = Data(x=graph.x, y=graph.y, edge_index=graph.edge_index, num_nodes=graph.num_nodes)
+    if getattr(graph, "edge_attr", None) is not None:
+        plain.edge_attr = graph.edge_attr
     return NodeLoader(
         plain,
         node_sampler=make_sampler(plain, fanout, seed),

@@ -17,6 +17,7 @@ import optuna
 from optuna.exceptions import UpdateFinishedTrialError
 from optuna.trial import Trial, TrialState
 
+from harness.errors import ServiceOutage
 from harness.tuning.storage import fail_stale_trials
 
 
@@ -29,7 +30,10 @@ def heartbeats(study: optuna.Study, trial: Trial) -> Iterator[None]:
 
     def beat() -> None:
         while True:
-            storage.record_heartbeat(trial._trial_id)
+            try:
+                storage.record_heartbeat(trial._trial_id)
+            except ServiceOutage:
+                return  # the trial's own next call meets the outage and ends the worker
             if stop.wait(interval):
                 return
 

@@ -136,7 +136,8 @@ def work(suite: Suite, store_path: store.Store | None, storage_url: str) -> Work
     (unless `store_path` is None: on a cluster worker, which leaves storing to the submitter)."""
     optuna.logging.set_verbosity(logging.ERROR)  # refused trials are expected, not news
     tuning = suite.tuning
-    storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)
+    seconds = (tuning.heartbeat_seconds, tuning.grace_seconds)
+    storage = open_storage(storage_url, *seconds, checked=True)  # the command checked it
     plans, studies, resize = tuning_studies(suite, storage)
     objectives = {
         p.contender: objective_for(p.base, p.space, admission(studies[p.contender], tuning), resize)
@@ -165,7 +166,9 @@ def tune(
     """One tuning worker per worker of the executor, all on one storage. Every repeat ends in
     the store: written by the workers, or by this process when they cannot reach the store."""
     tuning = suite.tuning
-    storage = open_storage(storage_url, tuning.heartbeat_seconds, tuning.grace_seconds)  # early
+    storage = open_storage(
+        storage_url, tuning.heartbeat_seconds, tuning.grace_seconds, checked=True
+    )  # opened early: the command checked it
     on_workers = store_path if executor.workers_store else None
     outcomes = executor.run_copies(work, (suite, on_workers, storage_url))
     if on_workers is not None:

@@ -20,7 +20,8 @@ import pytest
 from statsmodels.stats.weightstats import CompareMeans, DescrStatsW
 
 from harness.gate.compare import Check, GateOutcome, compare_metric
-from harness.report.junit import write_junit
+from harness.report.documents.gate import gate_document
+from harness.report.formats import FORMATS
 
 BEFORE = {0: 0.81, 1: 0.79, 2: 0.84, 3: 0.80, 4: 0.83}
 AFTER = {0: 0.78, 1: 0.77, 2: 0.80, 3: 0.79, 4: 0.79}
@@ -101,7 +102,7 @@ def test_junit_names_match_pytest_junit_writer(tmp_path):
     )
     outcome = GateOutcome("s", "accuracy", 0.95, checks, {}, {}, (), {"a": 1.0}, 1.8e9)
     ours_path = tmp_path / "ours.xml"
-    write_junit(ours_path, outcome)
+    ours_path.write_text(FORMATS["junit"].render(gate_document(outcome)), encoding="utf-8")
     ours = ElementTree.parse(ours_path).getroot()
 
     assert ours.tag == theirs.tag == "testsuites"

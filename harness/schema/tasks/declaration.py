@@ -62,10 +62,14 @@ class TaskKind:
         `compiles` and `breakdown` (the per-node breakdown of scored test nodes) say what applies;
         `no_compile_reason` is what a run records when compiling does not apply. `node_labels`:
         whether its runs read node labels (`check` warns about a label column otherwise).
+    `edge_attributes`: whether its training passes edge attributes to the models that read them.
         `data_check`: "module:function" check(suite, data, source) of every seed's split, run by
         `check` before any run. `objective`: the name of its entry in the training stage's objective
         registry. `output_option`: the field of its options table that sets the model's output width
-    (None: one output per class of the data). `many_graphs`: its data is a collection of small
+    (None: one output per class of the data). `run_memory`: "module:function" bytes(suite, size)
+    a run holds beyond its model's step (link prediction: the scored pairs and their negatives),
+    with the option that moves them most; None when there is nothing beyond it.
+    `many_graphs`: its data is a collection of small
     graphs with one label each (data sources that declare `many_graphs`), and its contenders
     pool each graph's node states with their `readout`.
     """
@@ -79,9 +83,11 @@ class TaskKind:
     split_methods: tuple[str, ...] | None = None
     refused: Mapping[str, str] = field(default_factory=dict)
     section_checks: Mapping[str, SectionCheck] = field(default_factory=dict)
+    edge_attributes: bool = False
     options_section: str | None = None
     options: type[BaseModel] | None = None
     output_option: str | None = None
+    run_memory: str | None = None
     keyed: bool = True
     sampled_batches: bool = True
     compiles: bool = True

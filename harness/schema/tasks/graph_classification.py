@@ -15,6 +15,7 @@ from pydantic import Field
 
 from harness.schema.base import StrictModel
 from harness.schema.contenders import FeatureStart
+from harness.schema.model_kinds import MODEL_KINDS
 from harness.schema.tasks.declaration import Metric, TaskKind
 
 
@@ -46,10 +47,18 @@ def start_problem(contender: str, start: str) -> str | None:
     return f"{contender}.feature_start: given '{start}' ({reason}); allowed: {allowed}"
 
 
-def starts_of_contenders(contenders: dict[str, Any]) -> str | None:
+def contender_problems(contenders: dict[str, Any]) -> str | None:
+    """Feature starts of one graph, and kinds whose layers attend over every node of a graph:
+    over a batch of graphs they would attend across graphs."""
     for name, options in contenders.items():
         if problem := start_problem(name, options.feature_start):
             return problem
+        if MODEL_KINDS[options.model].global_reach:
+            return (
+                f"{name}.model: given '{options.model}', whose layers attend over every node of "
+                "a graph; over a batch of graphs they would mix graphs; allowed for graph "
+                "classification: kinds that pass messages along edges"
+            )
     return None
 
 
@@ -93,7 +102,7 @@ GRAPH_CLASSIFICATION = TaskKind(
         "classification labels whole graphs",
     },
     section_checks={
-        "contenders": starts_of_contenders,
+        "contenders": contender_problems,
         "ablation": starts_of_ablation,
         "analysis": node_groupings,
     },

@@ -96,6 +96,7 @@ LINK_PREDICTION = TaskKind(
     options_section="link",
     options=LinkOptions,
     output_option="embedding_width",
+    run_memory="harness.execution.memory:scored_pair_bytes",
     sampled_batches=False,
     compiles=False,
     no_compile_reason="link prediction trains eagerly: compiling is not extended to it",

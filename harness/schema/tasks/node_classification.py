@@ -13,6 +13,7 @@ EVERY_EPOCH = "harness.training.metrics"  # torch twins on the logits
 
 NODE_CLASSIFICATION = TaskKind(
     title="node classification",
+    edge_attributes=True,
     summary="one class per node",
     metrics=(
         Metric("accuracy", "accuracy", f"{SCORES}:accuracy", f"{EVERY_EPOCH}:fast_accuracy"),
