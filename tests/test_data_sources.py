@@ -10,6 +10,7 @@ from torch_geometric.utils import coalesce, is_undirected
 
 from harness.data import SOURCES
 from harness.planning import parse_suite
+from tests.graph_files import write_graph_tables, write_molecules
 
 NODES = "id,label,f1,f2\na,0,1.0,0.0\nb,0,0.9,0.1\nc,1,0.1,0.9\nd,1,0.0,1.0\ne,,0.5,0.5\n"
 EDGES = "source,target\na,b\nb,c\nc,d\nd,e\ne,a\n"
@@ -20,10 +21,50 @@ EXAMPLES = {
     "digits": {"source": "digits"},
     "pyg": None,  # downloads its dataset (no network in tests); see tests/test_bundled.py
 }
+# sources of many small graphs (graph classification): each graph has the shape above
+COLLECTION_EXAMPLES = {
+    "molecules": {"source": "molecules", "file": "dyes.csv"},
+    "graph_tables": {
+        "source": "graph_tables",
+        "nodes": "nodes.csv",
+        "edges": "edges.csv",
+        "graphs": "graphs.csv",
+    },
+    "synthetic_graphs": {"source": "synthetic_graphs", "graphs": 12},
+    "graph_atlas": {"source": "graph_atlas"},
+}
 
 
 def test_every_source_has_an_example() -> None:
-    assert set(EXAMPLES) == set(SOURCES)
+    assert set(EXAMPLES) | set(COLLECTION_EXAMPLES) == set(SOURCES)
+
+
+@pytest.mark.parametrize("name", sorted(COLLECTION_EXAMPLES))
+def test_every_collection_source_gives_graphs_of_that_shape(
+    name: str, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    monkeypatch.setenv("HEEDFUL_CACHE", str(tmp_path / "cache"))
+    write_molecules(tmp_path)
+    write_graph_tables(tmp_path)
+    raw = {
+        "name": "shape",
+        "task": "graph_classification",
+        "data": COLLECTION_EXAMPLES[name],
+        "contenders": {"plain": {"model": "mlp"}},
+    }
+    section = parse_suite(raw, str(tmp_path / "suite.toml")).data
+    collection = SOURCES[name](section)
+    assert len(collection.class_names) >= 2 and collection.y.shape == (len(collection),)
+    for index in range(0, len(collection), max(1, len(collection) // 25)):
+        graph = collection.graph(index)
+        nodes = graph.num_nodes
+        assert graph.x.dtype == torch.float32 and graph.x.size(0) == nodes and nodes > 0
+        assert graph.y.shape == (1,) and 0 <= int(graph.y) < len(collection.class_names)
+        edges = graph.edge_index
+        assert edges.dtype == torch.int64 and (edges.numel() == 0 or int(edges.max()) < nodes)
+        assert not bool((edges[0] == edges[1]).any())
+        assert is_undirected(edges, num_nodes=nodes)
+        assert torch.equal(coalesce(edges, num_nodes=nodes), edges)
 
 
 @pytest.mark.parametrize("name", sorted(name for name, raw in EXAMPLES.items() if raw))

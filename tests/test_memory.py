@@ -43,6 +43,9 @@ KINDS = {
     "gine": EdgeConvolutionOptions(model="gine"),
     "transformer": TransformerOptions(model="transformer", heads=2, hidden=16),
     "global_attention": GlobalAttentionOptions(model="global_attention", hidden=32, heads=2),
+    "global_attention_performer": GlobalAttentionOptions(
+        model="global_attention", hidden=32, heads=4, attention_kind="performer"
+    ),
 }
 
 

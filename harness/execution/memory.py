@@ -73,6 +73,7 @@ def saved_bytes(options: ContenderBase, size: GraphSize, nodes: float, edges: fl
     saved = 0.0
     for width, out, heads in layer_shapes(options, size):
         per_node = FLOAT * (floats.node_inputs * width + floats.node_outputs * heads * out)
+        per_node += FLOAT * options.extra_floats_per_node()
         per_edge = FLOAT * heads * (floats.edge_outputs * out + floats.edge_scalars)
         saved += nodes * per_node + edges * (per_edge + 2 * INDEX)
     return saved
@@ -143,10 +144,7 @@ def scored_pair_bytes(suite: BaseModel, size: GraphSize) -> tuple[float, str]:
     link, split = suite.task_options, suite.split
     edges = size.edges / 2  # undirected pairs; a directed graph counts each edge once here
     per_edge = 1 + link.negatives_per_positive
-    # saved per pair: both ends' embeddings and the logit; the mlp decoder also its input (their
-    # product) and hidden layer
-    width, hidden = link.embedding_width, link.decoder_hidden
-    floats = 3 * width + 2 * hidden + 2 if link.decoder == "mlp" else 2 * width + 2
+    floats = link.saved_floats_per_pair()  # the decoder's own count, declared with its options
     training = split.train * edges * per_edge
     held = (split.validation + split.test) * edges * per_edge
     largest = max(split.validation, split.test) * edges * per_edge

@@ -119,6 +119,11 @@ class ContenderBase(StrictModel):
         """Node pairs (times heads) one layer scores with full attention over all nodes."""
         return 0.0
 
+    def extra_floats_per_node(self) -> float:
+        """Floats per node and layer autograd saves beyond what its kind declares (an option
+        that changes the layer's inner make-up); for the memory estimate."""
+        return 0.0
+
     def layer_radius(self) -> int:
         """Hops one layer reaches: 1, but for kinds that attend over a wider hop set."""
         return 1
@@ -299,6 +304,9 @@ class EdgeConvolutionOptions(ContenderBase):
         return "optional"
 
 
+PERFORMER_FLOATS_PER_HEAD = 1230
+
+
 class GlobalAttentionOptions(ContenderBase):
     """A local message-passing layer plus attention over all nodes of the graph (Rampasek et
     al., 2022): `hidden` is the width of every layer, split over `heads`."""
@@ -336,6 +344,11 @@ class GlobalAttentionOptions(ContenderBase):
 
     def attended_pairs(self, nodes: float) -> float:
         return self.heads * nodes * nodes if self.attention_kind == "multihead" else 0.0
+
+    def extra_floats_per_node(self) -> float:
+        # the performer's random-feature maps of queries and keys, per head (PyG's 64 channels
+        # per head, 266 features); measured in tests/test_memory.py
+        return PERFORMER_FLOATS_PER_HEAD * self.heads if self.attention_kind == "performer" else 0.0
 
 
 class IsomorphismOptions(ContenderBase):

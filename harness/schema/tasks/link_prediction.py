@@ -58,6 +58,12 @@ class LinkOptions(StrictModel):
         description="Test scores pass messages over the validation edges too.",
     )
 
+    def saved_floats_per_pair(self) -> int:
+        """Floats a scored pair keeps for backward: both ends' embeddings and the logit; the mlp
+        decoder also its input (their product) and hidden layer."""
+        width, hidden = self.embedding_width, self.decoder_hidden
+        return 3 * width + 2 * hidden + 2 if self.decoder == "mlp" else 2 * width + 2
+
 
 def shares_cover_the_edges(split: SplitSection) -> str | None:
     """Shares of the edges must sum to 1: every edge is trained on, validated or tested."""
