@@ -16,7 +16,10 @@ def stopped_in(pids: Iterable[int], reached: Callable[[], bool]) -> bool:
     they are stopped, else they are resumed and the answer is False."""
     pids = list(pids)
     for pid in pids:
-        os.kill(pid, signal.SIGSTOP)
+        try:
+            os.kill(pid, signal.SIGSTOP)
+        except ProcessLookupError:  # ended since it was listed: nothing of it can move
+            pass
     if reached():
         return True
     resume(pids)

@@ -26,37 +26,17 @@ from harness.tuning.storage import open_storage
 from harness.tuning.study import repeats_study_name, tuning_plan
 from harness.tuning.trial_states import usage
 from tests.pausing import resume, stopped_in, wait_for
+from tests.test_workers import SUITE as WORKERS_SUITE
 
 pytestmark = pytest.mark.slow
 
 TRIALS = 4
-SUITE = """
-name = "late_{phase}"
-seeds = 2
-metric = "accuracy"
-[data]
-source = "synthetic"
-nodes = 80
-classes = 3
-average_degree = 5
-edge_homophily = 0.8
-feature_dimension = 6
-graph_seed = 5
-[training]
-epochs = 150
-patience = 150
-[contenders.attention]
-model = "gat"
-heads = 2
-hidden = 4
-[contenders.features_only]
-model = "mlp"
-hidden = 12
-[tuning]
-trials = {trials}
-heartbeat_seconds = 1
-pruner = "none"
-"""
+
+
+def suite_text(phase: str) -> str:
+    """Trials long enough to be caught running, never pruned, so that each runs its epochs."""
+    text = WORKERS_SUITE.format(name=f"late_{phase}", epochs=150, trials=TRIALS)
+    return text + 'pruner = "none"\n'  # appended to the [tuning] table
 
 
 def running_trials(storage: optuna.storages.BaseStorage, names: list[str]) -> list[FrozenTrial]:
@@ -120,7 +100,7 @@ def alive(process: subprocess.Popen) -> None:
 @pytest.mark.parametrize("phase", ["tuning", "repeats"])
 def test_a_trial_resumed_after_it_was_marked_failed_never_ends_the_suite(tmp_path, phase):
     suite_path = tmp_path / "late.toml"
-    suite_path.write_text(SUITE.format(phase=phase, trials=TRIALS))
+    suite_path.write_text(suite_text(phase))
     suite = load_suite(suite_path)
     plans = tuning_plan(suite)
     database = tmp_path / "tuning.db"

@@ -40,6 +40,25 @@ def stored_keys(url: str) -> list[str]:
         return []
 
 
+def start(suite: Path, server, *where: str) -> subprocess.Popen:
+    """`heedful run` of the suite into the server's store, on `where` (--jobs or --cluster)."""
+    command = [sys.executable, "-m", "harness.cli", "run", str(suite), *where, "--quiet"]
+    return subprocess.Popen(
+        [*command, "--store", server.url],
+        cwd=ROOT,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
+
+
+def alive_check(process: subprocess.Popen):  # noqa: ANN201 - a check that it still runs
+    def alive() -> None:
+        assert process.poll() is None, process.stderr.read()
+
+    return alive
+
+
 def group(process: subprocess.Popen) -> list[int]:
     """The command and every process it started."""
     parent = psutil.Process(process.pid)
@@ -50,17 +69,8 @@ def test_a_server_down_for_seconds_mid_run_is_waited_for(server, tiny_suite_text
     text = tiny_suite_text.replace("epochs = 15", "epochs = 300").replace("seeds = 2", "seeds = 4")
     suite = write_suite(text.replace("patience = 15", "patience = 300"), "outage.toml")
     specs = expand(load_suite(suite))
-    command = [sys.executable, "-m", "harness.cli", "run", str(suite), "--jobs", "2"]
-    process = subprocess.Popen(
-        [*command, "--quiet", "--store", server.url],
-        cwd=ROOT,
-        stdout=subprocess.DEVNULL,
-        stderr=subprocess.PIPE,
-        text=True,
-    )
-
-    def alive() -> None:
-        assert process.poll() is None, process.stderr.read()
+    process = start(suite, server, "--jobs", "2")
+    alive = alive_check(process)
 
     frozen: list[int] = []
     try:
@@ -165,17 +175,8 @@ def test_a_tuned_suite_on_a_cluster_waits_for_its_server(server, write_suite):
     suite = write_suite(TUNED, "tuned.toml")
     plans = tuning_plan(load_suite(suite))
     storage = open_storage(server.url, 1, 3)  # its tables made before the workers open it
-    command = [sys.executable, "-m", "harness.cli", "run", str(suite), "--cluster", "local:2"]
-    process = subprocess.Popen(
-        [*command, "--quiet", "--store", server.url],
-        cwd=ROOT,
-        stdout=subprocess.DEVNULL,
-        stderr=subprocess.PIPE,
-        text=True,
-    )
-
-    def alive() -> None:
-        assert process.poll() is None, process.stderr.read()
+    process = start(suite, server, "--cluster", "local:2")
+    alive = alive_check(process)
 
     def trials_running() -> bool:
         names = {summary.study_name for summary in optuna.get_all_study_summaries(storage)}

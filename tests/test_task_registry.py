@@ -124,7 +124,11 @@ def test_every_task_refuses_what_it_declares_and_says_why(name: str) -> None:
     settings = {"breakdown": False, "degree_edges": [2, 4], "local_homophily_edges": [0, 0.5, 1]}
     for key in BREAKDOWN_KEYS:
         setting = {key: settings[key]}
-        if kind.breakdown:
+        if kind.breakdown and kind.many_graphs and key != "breakdown":
+            # a collection's breakdown groups its graphs by size, not nodes by these edges
+            with pytest.raises(InputError, match=f"analysis: {key} groups the nodes of one"):
+                parse_suite(raw_suite(name, analysis=setting), "s.toml")
+        elif kind.breakdown:
             parse_suite(raw_suite(name, analysis=setting), "s.toml")
         else:
             with pytest.raises(InputError, match=f"analysis: {key} is for the per-node"):

@@ -34,6 +34,15 @@ SUITES = {
         "training": {"epochs": 30, "patience": 4, "learning_rate": 0.02},
         "contenders": {"attention": {"model": "gat", "heads": 2, "hidden": 4}},
     },
+    "graph_classification": {
+        "name": "loop_boards",
+        "seeds": [1],
+        "task": "graph_classification",
+        "data": {"source": "synthetic_graphs", "graphs": 40, "motifs": ["cycle", "clique"]},
+        "graphs": {"batch_size": 8},
+        "training": {"epochs": 30, "patience": 4, "learning_rate": 0.02},
+        "contenders": {"attention": {"model": "gat", "heads": 2, "hidden": 4}},
+    },
 }
 SAMPLED = {"batching": "sampled", "batch_size": 16, "fanout": [3, 3]}
 # every task with its feeds: sampled batches where the task takes them
@@ -41,6 +50,7 @@ CASES = [
     ("node_classification", {}, "WholeGraphFeed"),
     ("node_classification", SAMPLED, "SampledFeed"),
     ("link_prediction", {}, "WholeGraphFeed"),
+    ("graph_classification", {}, "GraphBatchFeed"),
 ]
 TRAINING = Path(harness.training.runs.__file__).parent
 

@@ -199,7 +199,7 @@ class AttentionOptions(ContenderBase):
         ),
     )
 
-    keyed_when_set: ClassVar[frozenset[str]] = frozenset({"edge_features"})
+    keyed_when_set: ClassVar[frozenset[str]] = ContenderBase.keyed_when_set | {"edge_features"}
 
     @model_validator(mode="after")
     def _layer_shapes(self) -> AttentionOptions:

@@ -9,7 +9,7 @@ members: its steps' inputs end with the batch vector, and its labels are one per
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from typing import Any, Protocol
 
@@ -77,6 +77,9 @@ class Feed(Protocol):
     """What the training loop asks of a feed; objectives also call `outputs` and `attention`."""
 
     compiles: bool  # its steps keep one shape, so a compiled model can run them
+    # attention diagnostics of the trained model on a whole graph, run as the feed runs it:
+    # (model, x, edge_index, labels, edge_attr, typed) -> the stored format (training.diagnostics)
+    attention: Callable[..., dict[str, Any]]
 
     def steps(self) -> Iterator[Step]:
         """One epoch's steps."""
@@ -88,13 +91,6 @@ class Feed(Protocol):
 
     def outputs(self, network: nn.Module, graph: Graph, rows: Rows = None) -> torch.Tensor:
         """The model's outputs on a whole graph (all nodes, or these rows), without gradients."""
-        ...
-
-    def attention(
-        self, model: nn.Module, graph: Graph, labels: torch.Tensor, typed: Data | None = None
-    ) -> dict[str, Any]:
-        """Attention diagnostics of the trained model on a whole graph (`typed`: the loaded
-        graph whose edge types the diagnostics read, harness.training.diagnostics)."""
         ...
 
     def extras(self) -> dict[str, Any]:
@@ -110,6 +106,7 @@ class WholeGraphFeed:
     """
 
     compiles = True
+    attention = staticmethod(attention_diagnostics)
 
     def __init__(self, step: Step, counted: tuple[torch.Tensor, ...] | None = None):
         self.step = step
@@ -129,12 +126,6 @@ class WholeGraphFeed:
             # only the last layer runs at the rows (the same logits as a full pass)
             return network(graph.x, graph.edge_index, None, rows, **named)
 
-    def attention(
-        self, model: nn.Module, graph: Graph, labels: torch.Tensor, typed: Data | None = None
-    ) -> dict[str, Any]:
-        x, edge_index, attributes = graph.x, graph.edge_index, graph.edge_attr
-        return attention_diagnostics(model, x, edge_index, labels, attributes, typed)
-
     def extras(self) -> dict[str, Any]:
         return {}
 
@@ -149,6 +140,7 @@ class SampledFeed:
     """
 
     compiles = False
+    attention = staticmethod(chunked_attention_diagnostics)
 
     def __init__(
         self, model: nn.Module, graph: Data, rows: torch.Tensor, training: Training, seed: int
@@ -178,12 +170,6 @@ class SampledFeed:
     def outputs(self, network: nn.Module, graph: Graph, rows: Rows = None) -> torch.Tensor:
         logits = chunked_logits(network, graph.x, graph.edge_index, edge_attr=graph.edge_attr)
         return logits if rows is None else logits[rows]
-
-    def attention(
-        self, model: nn.Module, graph: Graph, labels: torch.Tensor, typed: Data | None = None
-    ) -> dict[str, Any]:
-        x, edge_index, attributes = graph.x, graph.edge_index, graph.edge_attr
-        return chunked_attention_diagnostics(model, x, edge_index, labels, attributes, typed)
 
     def extras(self) -> dict[str, Any]:
         """The sampler used and the mean batch size in nodes and edges over all steps."""

@@ -27,7 +27,7 @@ from harness.results import RunResult
 from harness.schema.model_kinds import attends
 from harness.schema.training import Training
 from harness.training.compiled import Forward
-from harness.training.feeding import Feed, Graph, Step, WholeGraphFeed
+from harness.training.feeding import Feed, Step, WholeGraphFeed
 from harness.training.link_metrics import fast_link_score, link_score, link_scores
 from harness.training.loop import fit
 from harness.training.objectives import Loss, Prepared, Scores
@@ -150,8 +150,7 @@ class LinkRun:
             return {}
         graph = self.tested
         unlabelled = torch.full((graph.num_nodes,), -1, dtype=torch.long)
-        read = Graph(graph.x, graph.edge_index)
-        diagnostics = self.feed.attention(self.model.encoder, read, unlabelled)
+        diagnostics = self.feed.attention(self.model.encoder, graph.x, graph.edge_index, unlabelled)
         return {"attention": {**diagnostics, "note": LABELS_NOTE}}
 
 

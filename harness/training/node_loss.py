@@ -134,7 +134,9 @@ class NodeRun:
             extras["arrival"] = arrival.as_dict()
         if attends(spec.model):
             read = Graph.read_by(self.model, graph)
-            extras["attention"] = self.feed.attention(self.model, read, graph.y, self.loaded)
+            extras["attention"] = self.feed.attention(
+                self.model, read.x, read.edge_index, graph.y, read.edge_attr, self.loaded
+            )
         return extras
 
 
