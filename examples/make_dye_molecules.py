@@ -58,9 +58,7 @@ def branch(substituent: str) -> str:
 
 
 def passes_screen(molecule: Chem.Mol) -> bool:
-    return (
-        rdMolDescriptors.CalcNumAromaticRings(molecule) >= 2 and Crippen.MolLogP(molecule) <= 3.2
-    )
+    return rdMolDescriptors.CalcNumAromaticRings(molecule) >= 2 and Crippen.MolLogP(molecule) <= 3.2
 
 
 def candidates(rng: np.random.Generator) -> pd.DataFrame:

@@ -34,6 +34,7 @@ DEMO_KEYS = [
 # sha256 of the sorted keys joined by commas, first 16 hex digits, and the run count
 SUITE_KEY_DIGESTS = {
     "ablation": ("5553af01757b4ce5", 66),
+    "circuit_boards": ("71c5f258fba5cc98", 24),  # added with graph classification demos
     "courier_sites": ("39e9166521e3cbaa", 12),
     "karate_club": ("b6586e000ea6e320", 15),
     "links": ("45df8a732fd0d725", 25),  # added with link prediction suites
