@@ -286,7 +286,22 @@ class MLPOptions(ContenderBase):
     )
 
 
-class EdgeConvolutionOptions(ContenderBase):
+class IsomorphismOptions(ContenderBase):
+    """Graph isomorphism network (Xu et al., 2019): h' = MLP((1 + eps) h + sum of neighbours)."""
+
+    model: Literal["gin"] = Field(
+        description=(
+            "gin: the graph isomorphism network (Xu et al., 2019), a sum of the neighbours "
+            "through a two-layer MLP."
+        ),
+    )
+    learn_self_weight: bool = Field(
+        False,
+        description="Learn the weight 1 + epsilon of a node's own state (GIN-epsilon); false: 1.",
+    )
+
+
+class EdgeConvolutionOptions(IsomorphismOptions):
     """Graph isomorphism convolution over edge attributes (Hu et al., 2020)."""
 
     model: Literal["gine"] = Field(
@@ -294,10 +309,6 @@ class EdgeConvolutionOptions(ContenderBase):
             "gine: sums ReLU(h_j + W e_ji) over neighbours, then an MLP (Hu et al., 2020, "
             "PyG's GINEConv); without edge attributes in the data, e_ji is a constant 1."
         ),
-    )
-    learn_self_weight: bool = Field(
-        False,
-        description="Learn the weight 1 + epsilon of a node's own features (GIN-epsilon).",
     )
 
     def edge_attribute_use(self) -> str:
@@ -349,18 +360,3 @@ class GlobalAttentionOptions(ContenderBase):
         # the performer's random-feature maps of queries and keys, per head (PyG's 64 channels
         # per head, 266 features); measured in tests/test_memory.py
         return PERFORMER_FLOATS_PER_HEAD * self.heads if self.attention_kind == "performer" else 0.0
-
-
-class IsomorphismOptions(ContenderBase):
-    """Graph isomorphism network (Xu et al., 2019): h' = MLP((1 + eps) h + sum of neighbours)."""
-
-    model: Literal["gin"] = Field(
-        description=(
-            "gin: the graph isomorphism network (Xu et al., 2019), a sum of the neighbours "
-            "through a two-layer MLP."
-        ),
-    )
-    learn_self_weight: bool = Field(
-        False,
-        description="Learn the weight 1 + epsilon of a node's own state (GIN-epsilon); false: 1.",
-    )

@@ -4,14 +4,26 @@
 
 from __future__ import annotations
 
-from typing import Annotated, Any, Literal, TypeVar
+from typing import Annotated, Any, Literal
 
 from pydantic import Discriminator, Field, Tag, field_validator, model_validator
 
 from harness.schema.base import StrictModel
 
 
-class FractionSplit(StrictModel):
+class Shares(StrictModel):
+    """A split by shares of `train`, `validation` and `test` (declared by each method), which
+    together may not pass 1."""
+
+    @model_validator(mode="after")
+    def _sums_to_at_most_one(self) -> Shares:
+        total = self.train + self.validation + self.test
+        if total > 1 + 1e-9:
+            raise ValueError(f"train + validation + test = {total:g}; allowed: at most 1")
+        return self
+
+
+class FractionSplit(Shares):
     """Stratified random split by fractions, drawn anew for each seed."""
 
     method: Literal["fractions"] = Field(
@@ -36,12 +48,8 @@ class FractionSplit(StrictModel):
         ),
     )
 
-    @model_validator(mode="after")
-    def _sums_to_at_most_one(self) -> FractionSplit:
-        return shares_sum_to_at_most_one(self)
 
-
-class ScaffoldSplit(StrictModel):
+class ScaffoldSplit(Shares):
     """Molecules grouped by Bemis-Murcko scaffold (Bemis and Murcko, 1996); groups drawn in a
     random order per seed fill train, then validation, then test: no scaffold in two parts."""
 
@@ -50,12 +58,8 @@ class ScaffoldSplit(StrictModel):
     validation: float = Field(0.1, gt=0, lt=1, description="Share for validation.")
     test: float = Field(0.1, gt=0, lt=1, description="Share for testing.")
 
-    @model_validator(mode="after")
-    def _sums_to_one(self) -> ScaffoldSplit:
-        return shares_sum_to_at_most_one(self)
 
-
-class SizeSplit(StrictModel):
+class SizeSplit(Shares):
     """Train on smaller graphs, test on larger: the largest `test` share (by node count) is
     the test part; the rest is split at random per seed into train and validation."""
 
@@ -63,10 +67,6 @@ class SizeSplit(StrictModel):
     train: float = Field(0.6, gt=0, lt=1, description="Share of graphs for training.")
     validation: float = Field(0.2, gt=0, lt=1, description="Share for validation.")
     test: float = Field(0.2, gt=0, lt=1, description="Share of the largest graphs for testing.")
-
-    @model_validator(mode="after")
-    def _sums_to_one(self) -> SizeSplit:
-        return shares_sum_to_at_most_one(self)
 
 
 class PerClassSplit(StrictModel):
@@ -155,13 +155,3 @@ class HomophilyMap(StrictModel):
         if any(not 0 <= level <= 1 for level in levels):
             raise ValueError("allowed: edge homophily values from 0 to 1")
         return sorted(levels)
-
-
-Shares = TypeVar("Shares", bound=StrictModel)
-
-
-def shares_sum_to_at_most_one(section: Shares) -> Shares:
-    total = section.train + section.validation + section.test
-    if total > 1 + 1e-9:
-        raise ValueError(f"train + validation + test = {total:g}; allowed: at most 1")
-    return section
