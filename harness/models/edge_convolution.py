@@ -33,8 +33,10 @@ class EdgeConvolutionStack(LayerStack):
 
 
 def build(
-    options: EdgeConvolutionOptions, in_dim: int, out_dim: int, edge_width: int = 1
+    options: EdgeConvolutionOptions, in_dim: int, out_dim: int, edge_width: int = 0
 ) -> nn.Module:
+    # no attributes in the data: one constant column (a zero width would leave W_e unset)
+    edge_width = edge_width or 1
     layers = [
         GINEConv(perceptron(a, b), train_eps=options.learn_self_weight, edge_dim=edge_width)
         for a, b in widths(in_dim, options.hidden, out_dim, options.layers)
