@@ -12,6 +12,7 @@ import os
 import tempfile
 import warnings
 from dataclasses import dataclass, field
+from functools import cached_property
 from pathlib import Path
 
 import torch
@@ -60,6 +61,12 @@ class GraphCollection:
         return self.slices["edge_index"].diff()
 
     def dataset(self) -> CollatedGraphs:
+        """One dataset per collection: PyG keeps each graph it cuts out, so validation in every
+        epoch reads the graphs cut out before instead of cutting them again."""
+        return self._collated
+
+    @cached_property
+    def _collated(self) -> CollatedGraphs:
         return CollatedGraphs(self.storage, self.slices)
 
     def graph(self, index: int) -> Data:
