@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import copy
 
+import pytest
 import torch
 from torch.autograd import gradcheck
 
@@ -125,3 +126,37 @@ def test_dynamic_scores_by_blocks_match_finite_differences(monkeypatch):
     assert gradcheck(
         lambda e: sparse_dynamic.dynamic_scores(source, target, att, e, graph, 0.2), (edge_part,)
     )
+
+
+def test_fused_dynamic_scores_match_blocks(monkeypatch):
+    """The fused C loop (float32) against the block-wise torch path: scores and every
+    gradient, with and without edge parts, on one thread and on three ranges of targets."""
+    from harness.models import sparse_dynamic, sparse_fused
+
+    if sparse_fused.library() is None:
+        pytest.skip("no C compiler on this machine: the fused loop is not built")
+    graph = target_graph(EDGES, NODES)
+    inputs = [torch.randn(NODES, 3, 2), torch.randn(NODES, 3, 2), torch.randn(1, 3, 2)]
+    edge_part, grad = torch.randn(graph.edges, 3, 2), torch.randn(3, graph.edges)
+
+    def scores_and_gradients(part: torch.Tensor | None) -> list[torch.Tensor]:
+        leaves = [t.clone().requires_grad_() for t in (*inputs, *([] if part is None else [part]))]
+        scores = sparse_dynamic.dynamic_scores(*leaves[:3], (leaves + [None])[3], graph, 0.2)
+        scores.backward(grad)
+        return [scores.detach(), *(leaf.grad for leaf in leaves)]
+
+    assert sparse_dynamic.fused((*inputs, None))
+    threads = torch.get_num_threads()
+    try:
+        for count in (1, 3):
+            torch.set_num_threads(count)
+            assert len(sparse_fused.ranges(graph, count)) == count
+            for part in (None, edge_part):
+                fused = scores_and_gradients(part)
+                with monkeypatch.context() as patch:
+                    patch.setattr(sparse_dynamic, "library", lambda: None)
+                    by_blocks = scores_and_gradients(part)
+                for one, other in zip(fused, by_blocks, strict=True):
+                    torch.testing.assert_close(one, other)
+    finally:
+        torch.set_num_threads(threads)
