@@ -6,9 +6,8 @@ make several passes over edges x heads x C floats through memory, forward and ba
 autograd keeps them). Here each block of edges is formed, used and dropped while it is still
 in cache, and the backward pass forms it again:
     g_h = g_s a * LeakyReLU'(h),  g_x_s[j] += g_h,  g_x_t[i] += g_h,  g_a += sum g_s LeakyReLU(h)
-Float32 scores take one fused pass instead where a C compiler is found
-(harness.models.sparse_fused); compiled code takes the plain form (harness.models.sparse_layers),
-which the compiler fuses into one loop by itself.
+Compiled code takes the plain form instead (harness.models.sparse_layers), which the compiler
+fuses into one loop by itself.
 """
 
 from __future__ import annotations
@@ -17,7 +16,6 @@ import torch
 from torch import Tensor
 from torch.nn import functional
 
-from harness.models.sparse_fused import fused_backward, fused_forward, library
 from harness.models.sparse_kernel import TargetGraph
 
 EDGES_PER_BLOCK = 16_384  # 8 heads x 8 wide: 4 MiB per block tensor, within a core's cache
@@ -28,12 +26,6 @@ def blocks(graph: TargetGraph) -> list[slice]:
         slice(start, min(start + EDGES_PER_BLOCK, graph.edges))
         for start in range(0, graph.edges, EDGES_PER_BLOCK)
     ]
-
-
-def fused(inputs: tuple) -> bool:
-    """Whether the fused C loop takes these inputs: all float32, and the loop built."""
-    tensors = [tensor for tensor in inputs if tensor is not None]
-    return all(tensor.dtype == torch.float32 for tensor in tensors) and library() is not None
 
 
 def hidden_block(inputs: tuple, graph: TargetGraph, block: slice) -> Tensor:
@@ -51,25 +43,18 @@ class DynamicScores(torch.autograd.Function):
     def forward(  # noqa: ANN001
         ctx, source: Tensor, target: Tensor, att: Tensor, edge_part, graph, slope
     ) -> Tensor:
-        ctx.graph, ctx.slope, ctx.fused = graph, slope, fused((source, target, att, edge_part))
-        if ctx.fused:
-            inputs = [t if t is None else t.contiguous() for t in (source, target, att, edge_part)]
-            ctx.save_for_backward(*inputs)
-            return fused_forward(tuple(inputs), graph, slope).t()
         inputs = (source, target, edge_part)
         scores = source.new_empty(graph.edges, source.size(1))
         for block in blocks(graph):
             hidden = functional.leaky_relu(hidden_block(inputs, graph, block), slope)
             scores[block] = (hidden * att).sum(-1)
+        ctx.graph, ctx.slope = graph, slope
         ctx.save_for_backward(source, target, att, edge_part)
         return scores.t()
 
     @staticmethod
     def backward(ctx, grad: Tensor) -> tuple:  # noqa: ANN001
         source, target, att, edge_part = ctx.saved_tensors
-        if ctx.fused:
-            saved, by_edge = (source, target, att, edge_part), grad.t().contiguous()
-            return (*fused_backward(saved, ctx.graph, ctx.slope, by_edge), None, None)
         inputs, graph, by_edge = (source, target, edge_part), ctx.graph, grad.t()
         grad_source, grad_target = torch.zeros_like(source), torch.zeros_like(target)
         grad_att = torch.zeros_like(att)
