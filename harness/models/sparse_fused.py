@@ -27,7 +27,14 @@ import torch
 from torch import Tensor
 
 from harness.models.sparse_kernel import TargetGraph
-from harness.models.sparse_native import integers, library, pointer, ranges, run_parts
+from harness.models.sparse_native import (
+    integers,
+    library,
+    pointer,
+    ranges,
+    run_parts,
+    sum_into_first,
+)
 
 
 class Inputs(ctypes.Structure):
@@ -87,10 +94,7 @@ def fused_backward(
             pointer(grad_atts[part]), pointer(grad_edge))  # fmt: skip
 
     run_parts(call, parts)
-    grad_source = grad_sources[0]
-    for other in grad_sources[1:]:
-        grad_source += other
-    return grad_source, grad_target, grad_atts.sum(0), grad_edge
+    return sum_into_first(grad_sources), grad_target, grad_atts.sum(0), grad_edge
 
 
 class DynamicAttention(torch.autograd.Function):

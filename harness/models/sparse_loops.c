@@ -37,6 +37,30 @@ void heads_product(const int64_t *restrict pointer, const int64_t *restrict colu
     }
 }
 
+/* out[columns[k], h, :] += weights[k, h] dense[r, h, :] for the entries k of the rows r =
+ * first .. last - 1: the transposed product A_h^T dense[:, h] without sorting the entries by
+ * column; out [N, H, width] is this range's own (columns are shared between ranges). */
+void heads_scatter(const int64_t *restrict pointer, const int64_t *restrict columns,
+                   const float *restrict weights, int64_t edge_step, int64_t head_step,
+                   const float *restrict dense, int64_t heads, int64_t width, int64_t first,
+                   int64_t last, float *restrict out) {
+    const int64_t row = heads * width, end = pointer[last];
+    for (int64_t r = first; r < last; ++r) {
+        const float *restrict values = dense + r * row;
+        for (int64_t k = pointer[r]; k < pointer[r + 1]; ++k) {
+            if (k + AHEAD < end)
+                for (int64_t c = 0; c < row; c += 16)
+                    __builtin_prefetch(out + columns[k + AHEAD] * row + c, 1);
+            float *restrict total = out + columns[k] * row;
+            const float *restrict weight = weights + k * edge_step;
+            for (int64_t h = 0; h < heads; ++h) {
+                const float w = weight[h * head_step];
+                for (int64_t c = h * width; c < (h + 1) * width; ++c) total[c] += w * values[c];
+            }
+        }
+    }
+}
+
 /* out[k, h] = <left[i, h, :], right[columns[k], h, :]> for the edges k of the rows i =
  * first .. last - 1 (the sampled product on the CSR pattern); left, right [N, H, width]. */
 void heads_sampled(const int64_t *restrict pointer, const int64_t *restrict columns,

@@ -112,6 +112,33 @@ def heads_product(offsets: Tensor, columns: Tensor, weights: Tensor, dense: Tens
     return out
 
 
+def heads_scatter(offsets: Tensor, columns: Tensor, weights: Tensor, dense: Tensor) -> Tensor:
+    """out[columns[k], h] += weights[h, k] dense[r, h] over row r's entries k: the transposed
+    product, weights [H, E] (any strides), dense [rows, H, C] -> [N, H, C], N = rows. Each
+    range after the first sums into a buffer of its own (columns are shared), added at the end.
+    """
+    dense = dense.contiguous()
+    heads, width = dense.shape[1:]
+    parts = ranges(offsets, torch.get_num_threads())
+    outs = [torch.zeros_like(dense) for _ in range(max(1, len(parts)))]
+    head_step, edge_step = weights.stride()
+    fixed = [pointer(offsets), pointer(columns), pointer(weights)]
+    fixed += [*integers(edge_step, head_step), pointer(dense), *integers(heads, width)]
+    run = library().heads_scatter
+
+    def call(part: int, first: int, last: int) -> None:
+        run(*fixed, *integers(first, last), pointer(outs[part]))
+
+    run_parts(call, parts)
+    return sum_into_first(outs)
+
+
+def sum_into_first(tensors: list[Tensor]) -> Tensor:
+    for other in tensors[1:]:
+        tensors[0] += other
+    return tensors[0]
+
+
 def heads_sampled(offsets: Tensor, columns: Tensor, left: Tensor, right: Tensor) -> Tensor:
     """<left[i, h], right[columns[k], h]> on every entry k of row i: [N, H, C] x 2 -> [H, E]."""
     left, right = left.contiguous(), right.contiguous()
