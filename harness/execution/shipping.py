@@ -1,20 +1,23 @@
 """Data sent to a Dask cluster's workers, and the folders they cache in.
 
 Each distinct data section of the runs is loaded once by the submitter, pinned (its content
-digests kept, harness.schema.data DataSource.pinned) and sent once to every worker (Dask's
-scatter with broadcast). A worker trains on exactly that graph: it reads no data file, so it
-needs no shared file system and can never train on another file at the same path. Its caches
-(k-hop edge sets, compiled kernels) go to a folder of its own.
+digests kept, harness.schema.data DataSource.pinned) and sent once to every worker (a task
+carrying it, whose result Dask's `replicate` copies to every worker). A worker trains on
+exactly that graph: it reads no data file, so it needs no shared file system and can never
+train on another file at the same path. Its caches (k-hop edge sets, compiled kernels) go to a
+folder of its own.
 """
 
 from __future__ import annotations
 
 import os
+import uuid
+import warnings
 from collections.abc import Iterable
 from dataclasses import dataclass
 from pathlib import Path
 
-from distributed import Client, Future, get_worker
+from distributed import Client, Future, get_worker, wait
 from pydantic import BaseModel
 
 from harness.data import keep_loaded
@@ -36,10 +39,22 @@ def content_of(section: BaseModel) -> str:
     return section.model_dump_json()
 
 
+def sent(graph: object) -> object:
+    """On a worker: the graph its task carried."""
+    return graph
+
+
 def ship(client: Client, section: BaseModel, graph: object) -> Shipment:
-    """The section's graph, loaded here, sent to every worker (a worker that joins later gets
-    it from another worker); the section pinned to what was loaded."""
-    return Shipment(section.pinned(), client.scatter(graph, broadcast=True, hash=False))
+    """The section's graph, loaded here, sent to every worker (one that joins later gets it
+    from another worker); the section pinned to what was loaded. The graph is the result of a
+    task that carries it, not scattered data: should every worker holding it die, the
+    scheduler runs that task again, where scattered data would be lost with its runs."""
+    with warnings.catch_warnings():  # a large graph is meant to travel here, once
+        warnings.filterwarnings("ignore", message="Sending large graph")
+        future = client.submit(sent, graph, key=f"heedful_graph-{uuid.uuid4().hex}")
+    wait(future)
+    client.replicate([future])
+    return Shipment(section.pinned(), future)
 
 
 def own_cache_folder() -> str:
