@@ -115,7 +115,7 @@ class DynamicAttention(torch.autograd.Function):
         return (*grads, None, None, None)
 
 
-@torch.compiler.disable  # compiled code takes the plain form (harness.models.sparse_layers)
+@torch.compiler.disable  # C loops: compiled code calls them as they are
 def dynamic_attention_kernel(*inputs: Tensor | TargetGraph | float | None) -> Tensor:
     """DynamicAttention on (source, target, att, edge_part, keep, graph, slope)."""
     return DynamicAttention.apply(*inputs)

@@ -111,14 +111,14 @@ def dynamic_attention(
     source = by_head(layer, layer.lin_l, x)
     target = source if layer.share_weights else by_head(layer, layer.lin_r, x)
     edges = edge_features(layer, edge_attr, graph)
-    if torch.compiler.is_compiling():  # the compiler fuses the plain form into one loop
-        hidden = pair_sum(source, target, graph, edges)
-        scores = (functional.leaky_relu(hidden, layer.negative_slope) * layer.att).sum(-1).t()
-    elif native(source, target, edges):  # scores, softmax and messages in one C pass
+    if native(source, target, edges):  # scores, softmax and messages in one C pass
         keep = dropout_mask(layer, x, graph)
         slope = layer.negative_slope
         out = dynamic_attention_kernel(source, target, layer.att, edges, keep, graph, slope)
         return finish(layer, out, x)
+    if torch.compiler.is_compiling():  # the compiler fuses the plain form into one loop
+        hidden = pair_sum(source, target, graph, edges)
+        scores = (functional.leaky_relu(hidden, layer.negative_slope) * layer.att).sum(-1).t()
     else:
         scores = dynamic_scores(source, target, layer.att, edges, graph, layer.negative_slope)
     return finish(layer, aggregate(weigh(layer, scores, graph), source, graph), x)

@@ -58,10 +58,15 @@ def library() -> ctypes.CDLL | None:
     return ctypes.CDLL(str(built))
 
 
+@torch.compiler.disable  # a file lookup (and a first build), not math to compile
+def built() -> bool:
+    return library() is not None
+
+
 def native(*tensors: Tensor | None) -> bool:
     """Whether the C loops take these tensors: all float32, and the loops built."""
     present = [tensor for tensor in tensors if tensor is not None]
-    return all(tensor.dtype == torch.float32 for tensor in present) and library() is not None
+    return all(tensor.dtype == torch.float32 for tensor in present) and built()
 
 
 @functools.cache
