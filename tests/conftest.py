@@ -19,6 +19,8 @@ from pathlib import Path
 import pytest
 import torch
 
+from tests.real_dask import real_cluster  # noqa: F401 - a fixture for every test module
+
 torch.set_num_threads(1)
 
 TINY_SUITE = """\
