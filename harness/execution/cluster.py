@@ -23,9 +23,10 @@ import dask
 import torch
 from distributed import Client, LocalCluster, as_completed, get_worker
 from distributed.scheduler import KilledWorker
+from distributed.utils import CancelledError
 
 import harness
-from harness.errors import InputError
+from harness.errors import InputError, ServiceOutage
 from harness.execution.executed import Executed
 from harness.execution.runs import (
     describe,
@@ -105,7 +106,40 @@ class Cluster:
 
 
 @contextmanager
+def quiet_dask_logs() -> Iterator[None]:
+    """Dask's own log lines (reconnect attempts, tracebacks of the callbacks a lost connection
+    cancels) stay off the terminal while connected: the command says what happened in one."""
+    names = [n for n in logging.root.manager.loggerDict if n.split(".")[0] == "distributed"]
+    loggers = [logging.getLogger(name) for name in ["distributed", *names]]
+    levels = [logger.level for logger in loggers]
+    for logger in loggers:
+        logger.setLevel(logging.CRITICAL)
+    try:
+        yield
+    finally:
+        for logger, level in zip(loggers, levels, strict=True):
+            logger.setLevel(level)
+
+
+def scheduler_lost(cluster: Cluster, kept: str) -> ServiceOutage:
+    """The error that ends a command whose scheduler went away (killed, its machine gone):
+    a failing run, not bad input; `kept` says what came back before and is stored."""
+    return ServiceOutage(
+        f"--cluster {cluster.address}: the scheduler stopped answering mid-run (connection "
+        f"lost); {kept}: start the scheduler and its workers again and run the same command "
+        "to do only the rest"
+    )
+
+
+@contextmanager
 def connected(address: str) -> Iterator[Cluster]:
+    """A client of the scheduler at `address` (see connect_client), with Dask's logs quiet."""
+    with quiet_dask_logs(), connect_client(address) as cluster:
+        yield cluster
+
+
+@contextmanager
+def connect_client(address: str) -> Iterator[Cluster]:
     """A client of the scheduler at `address` (or of a throw-away `local:N` cluster) whose
     workers match this machine; errors name the address and come before anything runs."""
     local = _local_cluster(int(address.split(":", 1)[1])) if address.startswith("local:") else None
@@ -176,6 +210,11 @@ def execute_on_cluster(
     try:
         for future in as_completed(futures):
             spec = futures.pop(future)
+            if future.status == "cancelled":  # by the client, when it lost the scheduler
+                left = len(futures) + 1
+                raise scheduler_lost(
+                    cluster, f"{finished} runs finished and are stored, {left} not"
+                )
             if future.status == "error":
                 failures.append(cluster_failure_line(spec, future.exception()))
                 continue
@@ -220,6 +259,8 @@ def run_copies_on_cluster(
     ]
     try:
         return client.gather(futures)
+    except CancelledError:  # by the client, when it lost the scheduler
+        raise scheduler_lost(cluster, "finished trials stay in the tuning database") from None
     except BaseException:
         client.cancel(futures)
         raise
