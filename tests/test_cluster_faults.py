@@ -124,3 +124,26 @@ def test_a_scheduler_killed_mid_tuning_is_one_line_and_exit_3(
         "and its workers again and run the same command to do only the rest"
     )
     assert completed_trials(postgres_store) >= 1
+
+
+def test_threads_must_fit_each_worker_hosts_cores_before_anything_runs(
+    real_cluster, tiny_suite, store_path, capsys
+):
+    """The workers run on this machine, with its cores (they inherit the test's affinity)."""
+    from distributed import Client
+
+    from harness.cli import main
+    from harness.execution.cluster import Cluster
+    from harness.execution.pool import available_cores
+    from harness.execution.worker_cores import check_threads_on_workers
+
+    cores, cluster = available_cores(), real_cluster(1)
+    arguments = ["run", str(tiny_suite), "--cluster", cluster.address, "--store", str(store_path)]
+    assert main([*arguments, "--threads", "1000"]) == 2
+    assert capsys.readouterr().err.strip() == (
+        f"heedful: error: --threads: 1000 threads x 1 worker threads on host 127.0.0.1 need "
+        f"1000 cores, it has {cores}; allowed: --threads <= {cores} on this cluster"
+    )
+    assert not store_path.exists()  # refused before anything ran or was stored
+    with Client(cluster.address, timeout="10s") as client:
+        check_threads_on_workers(Cluster(client, cluster.address), cores)  # fits: no error

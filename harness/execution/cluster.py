@@ -28,6 +28,7 @@ from distributed.utils import CancelledError
 import harness
 from harness.errors import InputError, ServiceOutage
 from harness.execution.executed import Executed
+from harness.execution.reaching import CONNECT_SECONDS
 from harness.execution.runs import (
     describe,
     failure_line,
@@ -41,7 +42,6 @@ from harness.storage import store
 from harness.training.runs import perform
 
 RESUBMISSIONS = 3  # Dask's own default for allowed-failures, stated for local clusters too
-CONNECT_SECONDS = 5
 WORKER_WAIT_SECONDS = 60
 
 
