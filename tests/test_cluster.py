@@ -248,12 +248,12 @@ def failing_on_workers(doomed: str, how: str) -> Callable:
     Defined here, it travels to the workers by value (cloudpickle), monkeypatch and all."""
     real = cluster.train_on_worker
 
-    def train(spec, threads):
+    def train(spec, *given):
         if spec.key == doomed and how == "raise":
             raise RuntimeError("the depot ledger is unreadable")
         if spec.key == doomed:
             os.kill(os.getpid(), signal.SIGKILL)
-        return real(spec, threads)
+        return real(spec, *given)
 
     return train
 

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import copy
 
+import pytest
 import torch
 from torch.autograd import gradcheck
 
@@ -125,3 +126,75 @@ def test_dynamic_scores_by_blocks_match_finite_differences(monkeypatch):
     assert gradcheck(
         lambda e: sparse_dynamic.dynamic_scores(source, target, att, e, graph, 0.2), (edge_part,)
     )
+
+
+def test_fused_dynamic_attention_matches_torch_pieces():
+    """The fused C loop (float32) against the same attention from the torch pieces (block-wise
+    scores, segment softmax, mask, aggregate): output and every gradient, with and without
+    edge parts and a dropout mask, on one thread and on three ranges of targets."""
+    from harness.models import sparse_fused, sparse_native
+    from harness.models.sparse_dynamic import dynamic_scores
+
+    if sparse_native.library() is None:
+        pytest.skip("no C compiler on this machine: the fused loop is not built")
+    graph = target_graph(EDGES, NODES)
+    inputs = [torch.randn(NODES, 3, 2), torch.randn(NODES, 3, 2), torch.randn(1, 3, 2)]
+    edge_part, grad = torch.randn(graph.edges, 3, 2), torch.randn(NODES, 3, 2)
+    mask = (torch.rand(3, graph.edges) > 0.3).float() / 0.7
+
+    def output_and_gradients(fused: bool, part, keep) -> list[torch.Tensor]:  # noqa: ANN001
+        leaves = [t.clone().requires_grad_() for t in (*inputs, *([] if part is None else [part]))]
+        source, target, att, part = (*leaves, None)[:4]
+        if fused:
+            out = sparse_fused.dynamic_attention_kernel(source, target, att, part, keep, graph, 0.2)
+        else:
+            weights = segment_softmax(dynamic_scores(source, target, att, part, graph, 0.2), graph)
+            out = aggregate(weights if keep is None else weights * keep, source, graph)
+        out.backward(grad)
+        return [out.detach(), *(leaf.grad for leaf in leaves)]
+
+    assert sparse_native.native(*inputs)
+    threads = torch.get_num_threads()
+    try:
+        for count in (1, 3):
+            torch.set_num_threads(count)
+            assert len(sparse_native.ranges(graph.offsets, count)) == count
+            for part, keep in ((None, None), (edge_part, None), (None, mask), (edge_part, mask)):
+                fused = output_and_gradients(True, part, keep)
+                for one, other in zip(fused, output_and_gradients(False, part, keep), strict=True):
+                    torch.testing.assert_close(one, other)
+    finally:
+        torch.set_num_threads(threads)
+
+
+def test_native_products_match_torch_products(monkeypatch):
+    """The C loops' products over every head at once (float32) against torch's CSR products
+    and sampled products, one head at a time: both directions, on one thread and on three
+    ranges of rows."""
+    from harness.models import sparse_kernel, sparse_native
+
+    if sparse_native.library() is None:
+        pytest.skip("no C compiler on this machine: the C loops are not built")
+    graph = target_graph(EDGES, NODES)
+    weights, dense = torch.rand(3, graph.edges), torch.randn(NODES, 3, 4)
+    left = torch.randn(NODES, 3, 4)
+
+    def products() -> list[torch.Tensor]:
+        return [
+            sparse_kernel.csr_products(weights, dense, graph, transposed=False),
+            sparse_kernel.csr_products(weights, dense, graph, transposed=True),
+            sparse_kernel.sampled_products(left, dense, graph),
+        ]
+
+    threads = torch.get_num_threads()
+    try:
+        for count in (1, 3):
+            torch.set_num_threads(count)
+            native = products()
+            with monkeypatch.context() as patch:
+                patch.setattr(sparse_kernel, "native", lambda *tensors: False)
+                by_torch = products()
+            for one, other in zip(native, by_torch, strict=True):
+                torch.testing.assert_close(one, other)
+    finally:
+        torch.set_num_threads(threads)

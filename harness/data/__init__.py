@@ -39,6 +39,14 @@ SOURCES: dict[str, Callable[[BaseModel], Data | GraphCollection]] = {
 
 
 _CACHE: dict[str, Data | GraphCollection] = {}
+CACHED_GRAPHS = 8
+
+
+def _keep(cache_key: str, graph: Data | GraphCollection) -> None:
+    _CACHE.pop(cache_key, None)
+    if len(_CACHE) >= CACHED_GRAPHS:  # the oldest goes
+        _CACHE.pop(next(iter(_CACHE)))
+    _CACHE[cache_key] = graph
 
 
 def load_graph(section: BaseModel) -> Data | GraphCollection:
@@ -46,7 +54,12 @@ def load_graph(section: BaseModel) -> Data | GraphCollection:
     content."""
     cache_key = section.model_dump_json()
     if cache_key not in _CACHE:
-        if len(_CACHE) >= 8:
-            _CACHE.pop(next(iter(_CACHE)))
-        _CACHE[cache_key] = SOURCES[section.source](section)
+        _keep(cache_key, SOURCES[section.source](section))
     return _CACHE[cache_key]
+
+
+def keep_loaded(section: BaseModel, graph: Data | GraphCollection) -> None:
+    """Make `graph` what load_graph gives for `section` in this process, without reading a
+    file: a cluster worker trains on the graph its submitter loaded and sent (the section
+    pinned, see DataSource.pinned, so that its content digest is the submitter's)."""
+    _keep(section.model_dump_json(), graph)

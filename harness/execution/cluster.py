@@ -15,7 +15,7 @@ import logging
 import uuid
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager, suppress
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -24,8 +24,10 @@ import torch
 from distributed import Client, LocalCluster, as_completed, get_worker
 from distributed.scheduler import KilledWorker
 from distributed.utils import CancelledError
+from pydantic import BaseModel
 
 import harness
+from harness.data import load_graph
 from harness.errors import InputError, ServiceOutage
 from harness.execution.executed import Executed
 from harness.execution.reaching import CONNECT_SECONDS
@@ -37,7 +39,9 @@ from harness.execution.runs import (
     pending,
     record_of,
 )
+from harness.execution.shipping import Shipment, content_of, ship, unpack
 from harness.planning import RunSpec
+from harness.results import RunResult
 from harness.storage import store
 from harness.training.runs import perform
 
@@ -103,6 +107,12 @@ class Cluster:
 
     client: Client
     address: str
+
+    @property
+    def shares_files(self) -> bool:
+        """Whether its workers are processes of this machine, started here (`local:N`): they
+        share its folders, so they cache where this process does."""
+        return self.address.startswith("local:")
 
 
 @contextmanager
@@ -171,11 +181,16 @@ def connect_client(address: str) -> Iterator[Cluster]:
                 local.close(timeout=5)
 
 
-def train_on_worker(spec: RunSpec, threads: int) -> tuple[dict[str, Any], str, dict[str, str]]:
-    """One run on a worker: its store row, and the worker with its fingerprint (a worker that
-    joined after the first check is checked when its result arrives)."""
+def train_on_worker(
+    spec: RunSpec, threads: int, graph: object, own_cache: bool
+) -> tuple[RunResult, str, dict[str, str]]:
+    """One run on a worker, on the graph the submitter sent for its (pinned) data section: its
+    result, and the worker with its fingerprint (a worker that joined after the first check is
+    checked when its result arrives)."""
     torch.set_num_threads(threads)
-    return record_of(spec, perform(spec)), get_worker().address, fingerprint()
+    folder = unpack([spec.data], [graph], own_cache)
+    on_worker = spec if folder is None else replace(spec, hop_cache=folder)  # not in the key
+    return perform(on_worker), get_worker().address, fingerprint()
 
 
 def cluster_failure_line(spec: RunSpec, error: BaseException) -> str:
@@ -186,6 +201,27 @@ def cluster_failure_line(spec: RunSpec, error: BaseException) -> str:
             "killed); everything else is stored"
         )
     return failure_line(spec, error)
+
+
+def shipped_sections(client: Client, todo: list[RunSpec]) -> tuple[dict[str, Shipment], list[str]]:
+    """Each distinct data section of the runs loaded here and sent to every worker; a section
+    that cannot be loaded is one failure line per run of it (bad input stops them all, naming
+    its first run), as when each run loaded it."""
+    shipments: dict[str, Shipment] = {}
+    errors: dict[str, Exception] = {}
+    failures: list[str] = []
+    for spec in todo:
+        content = content_of(spec.data)
+        if content not in shipments and content not in errors:
+            try:
+                graph = load_graph(spec.data)
+            except Exception as error:
+                errors[content] = error
+            else:
+                shipments[content] = ship(client, spec.data, graph)
+        if content in errors:
+            failures.append(failure_line(spec, errors[content]))
+    return shipments, failures
 
 
 def execute_on_cluster(
@@ -199,14 +235,17 @@ def execute_on_cluster(
     is still running and keeps what is stored."""
     todo = pending(specs, store_path)
     client = cluster.client
+    shipments, failures = shipped_sections(client, todo)
     batch = uuid.uuid4().hex[:8]  # task keys of their own: another submitter's never merge
-    futures = {
-        client.submit(
-            train_on_worker, spec, threads, key=f"heedful-{batch}-{index}", pure=False
-        ): spec
-        for index, spec in enumerate(todo)
-    }
-    finished, failures, interrupted = 0, [], False
+    futures = {}
+    for index, spec in enumerate(todo):
+        if (shipment := shipments.get(content_of(spec.data))) is None:
+            continue  # its data could not be loaded: its line is in failures
+        pinned = replace(spec, data=shipment.section)
+        arguments = (pinned, threads, shipment.graph, not cluster.shares_files)
+        task = f"heedful-{batch}-{index}"
+        futures[client.submit(train_on_worker, *arguments, key=task, pure=False)] = pinned
+    finished, interrupted = 0, False
     try:
         for future in as_completed(futures):
             spec = futures.pop(future)
@@ -218,11 +257,11 @@ def execute_on_cluster(
             if future.status == "error":
                 failures.append(cluster_failure_line(spec, future.exception()))
                 continue
-            record, worker, theirs = future.result()
+            result, worker, theirs = future.result()
             if (line := difference(worker, theirs)) is not None:
                 raise InputError(f"--cluster: {line}")
             try:
-                store.save_run(store_path, record)
+                store.save_run(store_path, record_of(spec, result))  # keyed here, as planned
             except Exception as error:
                 if not out_of_space(error):
                     raise
@@ -240,21 +279,37 @@ def execute_on_cluster(
     return Executed(len(specs), len(specs) - len(todo), finished, interrupted, tuple(failures))
 
 
-def _with_threads(task: Callable[..., Any], arguments: tuple, threads: int) -> Any:
+def _copy_on_worker(
+    task: Callable[..., Any],
+    arguments: tuple,
+    threads: int,
+    sections: list[BaseModel],
+    graphs: list[object],
+    own_cache: bool,
+) -> Any:
     torch.set_num_threads(threads)
+    unpack(sections, graphs, own_cache)
     return task(*arguments)
 
 
 def run_copies_on_cluster(
-    task: Callable[..., Any], arguments: tuple, cluster: Cluster, threads: int = 1
+    task: Callable[..., Any],
+    arguments: tuple,
+    cluster: Cluster,
+    threads: int = 1,
+    data: tuple[BaseModel, ...] = (),
 ) -> list[Any]:
-    """`task(*arguments)` once per worker of the cluster, on `threads` torch threads; their
-    results. Ctrl-C or an error cancels the copies still running."""
+    """`task(*arguments)` once per worker of the cluster, on `threads` torch threads, with the
+    graphs of the (pinned) data sections `data` sent from here; their results. Ctrl-C or an
+    error cancels the copies still running."""
     client = cluster.client
     count = max(1, len(client.scheduler_info()["workers"]))
+    shipments = [ship(client, section, load_graph(section)) for section in data]
+    sections, graphs = [s.section for s in shipments], [s.graph for s in shipments]
     batch = uuid.uuid4().hex[:8]
+    shipped = (threads, sections, graphs, not cluster.shares_files)
     futures = [
-        client.submit(_with_threads, task, arguments, threads, key=f"heedful-copy-{batch}-{n}")
+        client.submit(_copy_on_worker, task, arguments, *shipped, key=f"heedful-copy-{batch}-{n}")
         for n in range(count)
     ]
     try:

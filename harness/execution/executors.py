@@ -3,7 +3,8 @@
 An executor runs specs into the store (`execute(specs, store_path, on_finished)`: every spec
 not stored yet, each stored as it ends, a run that raises reported by one line naming it) and
 runs copies of one long task, such as a tuning worker, one per worker (`run_copies(task,
-arguments)`); both executions end in one Executed. `workers_store` says whether its workers
+arguments, data)`: a cluster sends the graphs of `data` to its workers, which read no data
+file); both executions end in one Executed. `workers_store` says whether its workers
 may write the result store themselves; if not, this process stores what they send back. A new
 executor is one class here (set up from the command's Resources) and one entry in EXECUTORS.
 """
@@ -19,6 +20,8 @@ from harness.errors import InputError
 from harness.execution.pool import Workers, check_threads
 
 if TYPE_CHECKING:  # kept light: the run command starts spawned workers before heavy imports
+    from pydantic import BaseModel
+
     from harness.execution.cluster import Cluster
     from harness.execution.executed import Executed
     from harness.planning import RunSpec
@@ -80,8 +83,11 @@ class Executor(Protocol):
         """Every spec not stored yet, trained and stored as each ends; a run that raises is
         one line naming it, a run that raises InputError stops them all."""
 
-    def run_copies(self, task: Callable[..., Any], arguments: tuple) -> list[Any]:
-        """`task(*arguments)` once per worker; their results."""
+    def run_copies(
+        self, task: Callable[..., Any], arguments: tuple, data: tuple[BaseModel, ...] = ()
+    ) -> list[Any]:
+        """`task(*arguments)` once per worker; their results. `data`: the data sections the
+        task loads, pinned (DataSource.pinned); a cluster sends their graphs to its workers."""
 
 
 @dataclass(frozen=True)
@@ -115,8 +121,10 @@ class LocalExecutor:
 
         return local.execute(specs, store_path, self.jobs, on_finished, self.workers, self.threads)
 
-    def run_copies(self, task: Callable[..., Any], arguments: tuple) -> list[Any]:
-        from harness.execution import local
+    def run_copies(
+        self, task: Callable[..., Any], arguments: tuple, data: tuple[BaseModel, ...] = ()
+    ) -> list[Any]:
+        from harness.execution import local  # its workers read the data files of this machine
 
         return local.run_copies(task, arguments, self.jobs, self.threads)
 
@@ -160,10 +168,12 @@ class ClusterExecutor:
             specs, store_path, self.cluster, self.threads, on_finished
         )
 
-    def run_copies(self, task: Callable[..., Any], arguments: tuple) -> list[Any]:
+    def run_copies(
+        self, task: Callable[..., Any], arguments: tuple, data: tuple[BaseModel, ...] = ()
+    ) -> list[Any]:
         from harness.execution import cluster
 
-        return cluster.run_copies_on_cluster(task, arguments, self.cluster, self.threads)
+        return cluster.run_copies_on_cluster(task, arguments, self.cluster, self.threads, data)
 
 
 EXECUTORS: dict[str, type[Executor]] = {"local": LocalExecutor, "cluster": ClusterExecutor}

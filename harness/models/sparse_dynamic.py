@@ -6,8 +6,9 @@ make several passes over edges x heads x C floats through memory, forward and ba
 autograd keeps them). Here each block of edges is formed, used and dropped while it is still
 in cache, and the backward pass forms it again:
     g_h = g_s a * LeakyReLU'(h),  g_x_s[j] += g_h,  g_x_t[i] += g_h,  g_a += sum g_s LeakyReLU(h)
-Compiled code takes the plain form instead (harness.models.sparse_layers), which the compiler
-fuses into one loop by itself.
+This is the path for dtypes other than float32, or where no C compiler is found; float32
+otherwise takes the C loops (harness.models.sparse_fused). Compiled code without them takes
+the plain form (harness.models.sparse_layers), which the compiler fuses into one loop by itself.
 """
 
 from __future__ import annotations

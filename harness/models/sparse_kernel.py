@@ -23,6 +23,8 @@ from dataclasses import dataclass
 import torch
 from torch import Tensor
 
+from harness.models.sparse_native import heads_product, heads_sampled, heads_scatter, native
+
 BETA_WARNING = "Sparse CSR tensor support is in beta"
 
 
@@ -33,8 +35,9 @@ class TargetGraph:
 
     `order[k]` is the given position of the k-th edge in target order (for per-edge inputs
     such as edge attributes, and to report weights in the given order); `back_order[k]` the
-    target-order position of the k-th edge in source order. Indices are int32 where the CSR
-    products take them (the MKL products are faster on them), int64 where torch indexes.
+    target-order position of the k-th edge in source order. Indices are int32 where torch's CSR
+    products take them (the MKL products are faster on them), int64 where torch and the C loops
+    (harness.models.sparse_native) index.
     """
 
     nodes: int
@@ -136,6 +139,10 @@ def repeat_to_edges(node_values: Tensor, graph: TargetGraph) -> Tensor:
 
 def csr_products(weights: Tensor, dense: Tensor, graph: TargetGraph, transposed: bool) -> Tensor:
     """Per head h: A_h @ dense[:, h] (or A_h^T @ ...): weights [H, E], dense [N, H, C]."""
+    if native(weights, dense):  # every head in one pass of the C loops
+        if transposed:  # from each target to its sources, the edges still in target order
+            return heads_scatter(graph.offsets, graph.source_index, weights, dense)
+        return heads_product(graph.offsets, graph.source_index, weights, dense)
     if transposed:
         weights = weights.index_select(1, graph.back_order)
     products = [
@@ -147,6 +154,8 @@ def csr_products(weights: Tensor, dense: Tensor, graph: TargetGraph, transposed:
 
 def sampled_products(left: Tensor, right: Tensor, graph: TargetGraph) -> Tensor:
     """<left_i, right_j> on every edge j -> i, per head: [N, H, C] x [N, H, C] -> [H, E]."""
+    if native(left, right):
+        return heads_sampled(graph.offsets, graph.source_index, left, right)
     pattern = graph.matrix(left.new_zeros(graph.edges))  # beta = 0 still reads them: no NaN
     products = [
         torch.sparse.sampled_addmm(

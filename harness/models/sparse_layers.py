@@ -26,6 +26,7 @@ from torch.nn import functional
 from torch_geometric.nn import GATConv, GATv2Conv, TransformerConv
 
 from harness.models.sparse_dynamic import dynamic_scores
+from harness.models.sparse_fused import dynamic_attention_kernel
 from harness.models.sparse_kernel import (
     TargetGraph,
     aggregate,
@@ -35,6 +36,7 @@ from harness.models.sparse_kernel import (
     segment_softmax,
     segment_sum,
 )
+from harness.models.sparse_native import native
 from harness.models.sparse_static import static_attention_kernel
 
 
@@ -79,6 +81,14 @@ def pair_sum(
     return total if edge_part is None else total + edge_part
 
 
+def dropout_mask(layer: nn.Module, x: Tensor, graph: TargetGraph) -> Tensor | None:
+    """The attention dropout mask [H, E] (0 or 1 / (1 - p)), drawn as `weigh` draws it; None
+    when nothing drops."""
+    if not (layer.training and layer.dropout > 0):
+        return None
+    return functional.dropout(x.new_ones(layer.heads, graph.edges), layer.dropout)
+
+
 def static_attention(
     layer: GATConv, x: Tensor, graph: TargetGraph, edge_attr: Tensor | None = None
 ) -> Tensor:
@@ -87,10 +97,7 @@ def static_attention(
     at_target = (projected * layer.att_dst).sum(-1)
     edges = edge_features(layer, edge_attr, graph)
     if edges is None:  # scores from node parts only: the kernel's own backward
-        keep = None
-        if layer.training and layer.dropout > 0:
-            keep = functional.dropout(x.new_ones(layer.heads, graph.edges), layer.dropout)
-        slope = layer.negative_slope
+        keep, slope = dropout_mask(layer, x, graph), layer.negative_slope
         out = static_attention_kernel(from_source, at_target, projected, graph, slope, keep)
         return finish(layer, out, x)
     scores = pair_sum(from_source, at_target, graph, (edges * layer.att_edge).sum(-1).t())
@@ -104,6 +111,11 @@ def dynamic_attention(
     source = by_head(layer, layer.lin_l, x)
     target = source if layer.share_weights else by_head(layer, layer.lin_r, x)
     edges = edge_features(layer, edge_attr, graph)
+    if native(source, target, edges):  # scores, softmax and messages in one C pass
+        keep = dropout_mask(layer, x, graph)
+        slope = layer.negative_slope
+        out = dynamic_attention_kernel(source, target, layer.att, edges, keep, graph, slope)
+        return finish(layer, out, x)
     if torch.compiler.is_compiling():  # the compiler fuses the plain form into one loop
         hidden = pair_sum(source, target, graph, edges)
         scores = (functional.leaky_relu(hidden, layer.negative_slope) * layer.att).sum(-1).t()

@@ -5,12 +5,14 @@ from __future__ import annotations
 import hashlib
 import math
 import re
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
-from typing import ClassVar, Literal
+from typing import Any, ClassVar, Literal, Self
 
 from pydantic import (
     Field,
+    PrivateAttr,
     ValidationInfo,
     computed_field,
     field_validator,
@@ -113,6 +115,26 @@ class DataSource(StrictModel):
     generated: ClassVar[bool] = False
     # whether it gives a collection of small graphs, one label each (graph classification)
     many_graphs: ClassVar[bool] = False
+    # what `pinned` read from the data files; None: read them whenever asked
+    _file_facts: dict[str, Any] | None = PrivateAttr(None)
+
+    def file_fact(self, name: str, read: Callable[[], Any]) -> Any:
+        """A fact about the section's files (a content digest, a row count): read now, or the
+        value a pinned copy kept."""
+        if self._file_facts is not None and name in self._file_facts:
+            return self._file_facts[name]
+        return read()
+
+    def pinned(self) -> Self:
+        """A copy that keeps the facts read from its files now (content digests, declared
+        edges), so it names the same data, run keys included, on a machine that cannot read
+        those files or reads other files at the same paths (a cluster worker)."""
+        facts = {"declared_edges": self.declared_edges()}
+        if "content_digest" in type(self).model_computed_fields:
+            facts["content_digest"] = self.content_digest
+        copy = self.model_copy()
+        copy._file_facts = facts
+        return copy
 
     def declared_edges(self) -> int | None:
         """Directed edges the section will give, known before loading it; None if unknown."""
@@ -341,11 +363,14 @@ class TableData(DataSource):
     @computed_field  # part of the run key: changed files mean new runs
     @property
     def content_digest(self) -> str:
-        return file_digest(self.nodes) + file_digest(self.edges)
+        return self.file_fact(
+            "content_digest", lambda: file_digest(self.nodes) + file_digest(self.edges)
+        )
 
     def declared_edges(self) -> int:
         """Edge rows, twice when undirected (each row is both directions)."""
-        return table_rows(self.edges) * (1 if self.directed else 2)
+        both_ways = 1 if self.directed else 2
+        return self.file_fact("declared_edges", lambda: table_rows(self.edges) * both_ways)
 
     def declares_edge_attributes(self) -> bool | None:
         return self.edge_feature_columns is not None or self.edge_feature_prefix is not None

@@ -63,7 +63,7 @@ class MoleculeData(GraphsSource):
     @computed_field(description="Content digest of the file; part of the run key.")
     @property
     def content_digest(self) -> str:
-        return file_digest(self.file)
+        return self.file_fact("content_digest", lambda: file_digest(self.file))
 
     def declares_edge_attributes(self) -> bool | None:
         return True  # bond type, stereo and conjugation, one-hot
@@ -109,7 +109,8 @@ class GraphTablesData(GraphsSource):
     @computed_field(description="Content digest of the three files; part of the run key.")
     @property
     def content_digest(self) -> str:
-        return file_digest(self.nodes) + file_digest(self.edges) + file_digest(self.graphs)
+        files = (self.nodes, self.edges, self.graphs)
+        return self.file_fact("content_digest", lambda: "".join(map(file_digest, files)))
 
 
 class MotifGraphsData(GraphsSource):

@@ -93,9 +93,8 @@ MODEL_KINDS: dict[str, ModelKind] = {
         VECTOR_SCORES,
         **ATTENDING,
         layer=f"{LAYERS}:dynamic_layer",
-        # the compiler fuses its edge-wise score vectors: 26 s saved per epoch on 2.1M edges
-        # after a 583 s compile, 22 epochs (docs/performance.md)
-        sparse_compile_payback=46e6,
+        # no sparse_compile_payback: on the sparse kernel its edge-wise steps are one C pass
+        # that compiled code calls as it is, so compiling saves little (docs/performance.md)
     ),
     "dot_product": ModelKind(
         AttentionOptions,

@@ -170,7 +170,9 @@ def tune(
         storage_url, tuning.heartbeat_seconds, tuning.grace_seconds, checked=True
     )  # opened early: the command checked it
     on_workers = store_path if executor.workers_store else None
-    outcomes = executor.run_copies(work, (suite, on_workers, storage_url))
+    # pinned: every worker plans the same runs and study names, whatever files it sees
+    suite = suite.model_copy(update={"data": suite.data.pinned()})
+    outcomes = executor.run_copies(work, (suite, on_workers, storage_url), (suite.data,))
     if on_workers is not None:
         return outcomes[0]  # the outcome all of them agree on
     name = repeats_study_name(suite, tuning_plan(suite))
