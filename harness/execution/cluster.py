@@ -28,9 +28,9 @@ from pydantic import BaseModel
 
 import harness
 from harness.data import load_graph
-from harness.errors import InputError, ServiceOutage
+from harness.errors import InputError
 from harness.execution.executed import Executed
-from harness.execution.reaching import CONNECT_SECONDS
+from harness.execution.reaching import CONNECT_SECONDS, quiet_dask_logs, scheduler_lost
 from harness.execution.runs import (
     describe,
     failure_line,
@@ -113,32 +113,6 @@ class Cluster:
         """Whether its workers are processes of this machine, started here (`local:N`): they
         share its folders, so they cache where this process does."""
         return self.address.startswith("local:")
-
-
-@contextmanager
-def quiet_dask_logs() -> Iterator[None]:
-    """Dask's own log lines (reconnect attempts, tracebacks of the callbacks a lost connection
-    cancels) stay off the terminal while connected: the command says what happened in one."""
-    names = [n for n in logging.root.manager.loggerDict if n.split(".")[0] == "distributed"]
-    loggers = [logging.getLogger(name) for name in ["distributed", *names]]
-    levels = [logger.level for logger in loggers]
-    for logger in loggers:
-        logger.setLevel(logging.CRITICAL)
-    try:
-        yield
-    finally:
-        for logger, level in zip(loggers, levels, strict=True):
-            logger.setLevel(level)
-
-
-def scheduler_lost(cluster: Cluster, kept: str) -> ServiceOutage:
-    """The error that ends a command whose scheduler went away (killed, its machine gone):
-    a failing run, not bad input; `kept` says what came back before and is stored."""
-    return ServiceOutage(
-        f"--cluster {cluster.address}: the scheduler stopped answering mid-run (connection "
-        f"lost); {kept}: start the scheduler and its workers again and run the same command "
-        "to do only the rest"
-    )
 
 
 @contextmanager
@@ -251,9 +225,8 @@ def execute_on_cluster(
             spec = futures.pop(future)
             if future.status == "cancelled":  # by the client, when it lost the scheduler
                 left = len(futures) + 1
-                raise scheduler_lost(
-                    cluster, f"{finished} runs finished and are stored, {left} not"
-                )
+                kept = f"{finished} runs finished and are stored, {left} not"
+                raise scheduler_lost(cluster.address, kept)
             if future.status == "error":
                 failures.append(cluster_failure_line(spec, future.exception()))
                 continue
@@ -315,7 +288,8 @@ def run_copies_on_cluster(
     try:
         return client.gather(futures)
     except CancelledError:  # by the client, when it lost the scheduler
-        raise scheduler_lost(cluster, "finished trials stay in the tuning database") from None
+        kept = "finished trials stay in the tuning database"
+        raise scheduler_lost(cluster.address, kept) from None
     except BaseException:
         client.cancel(futures)
         raise

@@ -1,4 +1,6 @@
-"""Whether a Dask scheduler answers at an address, within one stated wait (CONNECT_SECONDS).
+"""Reaching a Dask scheduler, and losing it.
+
+Whether a scheduler answers at an address is asked within one stated wait (CONNECT_SECONDS).
 
 Dask's Client gives its `timeout` to each step of connecting in turn (the connection, its
 handshake, the first request), and reads the handshake without a limit, so a port that
@@ -9,8 +11,11 @@ before the command's heavy imports, so that the answer comes soon after the comm
 from __future__ import annotations
 
 import asyncio
+import logging
+from collections.abc import Iterator
+from contextlib import contextmanager
 
-from harness.errors import InputError
+from harness.errors import InputError, ServiceOutage
 
 CONNECT_SECONDS = 5  # docs/clusters.md states it
 LAST_WORD_SECONDS = 0.5  # Dask's own deadline comes first, with its reason (refused, unknown host)
@@ -48,4 +53,30 @@ def reach_scheduler(address: str) -> None:
     raise InputError(
         f"--cluster {address}: no Dask scheduler answered within {seconds:g} s ({reason}); "
         "allowed: the address of a running scheduler, such as tcp://10.0.0.5:8786, or local:N"
+    )
+
+
+@contextmanager
+def quiet_dask_logs() -> Iterator[None]:
+    """Dask's own log lines (reconnect attempts, tracebacks of the callbacks a lost connection
+    cancels) stay off the terminal while connected: the command says what happened in one."""
+    names = [n for n in logging.root.manager.loggerDict if n.split(".")[0] == "distributed"]
+    loggers = [logging.getLogger(name) for name in ["distributed", *names]]
+    levels = [logger.level for logger in loggers]
+    for logger in loggers:
+        logger.setLevel(logging.CRITICAL)
+    try:
+        yield
+    finally:
+        for logger, level in zip(loggers, levels, strict=True):
+            logger.setLevel(level)
+
+
+def scheduler_lost(address: str, kept: str) -> ServiceOutage:
+    """The error that ends a command whose scheduler went away (killed, its machine gone):
+    a failing run, not bad input; `kept` says what came back before and is stored."""
+    return ServiceOutage(
+        f"--cluster {address}: the scheduler stopped answering mid-run (connection lost); "
+        f"{kept}: start the scheduler and its workers again and run the same command to do "
+        "only the rest"
     )
