@@ -74,8 +74,8 @@ source = "synthetic"
 nodes = 80
 graph_seed = 5
 [training]
-epochs = 300
-patience = 300
+epochs = 150
+patience = 150
 [contenders.attention]
 model = "gat"
 hidden = 4

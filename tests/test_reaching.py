@@ -38,6 +38,7 @@ def listener() -> Iterator[tuple[str, list[bytes]]]:
     try:
         yield f"tcp://127.0.0.1:{server.getsockname()[1]}", replies
     finally:
+        server.shutdown(socket.SHUT_RDWR)  # wakes the accept() waiting in the thread
         server.close()
         for connection in held:
             connection.close()
