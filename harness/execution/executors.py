@@ -145,7 +145,12 @@ class ClusterExecutor:
         if address.startswith("local:"):  # its worker processes share this machine's cores
             workers = int(address.split(":", 1)[1])
             check_threads(workers, given.threads, f"--cluster {address}", "workers")
-        return cls(given.cluster.connect(), given.threads)
+            return cls(given.cluster.connect(), given.threads)
+        from harness.execution.worker_cores import check_threads_on_workers
+
+        cluster = given.cluster.connect()
+        check_threads_on_workers(cluster, given.threads)  # each host's workers share its cores
+        return cls(cluster, given.threads)
 
     @property
     def where(self) -> str:
