@@ -147,3 +147,27 @@ def test_threads_must_fit_each_worker_hosts_cores_before_anything_runs(
     assert not store_path.exists()  # refused before anything ran or was stored
     with Client(cluster.address, timeout="10s") as client:
         check_threads_on_workers(Cluster(client, cluster.address), cores)  # fits: no error
+
+
+def test_a_scheduler_lost_between_two_executions_stops_the_next_at_once(
+    real_cluster, tiny_suite, store_path
+):
+    """As between a suite's runs and its homophily map: Dask would wait without end on the
+    futures of a client that lost its scheduler; the next execution is refused instead."""
+    from harness.errors import ServiceOutage
+    from harness.execution.cluster import connected
+    from harness.execution.executors import ClusterExecutor
+
+    cluster = real_cluster(1)
+    specs = expand(load_suite(tiny_suite))
+    with connected(cluster.address) as link:
+        kill_group(cluster.scheduler)
+        wait_for(lambda: link.client.status != "running", lambda: None, "the client kept it")
+        with pytest.raises(ServiceOutage) as stopped:
+            ClusterExecutor(link).execute(specs, store_path)
+    assert str(stopped.value) == (
+        f"--cluster {cluster.address}: the scheduler stopped answering mid-run (connection "
+        "lost); stored runs are kept: start the scheduler and its workers again and run the "
+        "same command to do only the rest"
+    )
+    assert not store_path.exists()

@@ -14,8 +14,12 @@ import asyncio
 import logging
 from collections.abc import Iterator
 from contextlib import contextmanager
+from typing import TYPE_CHECKING
 
 from harness.errors import InputError, ServiceOutage
+
+if TYPE_CHECKING:
+    from distributed import Client
 
 CONNECT_SECONDS = 5  # docs/clusters.md states it
 LAST_WORD_SECONDS = 0.5  # Dask's own deadline comes first, with its reason (refused, unknown host)
@@ -80,3 +84,18 @@ def scheduler_lost(address: str, kept: str) -> ServiceOutage:
         f"{kept}: start the scheduler and its workers again and run the same command to do "
         "only the rest"
     )
+
+
+@contextmanager
+def holding_scheduler(client: Client, address: str, kept: str) -> Iterator[None]:
+    """A block that uses the cluster: refused at once (scheduler_lost) when the client has
+    lost its scheduler since it connected (Dask waits without end on its futures then), and so
+    is a connection error met in the block once the client has lost it."""
+    if client.status != "running":
+        raise scheduler_lost(address, kept)
+    try:
+        yield
+    except OSError:  # Dask's CommClosedError among them
+        if client.status == "running":
+            raise
+        raise scheduler_lost(address, kept) from None
