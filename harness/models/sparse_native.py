@@ -6,7 +6,8 @@ slice, and a thread barrier per head), and on two threads they ran slower than o
 The loops below take every head in one pass over the edges, reading each source's whole row.
 Threads: the rows are split into `torch.get_num_threads()` ranges of equal edge counts, each
 run by one Python thread (ctypes releases the interpreter lock during the call), each writing
-only its own rows.
+only its own rows; loops that sum into shared rows give each range a buffer of its own, so they
+take at most BUFFERED_RANGES ranges.
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ import ctypes
 import functools
 import hashlib
 import os
+import platform
 import shutil
 import subprocess
 import tempfile
@@ -26,6 +28,7 @@ from torch import Tensor
 
 SOURCE = Path(__file__).with_name("sparse_loops.c")
 FLAGS = ("-O3", "-march=native", "-fno-math-errno", "-shared", "-fPIC")
+BUFFERED_RANGES = 4  # each costs one node-sized buffer (256 MB at 1M nodes, 8 heads x 8)
 
 
 def pointer(tensor: Tensor | None) -> ctypes.c_void_p:
@@ -44,7 +47,8 @@ def library() -> ctypes.CDLL | None:
     if compiler is None or not SOURCE.exists():
         return None
     code = SOURCE.read_text()
-    key = hashlib.sha256((code + " ".join(FLAGS) + compiler).encode()).hexdigest()[:16]
+    machine = platform.machine() + platform.node()  # -march=native: this machine's code only
+    key = hashlib.sha256((code + " ".join(FLAGS) + compiler + machine).encode()).hexdigest()[:16]
     folder = Path(tempfile.gettempdir()) / f"heedful-kernels-{os.getuid()}"
     built = folder / f"sparse_loops_{key}.so"
     if not built.exists():
@@ -119,7 +123,7 @@ def heads_scatter(offsets: Tensor, columns: Tensor, weights: Tensor, dense: Tens
     """
     dense = dense.contiguous()
     heads, width = dense.shape[1:]
-    parts = ranges(offsets, torch.get_num_threads())
+    parts = ranges(offsets, min(torch.get_num_threads(), BUFFERED_RANGES))
     outs = [torch.zeros_like(dense) for _ in range(max(1, len(parts)))]
     head_step, edge_step = weights.stride()
     fixed = [pointer(offsets), pointer(columns), pointer(weights)]
