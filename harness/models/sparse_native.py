@@ -41,25 +41,30 @@ def integers(*values: int) -> list[ctypes.c_int64]:
 
 @functools.cache
 def library() -> ctypes.CDLL | None:
-    """The compiled loops, built on first use into a per-user folder keyed by the source and
-    flags; None where no C compiler is found or the build fails."""
+    """The compiled loops, built on first use into a per-user folder keyed by the source, the
+    flags and the machine; None where no C compiler is found or the build or load fails."""
     compiler = shutil.which(os.environ.get("CC", "gcc")) or shutil.which("cc")
     if compiler is None or not SOURCE.exists():
         return None
     code = SOURCE.read_text()
     machine = platform.machine() + platform.node()  # -march=native: this machine's code only
     key = hashlib.sha256((code + " ".join(FLAGS) + compiler + machine).encode()).hexdigest()[:16]
-    folder = Path(tempfile.gettempdir()) / f"heedful-kernels-{os.getuid()}"
-    built = folder / f"sparse_loops_{key}.so"
-    if not built.exists():
-        folder.mkdir(parents=True, exist_ok=True)
-        with tempfile.TemporaryDirectory(dir=folder) as scratch:
-            partial = Path(scratch) / "loops.so"
-            command = [compiler, *FLAGS, str(SOURCE), "-o", str(partial), "-lm"]
-            if subprocess.run(command, check=False, capture_output=True).returncode != 0:
-                return None
-            os.replace(partial, built)  # atomic: a concurrent process sees all of it or none
-    return ctypes.CDLL(str(built))
+    built = Path(tempfile.gettempdir()) / f"heedful-kernels-{os.getuid()}" / f"loops_{key}.so"
+    try:
+        if not built.exists():
+            build(compiler, built)
+        return ctypes.CDLL(str(built))
+    except (OSError, subprocess.CalledProcessError):  # no writable folder, or the build failed
+        return None
+
+
+def build(compiler: str, built: Path) -> None:
+    built.parent.mkdir(parents=True, exist_ok=True)
+    with tempfile.TemporaryDirectory(dir=built.parent) as scratch:
+        partial = Path(scratch) / "loops.so"
+        command = [compiler, *FLAGS, str(SOURCE), "-o", str(partial), "-lm"]
+        subprocess.run(command, check=True, capture_output=True)
+        os.replace(partial, built)  # atomic: a concurrent process sees all of it or none
 
 
 @torch.compiler.disable  # a file lookup (and a first build), not math to compile
