@@ -223,14 +223,16 @@ def execute_on_cluster(
     try:
         for future in as_completed(futures):
             spec = futures.pop(future)
-            if future.status == "cancelled":  # by the client, when it lost the scheduler
-                left = len(futures) + 1
-                kept = f"{finished} runs finished and are stored, {left} not"
-                raise scheduler_lost(cluster.address, kept)
             if future.status == "error":
                 failures.append(cluster_failure_line(spec, future.exception()))
                 continue
-            result, worker, theirs = future.result()
+            try:
+                result, worker, theirs = future.result()
+            except (CancelledError, OSError):  # cancelled, or cut off, as the scheduler went
+                if client.status == "running":
+                    raise
+                kept = f"{finished} runs finished and are stored, {len(futures) + 1} not"
+                raise scheduler_lost(cluster.address, kept) from None
             if (line := difference(worker, theirs)) is not None:
                 raise InputError(f"--cluster: {line}")
             try:
