@@ -185,3 +185,19 @@ def test_a_scheduler_lost_between_two_executions_stops_the_next_at_once(
         "same command to do only the rest"
     )
     assert not store_path.exists()
+
+
+def test_a_local_cluster_says_nothing_when_another_holds_the_dashboard_port(recwarn):
+    """Dask's scheduler serves HTTP on 8787 unless told otherwise, and warns when another
+    cluster of the machine holds it: two `--cluster local:N` commands at once printed it."""
+    import contextlib
+    import socket
+
+    from harness.execution.cluster import connected
+
+    with contextlib.ExitStack() as held:
+        with contextlib.suppress(OSError):  # held already: by another program, as wanted
+            held.enter_context(socket.create_server(("127.0.0.1", 8787)))
+        with connected("local:1") as cluster:
+            assert cluster.client.run(lambda: 1)  # it runs tasks
+    assert not [w for w in recwarn if "already in use" in str(w.message)]

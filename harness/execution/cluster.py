@@ -97,6 +97,9 @@ def _local_cluster(workers: int) -> LocalCluster:
             threads_per_worker=1,
             processes=True,
             dashboard_address=None,
+            # its scheduler still serves a few HTTP routes, on 8787 unless told: another
+            # cluster of this machine holding that port would make Dask print a warning
+            scheduler_kwargs={"dashboard_address": ":0"},
             silence_logs=logging.ERROR,
         )
 
