@@ -248,11 +248,21 @@ def test_a_lone_last_run_on_a_large_graph_gets_every_core_it_was_given(
 
 
 def children(pid: int) -> list[int]:
-    """Process ids of a process's children (Linux /proc)."""
+    """Process ids of a process's children, whichever of its threads started them (Linux /proc:
+    every process's stat line names its parent). Not read from the parent's per-thread lists,
+    which lose a thread that ends while they are read."""
     found = []
-    for task in Path(f"/proc/{pid}/task").iterdir():
-        found += [int(c) for c in (task / "children").read_text().split()]
-    return found
+    for entry in Path("/proc").iterdir():
+        if not entry.name.isdigit():
+            continue
+        try:
+            stat = (entry / "stat").read_text()
+        except (FileNotFoundError, ProcessLookupError):  # ended since the listing
+            continue
+        # "pid (command) state parent ...": the command may hold spaces and parentheses
+        if int(stat.rsplit(")", 1)[1].split()[1]) == pid:
+            found.append(int(entry.name))
+    return sorted(found)
 
 
 @pytest.mark.skipif(not Path("/proc/self/task").exists(), reason="reads children from /proc")
