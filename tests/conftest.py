@@ -90,6 +90,19 @@ def tiny_suite(write_suite: Callable[..., Path]) -> Path:
 
 
 @pytest.fixture
+def long_suite(tiny_suite_text, write_suite) -> Callable[[int], Path]:
+    """long_suite(epochs): the tiny suite trained for `epochs` epochs without early stopping
+    (600 epochs: 0.6 to 2.4 s a run on an idle machine), so that a signal sent when the first
+    run is stored lands while others still run."""
+
+    def write(epochs: int) -> Path:
+        text = tiny_suite_text.replace("epochs = 15", f"epochs = {epochs}")
+        return write_suite(text.replace("patience = 15", f"patience = {epochs}"), "long.toml")
+
+    return write
+
+
+@pytest.fixture
 def store_path(tmp_path: Path) -> Path:
     """A result store path in tmp_path (the file does not exist yet)."""
     return tmp_path / "store" / "runs.db"

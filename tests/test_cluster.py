@@ -33,19 +33,6 @@ FIGURES = ["val_metric", "test_metric", "test_accuracy", "epochs", "best_epoch",
 RUNS = 6  # the tiny suite's 3 contenders x 2 seeds
 
 
-@pytest.fixture
-def long_suite(tiny_suite_text, write_suite) -> Callable[[int], Path]:
-    """long_suite(epochs): the tiny suite trained for `epochs` epochs without early stopping
-    (600 epochs: 0.6 to 2.4 s a run on an idle machine), so that a signal sent when the first
-    run is stored lands while others still run."""
-
-    def write(epochs: int) -> Path:
-        text = tiny_suite_text.replace("epochs = 15", f"epochs = {epochs}")
-        return write_suite(text.replace("patience = 15", f"patience = {epochs}"), "long.toml")
-
-    return write
-
-
 def stored(store_file: Path) -> pd.DataFrame:
     """The stored runs (read-only), or none while the store is still empty."""
     if not store_file.exists():

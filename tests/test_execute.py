@@ -290,26 +290,26 @@ def test_a_worker_killed_mid_run_is_replaced_and_the_suite_completes(kill_suite,
     assert sorted(stored_rows(store_file)) == sorted(s.key for s in specs)  # each exactly once
 
 
-def killing_perform(doomed: str, real, parent: int):
-    """perform, except that the doomed run kills any worker process that starts it."""
+@pytest.fixture
+def doomed_in_workers(monkeypatch):  # noqa: ANN201 - doomed(spec) marks the run
+    """doomed(spec): that run ends every worker process that starts it (tests/doomed_run.py,
+    loaded by the workers alone); this process would train it as usual."""
 
-    def perform(spec):
-        if spec.key == doomed and os.getpid() != parent:
-            os.kill(os.getpid(), signal.SIGKILL)
-        return real(spec)
+    def doom(spec) -> None:
+        monkeypatch.setenv("DOOMED_RUN_KEY", spec.key)  # inherited by forked and spawned
+        modules = (*harness.execution.local.WORKER_MODULES, "tests.doomed_run")
+        monkeypatch.setattr(harness.execution.local, "WORKER_MODULES", modules)
 
-    return perform
+    return doom
 
 
 def test_a_run_that_kills_its_worker_twice_is_reported_and_the_rest_stored(
-    tiny_suite, store_path, monkeypatch
+    tiny_suite, store_path, doomed_in_workers
 ):
+    """The first worker is forked, its replacement spawned: the run ends both."""
     specs = expand(load_suite(tiny_suite))
-    doomed = specs[0]  # the first run goes to the worker
-    real = harness.execution.runs.perform
-    monkeypatch.setattr(
-        harness.execution.runs, "perform", killing_perform(doomed.key, real, os.getpid())
-    )
+    doomed = specs[0]  # the first run goes to the worker, and a rerun never to this process
+    doomed_in_workers(doomed)
     outcome = execute(specs, store_path, jobs=2)
     assert (outcome.finished, outcome.interrupted) == (len(specs) - 1, False)
     assert [(lost.key, lost.exit_code) for lost in outcome.lost] == [(doomed.key, -9)]
@@ -318,13 +318,10 @@ def test_a_run_that_kills_its_worker_twice_is_reported_and_the_rest_stored(
 
 
 def test_the_run_command_names_the_lost_run_and_exits_3(
-    tiny_suite, store_path, monkeypatch, capsys
+    tiny_suite, store_path, doomed_in_workers, capsys
 ):
     specs = expand(load_suite(tiny_suite))
-    real = harness.execution.runs.perform
-    monkeypatch.setattr(
-        harness.execution.runs, "perform", killing_perform(specs[0].key, real, os.getpid())
-    )
+    doomed_in_workers(specs[0])
     status = main(["run", str(tiny_suite), "--jobs", "2", "--quiet", "--store", str(store_path)])
     assert status == 3
     error = capsys.readouterr().err

@@ -46,6 +46,10 @@ def connected_cluster(address: str | None) -> Iterator[ClusterLink | None]:
     if address is None:
         yield None
         return
+    if not address.startswith("local:"):
+        from harness.execution.reaching import reach_scheduler
+
+        reach_scheduler(address)  # before the heavy imports: an answer within the stated wait
     with ExitStack() as stack:
         yield ClusterLink(address, stack)
 

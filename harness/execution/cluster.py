@@ -23,12 +23,14 @@ import dask
 import torch
 from distributed import Client, LocalCluster, as_completed, get_worker
 from distributed.scheduler import KilledWorker
+from distributed.utils import CancelledError
 from pydantic import BaseModel
 
 import harness
 from harness.data import load_graph
 from harness.errors import InputError
 from harness.execution.executed import Executed
+from harness.execution.reaching import CONNECT_SECONDS, quiet_dask_logs, scheduler_lost
 from harness.execution.runs import (
     describe,
     failure_line,
@@ -45,7 +47,6 @@ from harness.storage import store
 from harness.training.runs import perform
 
 RESUBMISSIONS = 3  # Dask's own default for allowed-failures, stated for local clusters too
-CONNECT_SECONDS = 5
 WORKER_WAIT_SECONDS = 60
 
 
@@ -120,6 +121,13 @@ class Cluster:
 
 @contextmanager
 def connected(address: str) -> Iterator[Cluster]:
+    """A client of the scheduler at `address` (see connect_client), with Dask's logs quiet."""
+    with quiet_dask_logs(), connect_client(address) as cluster:
+        yield cluster
+
+
+@contextmanager
+def connect_client(address: str) -> Iterator[Cluster]:
     """A client of the scheduler at `address` (or of a throw-away `local:N` cluster) whose
     workers match this machine; errors name the address and come before anything runs."""
     local = _local_cluster(int(address.split(":", 1)[1])) if address.startswith("local:") else None
@@ -220,6 +228,10 @@ def execute_on_cluster(
     try:
         for future in as_completed(futures):
             spec = futures.pop(future)
+            if future.status == "cancelled":  # by the client, when it lost the scheduler
+                left = len(futures) + 1
+                kept = f"{finished} runs finished and are stored, {left} not"
+                raise scheduler_lost(cluster.address, kept)
             if future.status == "error":
                 failures.append(cluster_failure_line(spec, future.exception()))
                 continue
@@ -281,6 +293,9 @@ def run_copies_on_cluster(
     ]
     try:
         return client.gather(futures)
+    except CancelledError:  # by the client, when it lost the scheduler
+        kept = "finished trials stay in the tuning database"
+        raise scheduler_lost(cluster.address, kept) from None
     except BaseException:
         client.cancel(futures)
         raise

@@ -145,7 +145,12 @@ class ClusterExecutor:
         if address.startswith("local:"):  # its worker processes share this machine's cores
             workers = int(address.split(":", 1)[1])
             check_threads(workers, given.threads, f"--cluster {address}", "workers")
-        return cls(given.cluster.connect(), given.threads)
+            return cls(given.cluster.connect(), given.threads)
+        from harness.execution.worker_cores import check_threads_on_workers
+
+        cluster = given.cluster.connect()
+        check_threads_on_workers(cluster, given.threads)  # each host's workers share its cores
+        return cls(cluster, given.threads)
 
     @property
     def where(self) -> str:
@@ -158,17 +163,22 @@ class ClusterExecutor:
         on_finished: Callable[[str], None] | None = None,
     ) -> Executed:
         from harness.execution import cluster
+        from harness.execution.reaching import holding_scheduler
 
-        return cluster.execute_on_cluster(
-            specs, store_path, self.cluster, self.threads, on_finished
-        )
+        with holding_scheduler(self.cluster.client, self.cluster.address, "stored runs are kept"):
+            return cluster.execute_on_cluster(
+                specs, store_path, self.cluster, self.threads, on_finished
+            )
 
     def run_copies(
         self, task: Callable[..., Any], arguments: tuple, data: tuple[BaseModel, ...] = ()
     ) -> list[Any]:
         from harness.execution import cluster
+        from harness.execution.reaching import holding_scheduler
 
-        return cluster.run_copies_on_cluster(task, arguments, self.cluster, self.threads, data)
+        kept = "finished trials stay in the tuning database"
+        with holding_scheduler(self.cluster.client, self.cluster.address, kept):
+            return cluster.run_copies_on_cluster(task, arguments, self.cluster, self.threads, data)
 
 
 EXECUTORS: dict[str, type[Executor]] = {"local": LocalExecutor, "cluster": ClusterExecutor}

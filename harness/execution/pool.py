@@ -11,7 +11,6 @@ import os
 import pickle
 import signal
 import sys
-import threading
 from collections.abc import Callable
 from multiprocessing.connection import Connection
 from typing import Any
@@ -46,7 +45,8 @@ def start_method(threads: int) -> str:
     A forked worker inherits the loaded torch and PyG at once; a spawned one imports them again
     (about 4 s, and about 1 s more for both when two processes import at the same time). GNU
     OpenMP is not fork-safe once a parallel region has run, but a one-thread worker never
-    enters one; with more threads, workers are spawned.
+    enters one; with more threads, workers are spawned. Only the first workers start this way,
+    before any other thread trains; a replacement for a dead worker is always spawned.
     """
     return "fork" if threads == 1 and sys.platform.startswith("linux") else "spawn"
 
@@ -94,23 +94,28 @@ class Workers:
     def __init__(self, count: int, threads: int, preload: tuple[str, ...] = ()) -> None:
         self.threads, self.preload = threads, preload
         self.context = multiprocessing.get_context(start_method(threads))
-        self.members = [self.start() for _ in range(count)]
+        self.members = [self.start(self.context) for _ in range(count)]
 
-    def start(self) -> Worker:
-        # workers start with Ctrl-C ignored (inherited, and kept across exec), so none prints a
+    def start(self, context: multiprocessing.context.BaseContext) -> Worker:
+        # Ctrl-C blocked in this thread while a worker starts: the worker inherits the mask
+        # (kept across exec) and ignores Ctrl-C from its first instruction, so none prints a
         # traceback while still starting; this process alone decides what Ctrl-C does
-        main_thread = threading.current_thread() is threading.main_thread()
-        default = signal.signal(signal.SIGINT, signal.SIG_IGN) if main_thread else None
+        before = signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT})
         try:
-            return Worker(self.context, self.threads, self.preload)
+            return Worker(context, self.threads, self.preload)
         finally:
-            if main_thread:
-                signal.signal(signal.SIGINT, default)
+            signal.pthread_sigmask(signal.SIG_SETMASK, before)
 
     def replace(self, dead: Worker) -> Worker:
+        """A spawned worker in place of a dead one.
+
+        Never forked: a replacement starts while another thread of this process trains, and a
+        fork copies the locks that thread holds at that instant, never to be released in the
+        copy (a forked replacement hung in torch.manual_seed, on the random generator's lock).
+        """
         dead.connection.close()
         dead.process.join()
-        fresh = self.start()
+        fresh = self.start(multiprocessing.get_context("spawn"))
         self.members[self.members.index(dead)] = fresh
         return fresh
 

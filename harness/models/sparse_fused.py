@@ -27,7 +27,15 @@ import torch
 from torch import Tensor
 
 from harness.models.sparse_kernel import TargetGraph
-from harness.models.sparse_native import integers, library, pointer, ranges, run_parts
+from harness.models.sparse_native import (
+    BUFFERED_RANGES,
+    integers,
+    library,
+    pointer,
+    ranges,
+    run_parts,
+    sum_into_first,
+)
 
 
 class Inputs(ctypes.Structure):
@@ -72,7 +80,7 @@ def fused_backward(
 ) -> tuple[Tensor, Tensor, Tensor, Tensor | None]:
     """(g_x_s, g_x_t, g_a, g_edge or None) from the output gradient [N, H, C]."""
     source, target, att, edge_part, _ = inputs
-    parts = ranges(graph.offsets, torch.get_num_threads())
+    parts = ranges(graph.offsets, min(torch.get_num_threads(), BUFFERED_RANGES))
     grad_sources = [torch.zeros_like(source) for _ in range(max(1, len(parts)))]
     grad_target, grad_atts = torch.zeros_like(target), att.new_zeros(len(parts) + 1, *att.shape)
     grad_edge = None if edge_part is None else torch.empty_like(edge_part)
@@ -87,10 +95,7 @@ def fused_backward(
             pointer(grad_atts[part]), pointer(grad_edge))  # fmt: skip
 
     run_parts(call, parts)
-    grad_source = grad_sources[0]
-    for other in grad_sources[1:]:
-        grad_source += other
-    return grad_source, grad_target, grad_atts.sum(0), grad_edge
+    return sum_into_first(grad_sources), grad_target, grad_atts.sum(0), grad_edge
 
 
 class DynamicAttention(torch.autograd.Function):

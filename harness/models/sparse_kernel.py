@@ -23,7 +23,7 @@ from dataclasses import dataclass
 import torch
 from torch import Tensor
 
-from harness.models.sparse_native import heads_product, heads_sampled, native
+from harness.models.sparse_native import heads_product, heads_sampled, heads_scatter, native
 
 BETA_WARNING = "Sparse CSR tensor support is in beta"
 
@@ -33,12 +33,11 @@ class TargetGraph:
     """One graph's edges in target order (`pointer`, `sources`: CSR rows and columns), and in
     source order (`back_pointer`, `back_targets`: the transpose), built once per graph.
 
-    `back_offsets` and `back_target_index` are the transpose's rows and columns as int64 (for
-    the C loops, harness.models.sparse_native). `order[k]` is the given position of the k-th
-    edge in target order (for per-edge inputs such as edge attributes, and to report weights in
-    the given order); `back_order[k]` the target-order position of the k-th edge in source
-    order. Indices are int32 where torch's CSR products take them (the MKL products are faster
-    on them), int64 where torch indexes.
+    `order[k]` is the given position of the k-th edge in target order (for per-edge inputs
+    such as edge attributes, and to report weights in the given order); `back_order[k]` the
+    target-order position of the k-th edge in source order. Indices are int32 where torch's CSR
+    products take them (the MKL products are faster on them), int64 where torch and the C loops
+    (harness.models.sparse_native) index.
     """
 
     nodes: int
@@ -52,8 +51,6 @@ class TargetGraph:
     back_pointer: Tensor
     back_targets: Tensor
     back_order: Tensor
-    back_offsets: Tensor
-    back_target_index: Tensor
 
     @property
     def edges(self) -> int:
@@ -83,7 +80,6 @@ def target_graph(edge_index: Tensor, nodes: int) -> TargetGraph:
     torch.cumsum(degree, 0, out=offsets[1:])
     back_offsets = torch.zeros(nodes + 1, dtype=torch.long)
     torch.cumsum(torch.bincount(sources, minlength=nodes), 0, out=back_offsets[1:])
-    back_targets = targets[back_order]
     return TargetGraph(
         nodes=nodes,
         pointer=offsets.to(index),
@@ -94,10 +90,8 @@ def target_graph(edge_index: Tensor, nodes: int) -> TargetGraph:
         offsets=offsets,
         order=order,
         back_pointer=back_offsets.to(index),
-        back_targets=back_targets.to(index),
+        back_targets=targets[back_order].to(index),
         back_order=back_order,
-        back_offsets=back_offsets,
-        back_target_index=back_targets,
     )
 
 
@@ -146,9 +140,8 @@ def repeat_to_edges(node_values: Tensor, graph: TargetGraph) -> Tensor:
 def csr_products(weights: Tensor, dense: Tensor, graph: TargetGraph, transposed: bool) -> Tensor:
     """Per head h: A_h @ dense[:, h] (or A_h^T @ ...): weights [H, E], dense [N, H, C]."""
     if native(weights, dense):  # every head in one pass of the C loops
-        if transposed:  # the weights in source order first: each head read in sequence
-            weights = weights.index_select(1, graph.back_order)
-            return heads_product(graph.back_offsets, graph.back_target_index, weights, dense)
+        if transposed:  # from each target to its sources, the edges still in target order
+            return heads_scatter(graph.offsets, graph.source_index, weights, dense)
         return heads_product(graph.offsets, graph.source_index, weights, dense)
     if transposed:
         weights = weights.index_select(1, graph.back_order)

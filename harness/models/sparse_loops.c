@@ -10,6 +10,14 @@
 
 #define AHEAD 8 /* edges ahead whose source rows are fetched early: the reads are random */
 
+/* ask for the row (`row` floats) of the node AHEAD entries after entry k, from `rows` */
+static inline void fetch(const float *rows, const int64_t *columns, int64_t k, int64_t end,
+                         int64_t row) {
+    if (k + AHEAD < end)
+        for (int64_t c = 0; c < row; c += 16)
+            __builtin_prefetch(rows + columns[k + AHEAD] * row + c);
+}
+
 /* out[r, h, :] = sum_k weights[k, h] dense[columns[k], h, :] over k = pointer[r] ..
  * pointer[r + 1] - 1, for the rows first .. last - 1: per head the CSR product
  * A_h dense[:, h], every head in one pass. weights[k, h] is at k * edge_step +
@@ -24,10 +32,30 @@ void heads_product(const int64_t *restrict pointer, const int64_t *restrict colu
         float *restrict total = out + r * row;
         for (int64_t c = 0; c < row; ++c) total[c] = 0.0f;
         for (int64_t k = pointer[r]; k < pointer[r + 1]; ++k) {
-            if (k + AHEAD < end)
-                for (int64_t c = 0; c < row; c += 16)
-                    __builtin_prefetch(dense + columns[k + AHEAD] * row + c);
+            fetch(dense, columns, k, end, row);
             const float *restrict values = dense + columns[k] * row;
+            const float *restrict weight = weights + k * edge_step;
+            for (int64_t h = 0; h < heads; ++h) {
+                const float w = weight[h * head_step];
+                for (int64_t c = h * width; c < (h + 1) * width; ++c) total[c] += w * values[c];
+            }
+        }
+    }
+}
+
+/* out[columns[k], h, :] += weights[k, h] dense[r, h, :] for the entries k of the rows r =
+ * first .. last - 1: the transposed product A_h^T dense[:, h] without sorting the entries by
+ * column; out [N, H, width] is this range's own (columns are shared between ranges). */
+void heads_scatter(const int64_t *restrict pointer, const int64_t *restrict columns,
+                   const float *restrict weights, int64_t edge_step, int64_t head_step,
+                   const float *restrict dense, int64_t heads, int64_t width, int64_t first,
+                   int64_t last, float *restrict out) {
+    const int64_t row = heads * width, end = pointer[last];
+    for (int64_t r = first; r < last; ++r) {
+        const float *restrict values = dense + r * row;
+        for (int64_t k = pointer[r]; k < pointer[r + 1]; ++k) {
+            fetch(out, columns, k, end, row);
+            float *restrict total = out + columns[k] * row;
             const float *restrict weight = weights + k * edge_step;
             for (int64_t h = 0; h < heads; ++h) {
                 const float w = weight[h * head_step];
@@ -46,9 +74,7 @@ void heads_sampled(const int64_t *restrict pointer, const int64_t *restrict colu
     for (int64_t i = first; i < last; ++i) {
         const float *restrict at_left = left + i * row;
         for (int64_t k = pointer[i]; k < pointer[i + 1]; ++k) {
-            if (k + AHEAD < end)
-                for (int64_t c = 0; c < row; c += 16)
-                    __builtin_prefetch(right + columns[k + AHEAD] * row + c);
+            fetch(right, columns, k, end, row);
             const float *restrict at_right = right + columns[k] * row;
             for (int64_t h = 0; h < heads; ++h) {
                 float total = 0.0f;
@@ -71,14 +97,6 @@ typedef struct {
     int64_t heads, width;
     float slope;
 } Inputs;
-
-/* ask for the row of the source AHEAD edges on, from `rows` (x_s, or a gradient to write) */
-static inline void fetch(const float *rows, const Inputs *in, int64_t k, int64_t end,
-                         int64_t row) {
-    if (k + AHEAD < end)
-        for (int64_t c = 0; c < row; c += 16)
-            __builtin_prefetch(rows + in->sources[k + AHEAD] * row + c);
-}
 
 /* x_s[j] + x_t[i] (+ e_ij) for edge k into i */
 static inline void form(const Inputs *in, int64_t i, int64_t k, int64_t row,
@@ -107,7 +125,7 @@ void dynamic_attention_forward(const Inputs *in, int64_t first, int64_t last, fl
         const int64_t begin = in->offsets[i], stop = in->offsets[i + 1];
         for (int64_t h = 0; h < heads; ++h) top[h] = -INFINITY, total[h] = 0.0f;
         for (int64_t k = begin; k < stop; ++k) {
-            fetch(in->source, in, k, end, row);
+            fetch(in->source, in->sources, k, end, row);
             form(in, i, k, row, hidden);
             for (int64_t c = 0; c < row; ++c)
                 hidden[c] = att[c] * (hidden[c] > 0.0f ? hidden[c] : hidden[c] * slope);
@@ -156,7 +174,7 @@ void dynamic_attention_backward(const Inputs *in, int64_t first, int64_t last,
         const float *restrict at_grad = grad + i * row;
         for (int64_t h = 0; h < heads; ++h) centre[h] = 0.0f;
         for (int64_t k = begin; k < stop; ++k) {
-            fetch(in->source, in, k, end, row);
+            fetch(in->source, in->sources, k, end, row);
             const float *restrict message = in->source + in->sources[k] * row;
             for (int64_t h = 0; h < heads; ++h) {
                 float product = 0.0f;

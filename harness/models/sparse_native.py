@@ -6,7 +6,8 @@ slice, and a thread barrier per head), and on two threads they ran slower than o
 The loops below take every head in one pass over the edges, reading each source's whole row.
 Threads: the rows are split into `torch.get_num_threads()` ranges of equal edge counts, each
 run by one Python thread (ctypes releases the interpreter lock during the call), each writing
-only its own rows.
+only its own rows; loops that sum into shared rows give each range a buffer of its own, so they
+take at most BUFFERED_RANGES ranges.
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ import ctypes
 import functools
 import hashlib
 import os
+import platform
 import shutil
 import subprocess
 import tempfile
@@ -26,6 +28,7 @@ from torch import Tensor
 
 SOURCE = Path(__file__).with_name("sparse_loops.c")
 FLAGS = ("-O3", "-march=native", "-fno-math-errno", "-shared", "-fPIC")
+BUFFERED_RANGES = 4  # each costs one node-sized buffer (256 MB at 1M nodes, 8 heads x 8)
 
 
 def pointer(tensor: Tensor | None) -> ctypes.c_void_p:
@@ -38,24 +41,30 @@ def integers(*values: int) -> list[ctypes.c_int64]:
 
 @functools.cache
 def library() -> ctypes.CDLL | None:
-    """The compiled loops, built on first use into a per-user folder keyed by the source and
-    flags; None where no C compiler is found or the build fails."""
+    """The compiled loops, built on first use into a per-user folder keyed by the source, the
+    flags and the machine; None where no C compiler is found or the build or load fails."""
     compiler = shutil.which(os.environ.get("CC", "gcc")) or shutil.which("cc")
     if compiler is None or not SOURCE.exists():
         return None
     code = SOURCE.read_text()
-    key = hashlib.sha256((code + " ".join(FLAGS) + compiler).encode()).hexdigest()[:16]
-    folder = Path(tempfile.gettempdir()) / f"heedful-kernels-{os.getuid()}"
-    built = folder / f"sparse_loops_{key}.so"
-    if not built.exists():
-        folder.mkdir(parents=True, exist_ok=True)
-        with tempfile.TemporaryDirectory(dir=folder) as scratch:
-            partial = Path(scratch) / "loops.so"
-            command = [compiler, *FLAGS, str(SOURCE), "-o", str(partial), "-lm"]
-            if subprocess.run(command, check=False, capture_output=True).returncode != 0:
-                return None
-            os.replace(partial, built)  # atomic: a concurrent process sees all of it or none
-    return ctypes.CDLL(str(built))
+    machine = platform.machine() + platform.node()  # -march=native: this machine's code only
+    key = hashlib.sha256((code + " ".join(FLAGS) + compiler + machine).encode()).hexdigest()[:16]
+    built = Path(tempfile.gettempdir()) / f"heedful-kernels-{os.getuid()}" / f"loops_{key}.so"
+    try:
+        if not built.exists():
+            build(compiler, built)
+        return ctypes.CDLL(str(built))
+    except (OSError, subprocess.CalledProcessError):  # no writable folder, or the build failed
+        return None
+
+
+def build(compiler: str, built: Path) -> None:
+    built.parent.mkdir(parents=True, exist_ok=True)
+    with tempfile.TemporaryDirectory(dir=built.parent) as scratch:
+        partial = Path(scratch) / "loops.so"
+        command = [compiler, *FLAGS, str(SOURCE), "-o", str(partial), "-lm"]
+        subprocess.run(command, check=True, capture_output=True)
+        os.replace(partial, built)  # atomic: a concurrent process sees all of it or none
 
 
 @torch.compiler.disable  # a file lookup (and a first build), not math to compile
@@ -110,6 +119,33 @@ def heads_product(offsets: Tensor, columns: Tensor, weights: Tensor, dense: Tens
 
     run_parts(call, ranges(offsets, torch.get_num_threads()))
     return out
+
+
+def heads_scatter(offsets: Tensor, columns: Tensor, weights: Tensor, dense: Tensor) -> Tensor:
+    """out[columns[k], h] += weights[h, k] dense[r, h] over row r's entries k: the transposed
+    product, weights [H, E] (any strides), dense [rows, H, C] -> [N, H, C], N = rows. Each
+    range after the first sums into a buffer of its own (columns are shared), added at the end.
+    """
+    dense = dense.contiguous()
+    heads, width = dense.shape[1:]
+    parts = ranges(offsets, min(torch.get_num_threads(), BUFFERED_RANGES))
+    outs = [torch.zeros_like(dense) for _ in range(max(1, len(parts)))]
+    head_step, edge_step = weights.stride()
+    fixed = [pointer(offsets), pointer(columns), pointer(weights)]
+    fixed += [*integers(edge_step, head_step), pointer(dense), *integers(heads, width)]
+    run = library().heads_scatter
+
+    def call(part: int, first: int, last: int) -> None:
+        run(*fixed, *integers(first, last), pointer(outs[part]))
+
+    run_parts(call, parts)
+    return sum_into_first(outs)
+
+
+def sum_into_first(tensors: list[Tensor]) -> Tensor:
+    for other in tensors[1:]:
+        tensors[0] += other
+    return tensors[0]
 
 
 def heads_sampled(offsets: Tensor, columns: Tensor, left: Tensor, right: Tensor) -> Tensor:

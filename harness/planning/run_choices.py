@@ -45,8 +45,8 @@ def compile_pays_back(model: str, edges: int, epochs: int, kernel: str = "scatte
 
 # Message edges per step from which "auto" takes the sparse kernel. Measured (one layer forward
 # and backward, CSR sort included; benchmarks/kernel_threshold.py, docs/performance.md): it
-# pays from a few thousand edges for GAT and dot product, from about 100,000 for GATv2; this
-# keeps every shipped suite (at most 12,000 edges) on scatter, with its keys.
+# pays from a few thousand edges for every attention kind; this keeps every shipped suite (at
+# most 12,000 edges) on scatter, with its keys.
 SPARSE_MIN_EDGES = 50_000
 
 
