@@ -218,7 +218,8 @@ def parser() -> argparse.ArgumentParser:
             type=positive_int,
             default=1,
             metavar="T",
-            help="torch threads per process (default 1; jobs x threads must fit the cores)",
+            help="torch threads per process (default 1; jobs x threads must fit the cores, and on "
+            "a cluster each host's worker threads x threads must fit that host's)",
         )
 
     def with_tuning_database(sub: argparse.ArgumentParser) -> None:

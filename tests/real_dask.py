@@ -120,7 +120,8 @@ def start_real_cluster(
     scheduler_file = base / "scheduler.json"
     with ExitStack() as cleanup:
         command = [sys.executable, "-m", "distributed.cli.dask_scheduler", "--host", "127.0.0.1"]
-        command += ["--port", "0", "--no-dashboard", "--scheduler-file", str(scheduler_file)]
+        command += ["--port", "0", "--no-dashboard", "--dashboard-address", ":0"]
+        command += ["--scheduler-file", str(scheduler_file)]  # its address, once it listens
         scheduler = _spawn(command, base, base / "scheduler.log", settings)
         cleanup.callback(kill_group, scheduler)
         processes = [scheduler]

@@ -172,6 +172,7 @@ def test_show_and_run_errors_are_one_line_with_exit_2(tiny_suite, tmp_path, caps
     assert err.count("\n") == 1 and "--jobs: given 0; allowed: a whole number >= 1" in err
 
 
+@pytest.mark.slow  # the installed command, in processes of its own
 def test_installed_command_prints_runs_and_fails_bad_input_with_exit_2(finished_store, tmp_path):
     """The `heedful` console script, as a user runs it: output complete, exit statuses kept."""
     command = Path(sys.executable).with_name("heedful")

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import os
 import signal
+import sqlite3
 import subprocess
 import sys
 from collections.abc import Callable
@@ -38,6 +39,21 @@ def stored(store_file: Path) -> pd.DataFrame:
     if not store_file.exists():
         return pd.DataFrame(columns=["key"])
     return store.load_runs(store_file)
+
+
+def stored_count(store_file: Path) -> int | None:
+    """Runs stored so far, read-only; None while that cannot be known: no store yet, or one
+    locked by a process stopped in the middle of writing it."""
+    try:
+        connection = sqlite3.connect(f"file:{store_file}?mode=ro", uri=True, timeout=1)
+    except sqlite3.OperationalError:
+        return None
+    try:
+        return connection.execute("SELECT count(*) FROM runs").fetchone()[0]
+    except sqlite3.OperationalError:  # locked, or its table not made yet
+        return None
+    finally:
+        connection.close()
 
 
 def start(suite: Path, store_file: Path) -> subprocess.Popen:
@@ -84,7 +100,11 @@ def frozen_with_runs_left(process: subprocess.Popen, store_file: Path, frozen: l
     """Stop the submitter and its workers; True (they stay stopped) when two workers are up,
     a run is stored and runs are left, else they are resumed."""
     frozen[:] = [process.pid, *dask_workers(process)]
-    reached = lambda: len(frozen) == 3 and 1 <= len(stored(store_file)) < RUNS  # noqa: E731
+
+    def reached() -> bool:
+        count = stored_count(store_file)
+        return len(frozen) == 3 and count is not None and 1 <= count < RUNS
+
     return stopped_in(frozen, reached)
 
 

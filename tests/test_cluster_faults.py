@@ -46,13 +46,26 @@ def kill_scheduler_when(process: subprocess.Popen, cluster: RealCluster, reached
         process.kill()
 
 
+def stored_count(store_file: Path) -> int:
+    """Stored runs; none while the (frozen) submitter holds a write, so that the state is
+    tried again once it has moved on."""
+    import sqlalchemy
+
+    try:
+        return len(stored(store_file))
+    except sqlalchemy.exc.OperationalError as error:
+        if "database is locked" not in str(error):
+            raise
+        return 0
+
+
 def test_a_scheduler_killed_mid_run_is_one_line_and_exit_3_keeping_finished_runs(
     real_cluster, long_suite, tmp_path
 ):
     suite, store_file = long_suite(600), tmp_path / "runs.db"
     cluster = real_cluster(2)
     process = submit(suite, cluster, "--store", str(store_file))
-    reached = lambda: 1 <= len(stored(store_file)) < RUNS  # noqa: E731
+    reached = lambda: 1 <= stored_count(store_file) < RUNS  # noqa: E731
     error = kill_scheduler_when(process, cluster, reached, "no run stored with runs left")
     runs = stored(store_file)
     lines = error.strip().splitlines()
@@ -60,7 +73,8 @@ def test_a_scheduler_killed_mid_run_is_one_line_and_exit_3_keeping_finished_runs
     assert lines[0].startswith(
         f"heedful: error: --cluster {cluster.address}: the scheduler stopped answering mid-run"
     )
-    assert f"{len(runs)} runs finished and are stored, {RUNS - len(runs)} not" in lines[0]
+    said = f"{len(runs)} runs finished and are stored, {RUNS - len(runs)} not"
+    assert said in lines[0], (said, lines[0])
     assert 1 <= len(runs) < RUNS and runs["key"].is_unique
     assert set(runs["key"]) <= {spec.key for spec in expand(load_suite(suite))}
 
@@ -171,3 +185,19 @@ def test_a_scheduler_lost_between_two_executions_stops_the_next_at_once(
         "same command to do only the rest"
     )
     assert not store_path.exists()
+
+
+def test_a_local_cluster_says_nothing_when_another_holds_the_dashboard_port(recwarn):
+    """Dask's scheduler serves HTTP on 8787 unless told otherwise, and warns when another
+    cluster of the machine holds it: two `--cluster local:N` commands at once printed it."""
+    import contextlib
+    import socket
+
+    from harness.execution.cluster import connected
+
+    with contextlib.ExitStack() as held:
+        with contextlib.suppress(OSError):  # held already: by another program, as wanted
+            held.enter_context(socket.create_server(("127.0.0.1", 8787)))
+        with connected("local:1") as cluster:
+            assert cluster.client.run(lambda: 1)  # it runs tasks
+    assert not [w for w in recwarn if "already in use" in str(w.message)]

@@ -4,6 +4,7 @@ user's choice; a value the user set still wins."""
 
 from __future__ import annotations
 
+import pytest
 import torch
 
 import harness.training.compiled
@@ -17,6 +18,7 @@ def compile_something() -> None:
     assert torch.allclose(doubled(torch.ones(3)), torch.sin(torch.ones(3)) * 2 + 1)
 
 
+@pytest.mark.slow  # compiles, with the C++ compiler in processes of its own
 def test_compiled_files_land_in_the_cache_folder_even_after_torch_set_its_default(
     tmp_path, monkeypatch
 ):

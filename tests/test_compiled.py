@@ -44,6 +44,7 @@ def trained(spec, compile_model: bool):
     return model, fit_nodes(model, data, split, training, spec.metric), data
 
 
+@pytest.mark.slow  # compiles, with the C++ compiler in processes of its own
 def test_compiled_training_matches_eager(tiny):
     """Same logits within 1e-4 for the same weights; validation metric within 1 point."""
     eager_model, eager, data = trained(tiny, compile_model=False)

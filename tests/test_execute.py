@@ -114,7 +114,7 @@ def test_execute_stores_each_run_once_and_skips_finished(tiny_suite, store_path)
     assert execute(specs, store_path, jobs=2).finished == 0  # nothing left: no worker starts
 
 
-@pytest.mark.parametrize("threads", [1, 2])
+@pytest.mark.parametrize("threads", [1, pytest.param(2, marks=pytest.mark.slow)])  # 2: spawned
 def test_two_jobs_store_every_run_once_with_the_figures_of_one_job(
     tiny_suite, tmp_path, monkeypatch, threads
 ):
@@ -203,7 +203,7 @@ def test_sigkill_then_rerun_loses_nothing_and_stores_nothing_twice(kill_suite, t
     assert stored_rows(store_file) == after
 
 
-@pytest.mark.parametrize("method", ["spawn", "fork"])
+@pytest.mark.parametrize("method", [pytest.param("spawn", marks=pytest.mark.slow), "fork"])
 def test_a_worker_gives_the_figures_of_this_process(tiny_suite, method):
     """The worker path (spawned or forked process, worker set-up, one torch thread) changes no
     figure."""
@@ -303,6 +303,7 @@ def doomed_in_workers(monkeypatch):  # noqa: ANN201 - doomed(spec) marks the run
     return doom
 
 
+@pytest.mark.slow  # spawns the replacements
 def test_a_run_that_kills_its_worker_twice_is_reported_and_the_rest_stored(
     tiny_suite, store_path, doomed_in_workers
 ):
@@ -317,6 +318,7 @@ def test_a_run_that_kills_its_worker_twice_is_reported_and_the_rest_stored(
     assert len(store.load_runs(store_path)) == len(specs) - 1
 
 
+@pytest.mark.slow  # spawns the replacements
 def test_the_run_command_names_the_lost_run_and_exits_3(
     tiny_suite, store_path, doomed_in_workers, capsys
 ):

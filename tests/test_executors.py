@@ -42,7 +42,14 @@ def resources(name: str, request: pytest.FixtureRequest) -> Resources:
     return Resources(jobs=2)
 
 
-@pytest.fixture(params=sorted(EXECUTORS))
+# a cluster starts processes of its own: slow, like tests/test_cluster.py
+EXECUTOR_NAMES = [
+    pytest.param(name, marks=pytest.mark.slow) if name == "cluster" else name
+    for name in sorted(EXECUTORS)
+]
+
+
+@pytest.fixture(params=EXECUTOR_NAMES)
 def name(request: pytest.FixtureRequest, monkeypatch: pytest.MonkeyPatch) -> str:
     monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 2)
     return request.param
@@ -123,6 +130,7 @@ def test_bad_input_found_by_a_run_stops_it_naming_the_run_and_keeps_what_is_stor
     assert bad.key not in after.index
 
 
+@pytest.mark.slow  # spawned copies
 def test_runs_one_copy_of_a_task_per_worker_on_the_threads_asked_for(name, request, monkeypatch):
     monkeypatch.setattr(harness.execution.pool, "available_cores", lambda: 4)  # 2 x 2 threads
     given = dataclasses.replace(resources(name, request), threads=2)

@@ -8,6 +8,8 @@ import subprocess
 import sys
 from pathlib import Path
 
+import pytest
+
 from harness.models.generated import FOLDER, process_folder, remove_ended
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -33,6 +35,7 @@ def run_in_a_process(tmp_path: Path, store: str, suite_text: str) -> None:
     assert done.returncode == 0, done.stderr
 
 
+@pytest.mark.slow  # two commands in processes of their own
 def test_generated_modules_stay_in_the_cache_and_ended_processes_leave_none(
     tmp_path, tiny_suite_text
 ):

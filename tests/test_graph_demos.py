@@ -42,6 +42,7 @@ def own_cache(tmp_path, monkeypatch):
     monkeypatch.setenv(HOP_CACHE_VARIABLE, str(tmp_path / "cache"))
 
 
+@pytest.mark.slow  # trains dozens of runs
 def test_the_dye_screen_demo_runs_in_ci_size(tmp_path, capsys):
     # 240 of the 1,053 candidates keep the run small; the scaffold split still has its cores
     candidates = pd.read_csv(ROOT / "examples" / "dyes" / "candidates.csv")
@@ -61,6 +62,7 @@ def test_the_dye_screen_demo_runs_in_ci_size(tmp_path, capsys):
     assert "graph size" in out
 
 
+@pytest.mark.slow  # trains dozens of runs
 def test_the_circuit_board_demo_runs_in_ci_size(tmp_path, capsys):
     text = edited(
         "circuit_boards.toml",

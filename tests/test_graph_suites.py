@@ -67,6 +67,7 @@ def boards(write_suite):
     return write_suite(BOARD_SUITE, "boards.toml")
 
 
+@pytest.mark.slow  # trains dozens of runs
 def test_a_graph_suite_runs_and_stores_every_metric_of_its_task(boards, tmp_path, capsys):
     """Every stored figure recomputed from the run's stored test-graph probabilities with
     scikit-learn (accuracy_score, f1_score, roc_auc_score, average_precision_score)."""
@@ -112,6 +113,7 @@ def test_check_and_describe_speak_of_graphs(boards, capsys):
     assert collection["nodes_minimum"] >= 6 + 5
 
 
+@pytest.mark.slow  # trains dozens of runs
 def test_a_graph_suite_reports_and_passes_its_own_gate(boards, tmp_path, capsys):
     runs_db, baseline = tmp_path / "runs.db", tmp_path / "boards.json"
     arguments = ["--store", str(runs_db)]
@@ -137,6 +139,7 @@ def test_a_graph_suite_reports_and_passes_its_own_gate(boards, tmp_path, capsys)
     assert "graphs.batch_size: baseline 16, suite 8" in capsys.readouterr().err
 
 
+@pytest.mark.slow  # trains dozens of runs
 def test_tuning_and_a_readout_grid_run_on_graph_suites(write_suite, tmp_path):
     tuned = BOARD_SUITE + '[tuning]\ntrials = 3\npruner = "median"\n'
     tuned += "[tuning.space.isomorphism]\nhidden = [4, 16]\n"

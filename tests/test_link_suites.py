@@ -192,6 +192,7 @@ def test_a_link_suite_runs_stores_every_metric_and_passes_its_own_gate(
     assert "link.hits_k: baseline 10, suite 20" in capsys.readouterr().err
 
 
+@pytest.mark.slow  # trains dozens of runs
 def test_tuning_with_pruning_and_an_ablation_grid_run_on_link_suites(write_suite, tmp_path):
     tuned = LINK_SUITE + '[tuning]\ntrials = 3\npruner = "median"\nheartbeat_seconds = 1\n'
     path = write_suite(tuned, "tuned.toml")

@@ -6,6 +6,7 @@ from __future__ import annotations
 import errno
 import sqlite3
 
+import pytest
 import sqlalchemy.exc
 
 import harness.execution.runs
@@ -67,6 +68,7 @@ def test_only_running_out_of_space_stops_every_run():
     assert not out_of_space(ValueError("loss is NaN"))
 
 
+@pytest.mark.slow  # starts a cluster
 def test_a_full_disk_on_the_submitter_of_a_cluster_stops_the_suite(
     tiny_suite, store_path, monkeypatch, capsys
 ):

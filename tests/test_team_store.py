@@ -10,6 +10,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import pytest
 import sqlalchemy
 
 from harness.cli import main
@@ -41,6 +42,7 @@ def folder_digest(folder: Path) -> dict[str, str]:
     }
 
 
+@pytest.mark.slow  # two commands in processes of their own
 def test_two_submitters_on_one_postgresql_store_then_every_command_reads_it(
     tiny_suite, postgres_store, tmp_path, capsys
 ):

@@ -96,6 +96,7 @@ def test_the_test_split_is_never_read_during_tuning(tmp_path, monkeypatch):
     assert all(0 <= t.value <= 1 for t in study.trials)
 
 
+@pytest.mark.slow  # trains dozens of runs
 def test_a_run_spends_exactly_the_budget_and_stores_each_repeat_once(tmp_path, capsys):
     suite_path = write_suite(tmp_path, trials=4)
     store_path = tmp_path / "runs.db"

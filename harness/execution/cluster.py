@@ -101,6 +101,9 @@ def _local_cluster(workers: int) -> LocalCluster:
             threads_per_worker=1,
             processes=True,
             dashboard_address=None,
+            # its scheduler still serves a few HTTP routes, on 8787 unless told: another
+            # cluster of this machine holding that port would make Dask print a warning
+            scheduler_kwargs={"dashboard_address": ":0"},
             silence_logs=logging.ERROR,
         )
 
@@ -228,14 +231,16 @@ def execute_on_cluster(
     try:
         for future in as_completed(futures):
             spec = futures.pop(future)
-            if future.status == "cancelled":  # by the client, when it lost the scheduler
-                left = len(futures) + 1
-                kept = f"{finished} runs finished and are stored, {left} not"
-                raise scheduler_lost(cluster.address, kept)
             if future.status == "error":
                 failures.append(cluster_failure_line(spec, future.exception()))
                 continue
-            result, worker, theirs = future.result()
+            try:
+                result, worker, theirs = future.result()
+            except (CancelledError, OSError):  # cancelled, or cut off, as the scheduler went
+                if client.status == "running":
+                    raise
+                kept = f"{finished} runs finished and are stored, {len(futures) + 1} not"
+                raise scheduler_lost(cluster.address, kept) from None
             if (line := difference(worker, theirs)) is not None:
                 raise InputError(f"--cluster: {line}")
             try:

@@ -146,10 +146,12 @@ class ClusterExecutor:
             workers = int(address.split(":", 1)[1])
             check_threads(workers, given.threads, f"--cluster {address}", "workers")
             return cls(given.cluster.connect(), given.threads)
+        from harness.execution.reaching import holding_scheduler
         from harness.execution.worker_cores import check_threads_on_workers
 
         cluster = given.cluster.connect()
-        check_threads_on_workers(cluster, given.threads)  # each host's workers share its cores
+        with holding_scheduler(cluster.client, address, "stored runs are kept"):
+            check_threads_on_workers(cluster, given.threads)  # a host's workers share its cores
         return cls(cluster, given.threads)
 
     @property
