@@ -290,6 +290,52 @@ def test_a_worker_killed_mid_run_is_replaced_and_the_suite_completes(kill_suite,
     assert sorted(stored_rows(store_file)) == sorted(s.key for s in specs)  # each exactly once
 
 
+@pytest.mark.skipif(not Path("/proc/self/task").exists(), reason="reads children from /proc")
+@pytest.mark.slow
+def test_ctrl_c_to_the_whole_command_keeps_finished_runs_and_no_worker_speaks(kill_suite, tmp_path):
+    """Ctrl-C in a terminal reaches every process of the command's group: the workers ignore
+    it, the command stops, says how many runs it kept, and exits 130 without a traceback."""
+    store_file = tmp_path / "interrupted.db"
+    command = [sys.executable, "-m", "harness.cli", "run", str(kill_suite)]
+    command += ["--jobs", "2", "--quiet", "--store", str(store_file)]
+    process = subprocess.Popen(
+        command,
+        cwd=ROOT,
+        start_new_session=True,  # its own process group, as a terminal's foreground job
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        text=True,
+        preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL),
+    )
+    specs = expand(load_suite(kill_suite))
+    frozen: list[int] = []
+
+    def alive() -> None:
+        assert process.poll() is None, process.stderr.read()
+
+    def stopped_with_runs_left() -> bool:  # a worker is up, a run is stored, others are left
+        frozen[:] = [process.pid, *children(process.pid)]
+        left = lambda: 1 <= len(stored_rows(store_file)) < len(specs)  # noqa: E731
+        return len(frozen) > 1 and stopped_in(frozen, left)
+
+    try:
+        wait_for(stopped_with_runs_left, alive, "no worker ran with a run stored and runs left")
+        os.killpg(process.pid, signal.SIGINT)  # to every process of the group, while stopped
+        resume(frozen)
+        _, errors = process.communicate(timeout=240)
+    finally:
+        resume(frozen)
+        if process.poll() is None:
+            os.killpg(process.pid, signal.SIGKILL)
+            process.wait()
+    assert process.returncode == 130, errors
+    kept = stored_rows(store_file)
+    assert 1 <= len(kept) < len(specs)
+    said = " ".join(errors.split())  # rich wraps long lines
+    assert f"interrupted: {len(kept)} runs finished and stored in {store_file}" in said
+    assert "Traceback" not in errors and "KeyboardInterrupt" not in errors
+
+
 @pytest.fixture
 def doomed_in_workers(monkeypatch):  # noqa: ANN201 - doomed(spec) marks the run
     """doomed(spec): that run ends every worker process that starts it (tests/doomed_run.py,
