@@ -40,6 +40,7 @@ from harness.execution.runs import (
     record_of,
 )
 from harness.execution.shipping import Shipment, content_of, ship, unpack
+from harness.execution.worker_process import allocator_fitted
 from harness.planning import RunSpec
 from harness.results import RunResult
 from harness.storage import store
@@ -91,7 +92,10 @@ def _local_cluster(workers: int) -> LocalCluster:
     # worker-saturation 1: a worker holds only the run it trains, so its death counts against
     # that run alone (Dask counts every run a dead worker held towards allowed-failures)
     settings = {"allowed-failures": RESUBMISSIONS, "worker-saturation": 1.0}
-    with dask.config.set({f"distributed.scheduler.{k}": v for k, v in settings.items()}):
+    settings = {f"distributed.scheduler.{k}": v for k, v in settings.items()}
+    # the worker's profiler samples every thread's stack each 10 ms: CPU time runs do not get
+    settings["distributed.worker.profile.enabled"] = False
+    with dask.config.set(settings):
         return LocalCluster(
             n_workers=workers,
             threads_per_worker=1,
@@ -164,6 +168,7 @@ def train_on_worker(
     """One run on a worker, on the graph the submitter sent for its (pinned) data section: its
     result, and the worker with its fingerprint (a worker that joined after the first check is
     checked when its result arrives)."""
+    allocator_fitted()
     torch.set_num_threads(threads)
     folder = unpack([spec.data], [graph], own_cache)
     on_worker = spec if folder is None else replace(spec, hop_cache=folder)  # not in the key
@@ -265,6 +270,7 @@ def _copy_on_worker(
     graphs: list[object],
     own_cache: bool,
 ) -> Any:
+    allocator_fitted()
     torch.set_num_threads(threads)
     unpack(sections, graphs, own_cache)
     return task(*arguments)
