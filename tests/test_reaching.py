@@ -86,3 +86,23 @@ def test_a_closed_port_names_the_refusal_within_the_documented_wait(tiny_suite, 
         "heedful: error: --cluster tcp://127.0.0.1:1: no Dask scheduler answered within 5 s "
         "([Errno 111] Connection refused); allowed:"
     )
+
+
+def test_a_refusal_is_named_when_the_last_attempt_ran_out_of_time(
+    tiny_suite, store_path, capsys, monkeypatch
+):
+    """On a busy machine Dask's last retry can be cut short by its deadline, so its error
+    chain ends in a timeout; the refusal is still what the user is told."""
+    import distributed.comm
+
+    async def out_of_time(address, timeout, **_):
+        try:
+            raise TimeoutError
+        except TimeoutError as cut_short:
+            raise OSError(f"Timed out trying to connect to {address} after {timeout} s") from (
+                cut_short
+            )
+
+    monkeypatch.setattr(distributed.comm, "connect", out_of_time)
+    error = run_on("tcp://127.0.0.1:1", tiny_suite, store_path, capsys)
+    assert "within 5 s ([Errno 111] Connection refused); allowed:" in error

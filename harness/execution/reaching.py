@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import asyncio
 import logging
+import socket
 from collections.abc import Iterator
 from contextlib import contextmanager
 from typing import TYPE_CHECKING
@@ -34,6 +35,22 @@ def deepest(error: BaseException) -> BaseException:
     return error
 
 
+def socket_refusal(address: str) -> str | None:
+    """Why a plain TCP connection to a tcp:// address fails right now (refused, unreachable),
+    or None when one opens or the address is not TCP. Asked only after Dask gave up: its last
+    attempt may have been cut short by the deadline, leaving a timeout where a refusal was."""
+    from distributed.comm.addressing import parse_address, parse_host_port
+
+    try:
+        scheme, location = parse_address(address)
+        if scheme != "tcp":
+            return None
+        with socket.create_connection(parse_host_port(location), timeout=LAST_WORD_SECONDS):
+            return None
+    except (OSError, ValueError) as error:
+        return " ".join(str(error).split()) or None
+
+
 def reach_scheduler(address: str) -> None:
     """Connect to the scheduler at `address` and shake hands, all within CONNECT_SECONDS; else
     one line naming the address and what happened (InputError: the address is likely wrong)."""
@@ -51,7 +68,11 @@ def reach_scheduler(address: str) -> None:
     except TimeoutError:  # nothing answered, or something accepted and then kept silent
         reason = "no answer, or a silent program that is not a Dask scheduler"
     except OSError as error:  # refused or unreachable until Dask's own deadline, no such host
-        reason = " ".join(str(deepest(error)).split()) or type(deepest(error)).__name__
+        cause = deepest(error)
+        if isinstance(cause, OSError) and cause.errno is not None:  # the socket's own words
+            reason = " ".join(str(cause).split())
+        else:  # the last attempt ran out of time (a busy machine): ask the socket once more
+            reason = socket_refusal(address) or " ".join(str(error).split())
     except Exception:  # whatever answered spoke another protocol (its bytes read as garbage)
         reason = "something answered that is not a Dask scheduler"
     raise InputError(
