@@ -59,7 +59,7 @@ def feedback(quiet: bool = False) -> Feedback:
 
     def note(text: str) -> None:
         if not quiet:
-            console.print(text, markup=False)
+            console.print(text, markup=False, soft_wrap=True)
 
     return Feedback(note, progress)
 
@@ -72,7 +72,9 @@ def interrupted(executed: Executed, store: object) -> None:
         return
     errors.print(
         f"interrupted: {executed.finished} runs finished and stored in {store}; "
-        "run the same command again to continue"
+        "run the same command again to continue",
+        markup=False,
+        soft_wrap=True,
     )
 
 
@@ -149,7 +151,11 @@ def show_map(outcome: MapOutcome) -> None:
         interrupted(outcome.executed, outcome.store)
     if outcome.executed.stopped:
         if outcome.executed.interrupted:
-            errors.print(f"interrupted: homophily map runs so far are stored in {outcome.store}")
+            errors.print(
+                f"interrupted: homophily map runs so far are stored in {outcome.store}",
+                markup=False,
+                soft_wrap=True,
+            )
         return
     show_documents([map_document(outcome.summary)])
 

@@ -77,6 +77,7 @@ def test_another_protocol_answering_is_one_line(
     assert "(something answered that is not a Dask scheduler)" in error
 
 
+@pytest.mark.slow  # waits the documented 5 s
 def test_a_closed_port_names_the_refusal_within_the_documented_wait(tiny_suite, store_path, capsys):
     """Dask retries a refused connection (a scheduler may be starting) until the wait ends;
     the figure is the one docs/clusters.md states."""

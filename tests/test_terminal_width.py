@@ -99,3 +99,21 @@ def test_piped_output_is_100_columns_wide(demo_store: Path) -> None:
     report = analyse_store(demo_store, str(DEMO))
     text = terminal.render(suite_document(report))
     assert max(len(line) for line in text.splitlines()) <= terminal.PIPED_WIDTH == 100
+
+
+def test_an_interrupted_line_keeps_a_long_store_path_whole(monkeypatch, capsys):
+    """Piped output is 100 columns wide, and a store deep in a folder tree is longer: the
+    path must stay whole (not wrapped at the column) so that it can be copied or grepped."""
+    from rich.console import Console
+
+    from harness import screen
+    from harness.execution.executed import Executed
+
+    monkeypatch.setattr(screen, "errors", Console(stderr=True, width=60))
+    store_path = "/srv/" + "/".join(["nightly-checks"] * 6) + "/interrupted.db"
+    screen.interrupted(Executed(planned=4, skipped=0, finished=1, interrupted=True), store_path)
+    said = capsys.readouterr().err
+    assert said == (
+        f"interrupted: 1 runs finished and stored in {store_path}; run the same command again "
+        "to continue\n"
+    )

@@ -44,6 +44,7 @@ def faults(environment: dict[str, str], fit: bool) -> tuple[bool, int]:
 
 
 @pytest.mark.skipif(not sys.platform.startswith("linux"), reason="glibc's mallopt(3) only")
+@pytest.mark.slow  # starts three Python processes that each import torch
 def test_a_fixed_trim_threshold_is_undone_and_buffers_stay_mapped():
     """mallopt(3) (glibc manual): any MALLOC_TRIM_THRESHOLD_ turns off the dynamic mmap
     threshold, so every large buffer is mapped anew and its pages faulted in again each step;
