@@ -198,3 +198,36 @@ def test_native_products_match_torch_products(monkeypatch):
                 torch.testing.assert_close(one, other)
     finally:
         torch.set_num_threads(threads)
+
+
+def test_static_scores_in_c_match_torch_operators(monkeypatch):
+    """GAT's scores, exponentials and per-target sums in one C pass (float32) against torch's
+    operators: output and every gradient, with and without a dropout mask, on one thread and
+    on three ranges of targets (nodes 3, 5 and 6 have no in-edges)."""
+    from harness.models import sparse_native, sparse_static
+
+    if sparse_native.library() is None:
+        pytest.skip("no C compiler on this machine: the C loops are not built")
+    graph = target_graph(EDGES, NODES)
+    inputs = [torch.randn(NODES, 3), torch.randn(NODES, 3), torch.randn(NODES, 3, 2)]
+    grad, mask = torch.randn(NODES, 3, 2), (torch.rand(3, graph.edges) > 0.3).float() / 0.7
+
+    def output_and_gradients(keep) -> list[torch.Tensor]:  # noqa: ANN001
+        leaves = [t.clone().requires_grad_() for t in inputs]
+        out = static_attention_kernel(*leaves, graph, 0.2, keep)
+        out.backward(grad)
+        return [out.detach(), *(leaf.grad for leaf in leaves)]
+
+    threads = torch.get_num_threads()
+    try:
+        for count in (1, 3):
+            torch.set_num_threads(count)
+            for keep in (None, mask):
+                in_c = output_and_gradients(keep)
+                with monkeypatch.context() as patch:
+                    patch.setattr(sparse_static, "native", lambda *tensors: False)
+                    by_torch = output_and_gradients(keep)
+                for one, other in zip(in_c, by_torch, strict=True):
+                    torch.testing.assert_close(one, other)
+    finally:
+        torch.set_num_threads(threads)

@@ -86,6 +86,34 @@ void heads_sampled(const int64_t *restrict pointer, const int64_t *restrict colu
     }
 }
 
+/* GAT's scores in one pass over each target's in-edges (harness/models/sparse_static.py):
+ * for head h and edge k = j -> i, s = u[h, j] + t[h, i]; positive[h, k] = s > 0;
+ * powers[h, k] = exp(LeakyReLU(s) - bound[h]); sums[h, i] = sum of i's powers. u, t [H, N],
+ * powers and positive [H, E] (edges in target order), sums [H, N], all contiguous. */
+void static_exponentials(const int64_t *restrict offsets, const int64_t *restrict sources,
+                         const float *restrict from_source, const float *restrict at_target,
+                         const float *restrict bound, int64_t heads, int64_t nodes,
+                         int64_t edges, float slope, int64_t first, int64_t last,
+                         float *restrict powers, uint8_t *restrict positive,
+                         float *restrict sums) {
+    for (int64_t h = 0; h < heads; ++h) {
+        const float *restrict u = from_source + h * nodes, top = bound[h];
+        float *restrict power = powers + h * edges;
+        uint8_t *restrict above = positive + h * edges;
+        for (int64_t i = first; i < last; ++i) {
+            const float t = at_target[h * nodes + i];
+            float total = 0.0f;
+            for (int64_t k = offsets[i]; k < offsets[i + 1]; ++k) {
+                const float score = u[sources[k]] + t;
+                above[k] = score > 0.0f;
+                power[k] = expf((score > 0.0f ? score : score * slope) - top);
+                total += power[k];
+            }
+            sums[h * nodes + i] = total;
+        }
+    }
+}
+
 typedef struct {
     const float *restrict source;    /* x_s [N, H, C]: score part and message of each source */
     const float *restrict target;    /* x_t [N, H, C] */

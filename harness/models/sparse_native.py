@@ -161,3 +161,25 @@ def heads_sampled(offsets: Tensor, columns: Tensor, left: Tensor, right: Tensor)
 
     run_parts(call, ranges(offsets, torch.get_num_threads()))
     return out.t()
+
+
+def static_exponentials(
+    offsets: Tensor, columns: Tensor, source: Tensor, target: Tensor, bound: Tensor, slope: float
+) -> tuple[Tensor, Tensor, Tensor]:
+    """GAT's (exp(LeakyReLU(u_j + t_i) - bound) [H, E], u_j + t_i > 0 [H, E], per-target sums
+    [H, N]) from the score parts u, t [H, N] and the bound [H]; targets split into ranges."""
+    source, target, bound = source.contiguous(), target.contiguous(), bound.contiguous()
+    heads, nodes = source.shape
+    edges = columns.numel()
+    powers = source.new_empty(heads, edges)
+    positive = torch.empty(heads, edges, dtype=torch.bool)
+    sums = source.new_empty(heads, nodes)
+    fixed = [pointer(offsets), pointer(columns), pointer(source), pointer(target), pointer(bound)]
+    fixed += [*integers(heads, nodes, edges), ctypes.c_float(slope)]
+    run = library().static_exponentials
+
+    def call(part: int, first: int, last: int) -> None:
+        run(*fixed, *integers(first, last), pointer(powers), pointer(positive), pointer(sums))
+
+    run_parts(call, ranges(offsets, torch.get_num_threads()))
+    return powers, positive, sums

@@ -25,6 +25,7 @@ from harness.models.sparse_kernel import (
     repeat_to_edges,
     segment_sum,
 )
+from harness.models.sparse_native import native, static_exponentials
 
 # below this a target's sum of exponentials (shifted by the global bound) has left float32's
 # normal range or nearly: the exact per-target maxima are taken instead
@@ -37,12 +38,36 @@ def exponentials(scores: Tensor, bound: Tensor, graph: TargetGraph) -> tuple[Ten
     maximum of each target's scores instead (as PyG's softmax)."""
     powers = (scores - bound.unsqueeze(1)).exp_()
     sums = segment_sum(powers, graph)
-    if bool((sums[:, graph.degree > 0] < SMALLEST_SUM).any()):
+    if far_below(sums, graph):
         offsets = graph.offsets.expand(scores.size(0), -1)
         top = torch.segment_reduce(scores, "max", offsets=offsets, axis=1, unsafe=True)
         powers = (scores - repeat_to_edges(top, graph)).exp_()
         sums = segment_sum(powers, graph)
     return powers, sums
+
+
+def far_below(sums: Tensor, graph: TargetGraph) -> bool:
+    """Whether some target's sum has left float32's normal range (see SMALLEST_SUM)."""
+    return bool((sums[:, graph.degree > 0] < SMALLEST_SUM).any())
+
+
+def scores_and_sums(
+    source: Tensor, target: Tensor, graph: TargetGraph, slope: float
+) -> tuple[Tensor, Tensor, Tensor]:
+    """(exp(s_ij - m) [H, E], s_ij > 0 before the LeakyReLU [H, E], sums per target [H, N])
+    from the score parts u, t [H, N]: in one pass of the C loops over each target's in-edges
+    where they are built (float32), else from torch's operators."""
+    bound = functional.leaky_relu(source.amax(1) + target.amax(1), slope)
+    if native(source, target, bound):
+        powers, positive, sums = static_exponentials(
+            graph.offsets, graph.source_index, source, target, bound, slope
+        )
+        if not far_below(sums, graph):
+            return powers, positive, sums
+    before = source.index_select(1, graph.source_index)
+    before.add_(repeat_to_edges(target, graph))
+    powers, sums = exponentials(functional.leaky_relu(before, slope), bound, graph)
+    return powers, before > 0, sums
 
 
 class StaticAttention(torch.autograd.Function):
@@ -64,15 +89,12 @@ class StaticAttention(torch.autograd.Function):
         keep: Tensor | None,
     ) -> Tensor:
         source, target = from_source.t().contiguous(), at_target.t().contiguous()
-        before = source.index_select(1, graph.source_index)
-        before.add_(repeat_to_edges(target, graph))
-        bound = functional.leaky_relu(source.amax(1) + target.amax(1), slope)
-        powers, sums = exponentials(functional.leaky_relu(before, slope), bound, graph)
+        powers, positive, sums = scores_and_sums(source, target, graph, slope)
         inverse = torch.where(sums > 0, 1 / sums, 0.0).t().unsqueeze(-1)  # 1 / d_i [N, H, 1]
         weights = powers if keep is None else powers * keep
         out = csr_products(weights, values, graph, transposed=False) * inverse
         ctx.graph, ctx.slope, ctx.dropped = graph, slope, keep is not None
-        ctx.save_for_backward(powers, weights, before > 0, values, out, inverse)
+        ctx.save_for_backward(powers, weights, positive, values, out, inverse)
         return out
 
     @staticmethod
