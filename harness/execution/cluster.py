@@ -30,7 +30,12 @@ import harness
 from harness.data import load_graph
 from harness.errors import InputError
 from harness.execution.executed import Executed
-from harness.execution.reaching import CONNECT_SECONDS, quiet_dask_logs, scheduler_lost
+from harness.execution.reaching import (
+    CONNECT_SECONDS,
+    TRIALS_KEPT,
+    quiet_dask_logs,
+    scheduler_lost,
+)
 from harness.execution.runs import (
     describe,
     failure_line,
@@ -299,8 +304,7 @@ def run_copies_on_cluster(
     try:
         return client.gather(futures)
     except CancelledError:  # by the client, when it lost the scheduler
-        kept = "finished trials stay in the tuning database"
-        raise scheduler_lost(cluster.address, kept) from None
+        raise scheduler_lost(cluster.address, TRIALS_KEPT) from None
     except BaseException:
         client.cancel(futures)
         raise

@@ -146,11 +146,11 @@ class ClusterExecutor:
             workers = int(address.split(":", 1)[1])
             check_threads(workers, given.threads, f"--cluster {address}", "workers")
             return cls(given.cluster.connect(), given.threads)
-        from harness.execution.reaching import holding_scheduler
+        from harness.execution.reaching import RUNS_KEPT, holding_scheduler
         from harness.execution.worker_cores import check_threads_on_workers
 
         cluster = given.cluster.connect()
-        with holding_scheduler(cluster.client, address, "stored runs are kept"):
+        with holding_scheduler(cluster.client, address, RUNS_KEPT):
             check_threads_on_workers(cluster, given.threads)  # a host's workers share its cores
         return cls(cluster, given.threads)
 
@@ -165,9 +165,9 @@ class ClusterExecutor:
         on_finished: Callable[[str], None] | None = None,
     ) -> Executed:
         from harness.execution import cluster
-        from harness.execution.reaching import holding_scheduler
+        from harness.execution.reaching import RUNS_KEPT, holding_scheduler
 
-        with holding_scheduler(self.cluster.client, self.cluster.address, "stored runs are kept"):
+        with holding_scheduler(self.cluster.client, self.cluster.address, RUNS_KEPT):
             return cluster.execute_on_cluster(
                 specs, store_path, self.cluster, self.threads, on_finished
             )
@@ -176,10 +176,9 @@ class ClusterExecutor:
         self, task: Callable[..., Any], arguments: tuple, data: tuple[BaseModel, ...] = ()
     ) -> list[Any]:
         from harness.execution import cluster
-        from harness.execution.reaching import holding_scheduler
+        from harness.execution.reaching import TRIALS_KEPT, holding_scheduler
 
-        kept = "finished trials stay in the tuning database"
-        with holding_scheduler(self.cluster.client, self.cluster.address, kept):
+        with holding_scheduler(self.cluster.client, self.cluster.address, TRIALS_KEPT):
             return cluster.run_copies_on_cluster(task, arguments, self.cluster, self.threads, data)
 
 

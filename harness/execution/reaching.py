@@ -23,6 +23,9 @@ if TYPE_CHECKING:
     from distributed import Client
 
 CONNECT_SECONDS = 5  # docs/clusters.md states it
+# what a lost scheduler leaves behind, said in its line (scheduler_lost)
+RUNS_KEPT = "stored runs are kept"
+TRIALS_KEPT = "finished trials stay in the tuning database"
 LAST_WORD_SECONDS = 0.5  # Dask's own deadline comes first, with its reason (refused, unknown host)
 
 
